@@ -1,0 +1,30 @@
+# exactband: make install | demo | test | bench
+# `make install` is idempotent: it (re)creates .venv at the repository root only
+# when pyproject.toml changed since the last install.
+
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+STAMP  := $(VENV)/.installed
+
+.PHONY: install demo test bench clean
+
+install: $(STAMP)
+
+$(STAMP): pyproject.toml
+	@test -x $(PY) || $(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install --quiet --upgrade pip
+	$(PY) -m pip install --quiet -e '.[test]'
+	@touch $(STAMP)
+
+demo: install
+	$(PY) -m exactband.demo
+
+test: install
+	$(PY) -m pytest
+
+bench: install
+	$(PY) bench/run.py
+
+clean:
+	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis

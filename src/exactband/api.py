@@ -1,0 +1,242 @@
+"""Public entry points: ``design`` for one test, ``designs`` for a DataFrame of them.
+
+Data flow: parameters -> params.make_problem (validation) -> solvers.fast ->
+solvers.precise -> crosscheck -> Design.  Nothing here formats output.
+"""
+
+from __future__ import annotations
+
+import math
+
+import mpmath as mp
+import numpy as np
+
+from .crosscheck import compare
+from .design import Design
+from .errors import DesignError, VerificationError, invalid
+from .params import Problem, make_problem
+from .solvers import fast, precise
+
+MIN_DIGITS, MAX_DIGITS = 20, 1000
+DECIMALS = 30  # significant digits of the gammas given as decimal strings
+
+
+def check_digits(digits) -> int:
+    allowed = f"digits must be a whole number from {MIN_DIGITS} to {MAX_DIGITS}"
+    if isinstance(digits, bool):
+        raise invalid("digits", digits, allowed)
+    try:
+        d = float(digits)
+    except (TypeError, ValueError):
+        raise invalid("digits", digits, allowed) from None
+    if not math.isfinite(d) or d != int(d) or not MIN_DIGITS <= d <= MAX_DIGITS:
+        raise invalid("digits", digits, allowed)
+    return int(d)
+
+
+def label(p: Problem) -> str:
+    """Short identification of a design for messages."""
+    hyp = (f"value={p.value}" if p.kind.takes == ("value",) else f"low={p.low}, high={p.high}")
+    disp = f", dispersion={p.dispersion}" if p.dispersion is not None else ""
+    return f"{p.family.name} {p.kind.name} (n={p.n}, alpha={p.alpha}, {hyp}{disp})"
+
+
+def fast_solve(problems: list) -> list:
+    """Run the fast solver over problems (grouped by family and kind); tuples per problem."""
+    out = [None] * len(problems)
+    groups: dict = {}
+    for i, p in enumerate(problems):
+        groups.setdefault((p.family.name, p.kind.name), []).append(i)
+    for idx in groups.values():
+        ps = [problems[i] for i in idx]
+        fam, kind = ps[0].family, ps[0].kind.name
+
+        def col(name):
+            vals = [getattr(p, name) for p in ps]
+            return None if vals[0] is None else np.array(vals, dtype=float)
+
+        res = fast.solve(fam, kind, col("n"), col("alpha"), low=col("low"), high=col("high"),
+                         value=col("value"), dispersion=col("dispersion"))
+        for j, i in enumerate(idx):
+            out[i] = tuple(None if np.isnan(r[j]) else (int(r[j]) if q % 2 == 0 else float(r[j]))
+                           for q, r in enumerate(res))
+    return out
+
+
+def _decimal(g) -> str | None:
+    if g is None:
+        return None
+    if g == 0:
+        return "0"
+    return mp.nstr(g, DECIMALS, min_fixed=-mp.inf, max_fixed=mp.inf, strip_zeros=False)
+
+
+def _canonical(c1, g1, c2, g2, kind):
+    """Float gammas that round to 1.0 become the neighbouring cutoff with gamma 0."""
+    if g1 is not None and g1 >= 1.0:
+        c1, g1 = (c1 + 1, 0.0) if kind != "equivalence" else (c1 - 1, 0.0)
+    if g2 is not None and g2 >= 1.0:
+        c2, g2 = (c2 - 1, 0.0) if kind != "equivalence" else (c2 + 1, 0.0)
+    return c1, g1, c2, g2
+
+
+def from_fast(p: Problem, sol: tuple) -> Design:
+    """Unverified Design from the fast solver, sizes from the float law."""
+    c1, g1, c2, g2 = _canonical(*sol, p.kind.name)
+    base = Design(p, c1, g1, c2, g2, ())
+    sizes = tuple(float(base.power(t)) for t in p.points)
+    return Design(p, c1, g1, c2, g2, sizes)
+
+
+def verify_one(p: Problem, sol: tuple, digits: int) -> Design:
+    """Solve p with the precise solver, compare with the fast solution, build the Design."""
+    pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
+                       value=p.value, dispersion=p.dispersion, digits=digits)
+    cc = compare(p.kind.name, p.alpha, sol, pd, digits)
+    if not cc.agree:
+        raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
+    with mp.workdps(pd.dps):
+        g1 = None if pd.gamma1 is None else float(pd.gamma1)
+        g2 = None if pd.gamma2 is None else float(pd.gamma2)
+        d1, d2 = _decimal(pd.gamma1), _decimal(pd.gamma2)
+        sizes = tuple(float(s) for s in pd.sizes)
+    c1, g1n, c2, g2n = _canonical(pd.c1, g1, pd.c2, g2, p.kind.name)
+    if g1n != g1:
+        d1 = "0"
+    if g2n != g2:
+        d2 = "0"
+    return Design(p, c1, g1n, c2, g2n, sizes, verified=True, digits=digits,
+                  gamma1_decimal=d1, gamma2_decimal=d2, check=cc)
+
+
+def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersion=None,
+           digits=50, verify=True) -> Design:
+    """Exact optimal test for one problem.
+
+    Parameters
+    ----------
+    family : {"poisson", "binomial", "negative-binomial"}
+    kind : {"upper", "lower", "point", "band", "equivalence"}
+    n : exposure (poisson, real > 0) or number of trials/units (integer >= 1)
+    alpha : size, 0 < alpha < 1
+    low, high : band ends (band, equivalence); value : (upper, lower, point)
+    dispersion : known k > 0 (negative-binomial only)
+    digits : significant digits of the verifying mpmath solver (default 50)
+    verify : compute with both solvers and require agreement (default True)
+
+    Returns
+    -------
+    Design with c1, gamma1, c2, gamma2, phi(y), power(theta), sizes, describe().
+
+    Raises
+    ------
+    DesignError for unusable input (one line naming the parameter);
+    VerificationError if the two solvers disagree.
+
+    Examples
+    --------
+    >>> d = design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
+    >>> (d.c1, d.c2)
+    (39, 76)
+    """
+    p = make_problem(family, kind, n=n, alpha=alpha, low=low, high=high, value=value,
+                     dispersion=dispersion)
+    d = check_digits(digits)
+    sol = fast_solve([p])[0]
+    if not verify:
+        return from_fast(p, sol)
+    return verify_one(p, sol, d)
+
+
+def _verify_task(args):
+    p, sol, digits = args
+    return verify_one(p, sol, digits)
+
+
+def verify_many(problems, sols, digits, workers=None, progress=None) -> list:
+    """verify_one over many problems, on ``workers`` processes (None: all cores)."""
+    import os
+    from concurrent.futures import ProcessPoolExecutor
+
+    tasks = [(p, s, digits) for p, s in zip(problems, sols)]
+    workers = os.cpu_count() or 1 if workers is None else max(1, int(workers))
+    if workers == 1 or len(tasks) < 8:
+        out = []
+        for t in tasks:
+            out.append(_verify_task(t))
+            if progress:
+                progress(1)
+        return out
+    out = []
+    with ProcessPoolExecutor(max_workers=workers) as ex:
+        for d in ex.map(_verify_task, tasks, chunksize=max(1, min(64, len(tasks) // (4 * workers)))):
+            out.append(d)
+            if progress:
+                progress(1)
+    return out
+
+
+COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
+
+
+def _cell(v):
+    if v is None:
+        return None
+    try:
+        import pandas as pd
+
+        if v is pd.NA:
+            return None
+    except ImportError:  # pragma: no cover
+        pass
+    if isinstance(v, float) and math.isnan(v):
+        return None
+    if isinstance(v, np.floating):
+        return None if np.isnan(v) else float(v)
+    if isinstance(v, np.integer):
+        return int(v)
+    return v
+
+
+def designs(frame, *, verify=True, digits=50, workers=None):
+    """Batch form of ``design`` over a DataFrame.
+
+    ``frame`` has columns family, kind, n, alpha and, where used, low, high,
+    value, dispersion (missing or NaN where unused).  Returns a copy with
+    c1, gamma1, c2, gamma2 added (c1/c2 as nullable integers).  ``verify=False``
+    is the pure fast path; with ``verify=True`` every row is also solved in high
+    precision (on ``workers`` processes) and must agree.  A bad row raises
+    DesignError naming the row.
+    """
+    import pandas as pd
+
+    missing = [c for c in ("family", "kind", "n", "alpha") if c not in frame.columns]
+    if missing:
+        raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
+                          f"expected columns {', '.join(COLUMNS)}")
+    d = check_digits(digits)
+    problems = []
+    cols = {c: (frame[c].tolist() if c in frame.columns else [None] * len(frame)) for c in COLUMNS}
+    for pos, lab in enumerate(frame.index):
+        row = {c: _cell(cols[c][pos]) for c in COLUMNS}
+        try:
+            problems.append(make_problem(row["family"], row["kind"], n=row["n"],
+                                         alpha=row["alpha"], low=row["low"], high=row["high"],
+                                         value=row["value"], dispersion=row["dispersion"]))
+        except DesignError as e:
+            raise DesignError(f"row {lab}: {e}") from None
+    sols = fast_solve(problems) if problems else []
+    if verify and problems:
+        try:
+            ds = verify_many(problems, sols, d, workers=workers)
+        except VerificationError as e:
+            raise VerificationError(str(e)) from None
+        sols = [(x.c1, x.gamma1, x.c2, x.gamma2) for x in ds]
+    else:
+        sols = [_canonical(*s, p.kind.name) for s, p in zip(sols, problems)]
+    out = frame.copy()
+    out["c1"] = pd.array([s[0] for s in sols], dtype="Int64")
+    out["gamma1"] = pd.array([np.nan if s[1] is None else s[1] for s in sols], dtype="float64")
+    out["c2"] = pd.array([s[2] for s in sols], dtype="Int64")
+    out["gamma2"] = pd.array([np.nan if s[3] is None else s[3] for s in sols], dtype="float64")
+    return out

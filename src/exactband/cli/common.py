@@ -1,0 +1,33 @@
+"""Options shared by commands that take one design's parameters."""
+
+from __future__ import annotations
+
+import argparse
+
+FAMILY_HELP = "law of the total count Y: poisson, binomial or negative-binomial"
+KIND_HELP = ("hypothesis: band (low <= theta <= high), point (theta = value), "
+             "upper (theta <= value), lower (theta >= value), "
+             "equivalence (theta <= low or theta >= high)")
+
+
+def add_design_options(p: argparse.ArgumentParser, required: bool = True) -> None:
+    g = p.add_argument_group("design")
+    g.add_argument("--family", required=required, metavar="NAME", help=FAMILY_HELP)
+    g.add_argument("--kind", required=required, metavar="KIND", help=KIND_HELP)
+    g.add_argument("--n", required=required, metavar="N",
+                   help="exposure (poisson: real > 0, e.g. hours or square metres) or number of "
+                        "trials / units (binomial, negative-binomial: whole number >= 1)")
+    g.add_argument("--alpha", required=required, metavar="A", help="size of the test, 0 < A < 1")
+    g.add_argument("--low", metavar="X", help="lower end of the band (band, equivalence)")
+    g.add_argument("--high", metavar="X", help="upper end of the band (band, equivalence)")
+    g.add_argument("--value", metavar="X", help="hypothesised value (upper, lower, point)")
+    g.add_argument("--dispersion", metavar="K",
+                   help="known dispersion k > 0 of the negative-binomial family "
+                        "(variance per unit = theta + theta^2/k)")
+    g.add_argument("--digits", default="50", metavar="D",
+                   help="significant digits of the verifying high-precision solver (default 50)")
+
+
+def design_kwargs(args) -> dict:
+    return dict(n=args.n, alpha=args.alpha, low=args.low, high=args.high, value=args.value,
+                dispersion=args.dispersion, digits=args.digits)

@@ -1,0 +1,270 @@
+"""Design: the immutable value object for one exact test.
+
+A Design holds the inputs (family, kind, n, alpha and the hypothesis values),
+the cutoffs and randomisation probabilities in canonical form, the sizes at the
+constraint points, and whether the two solvers agreed on it.  It computes its
+own test function, power and operating characteristic; it never formats tables.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from . import kinds as K
+from .errors import DesignError
+from .params import Problem
+
+
+def _num(x) -> str:
+    """Short, exact-looking text for a user number (25.0 -> '25')."""
+    if x is None:
+        return "-"
+    if isinstance(x, (int, np.integer)):
+        return str(int(x))
+    x = float(x)
+    if x.is_integer() and abs(x) < 1e15:
+        return str(int(x))
+    return repr(x)
+
+
+@dataclass(frozen=True)
+class Design:
+    """Exact UMP/UMPU test for one problem (see kinds for the test-function contract).
+
+    c1, gamma1, c2, gamma2 are Python int / float (None where the kind has no
+    such cutoff); gammas lie in [0, 1).  ``sizes`` are E_theta phi at the
+    constraint points ``points`` (low and high, or value).  When ``verified`` the
+    numbers come from the high-precision solver after it agreed with the fast
+    one, ``gamma1_decimal``/``gamma2_decimal`` carry 30 significant digits and
+    ``check`` holds the comparison.
+    """
+
+    problem: Problem
+    c1: int | None
+    gamma1: float | None
+    c2: int | None
+    gamma2: float | None
+    sizes: tuple
+    verified: bool = False
+    digits: int | None = None
+    gamma1_decimal: str | None = None
+    gamma2_decimal: str | None = None
+    check: object = field(default=None, compare=False)
+
+    # -- inputs ---------------------------------------------------------------
+    @property
+    def family(self) -> str:
+        return self.problem.family.name
+
+    @property
+    def kind(self) -> str:
+        return self.problem.kind.name
+
+    @property
+    def n(self):
+        return self.problem.n
+
+    @property
+    def alpha(self) -> float:
+        return self.problem.alpha
+
+    @property
+    def low(self):
+        return self.problem.low
+
+    @property
+    def high(self):
+        return self.problem.high
+
+    @property
+    def value(self):
+        return self.problem.value
+
+    @property
+    def dispersion(self):
+        return self.problem.dispersion
+
+    @property
+    def points(self) -> tuple:
+        """Constraint points, aligned with ``sizes``."""
+        return self.problem.points
+
+    @property
+    def size_low(self) -> float:
+        """Size at the first constraint point (low, or value for one-point kinds)."""
+        return self.sizes[0]
+
+    @property
+    def size_high(self) -> float | None:
+        """Size at high (band, equivalence); None for one-point kinds."""
+        return self.sizes[1] if len(self.sizes) > 1 else None
+
+    # -- the test ---------------------------------------------------------------
+    def _cut(self):
+        nan = float("nan")
+        return (nan if self.c1 is None else self.c1, 0.0 if self.gamma1 is None else self.gamma1,
+                nan if self.c2 is None else self.c2, 0.0 if self.gamma2 is None else self.gamma2)
+
+    def phi(self, y):
+        """Rejection probability phi(y) for an observed total y (vectorised)."""
+        out = K.phi(self.kind, *self._cut(), y)
+        return float(out) if np.ndim(out) == 0 else out
+
+    def power(self, theta):
+        """E_theta phi(Y): probability of rejecting H0 at theta (exact sum; vectorised)."""
+        fam = self.problem.family
+        try:
+            t = np.asarray(theta, dtype=float)
+        except (TypeError, ValueError):
+            raise DesignError(f"invalid theta = {theta!r}: numbers are required") from None
+        flat = np.atleast_1d(t).ravel()
+        bad = ~fam.theta_ok_array(flat)
+        if np.any(bad):
+            fam.check_theta("theta", float(flat[bad][0]))  # raises the one-line message
+        L = fam.float_law
+        P = L.make(flat, self.n, self.dispersion)
+        c1, g1, c2, g2 = self._cut()
+        out = K.expectation(self.kind, c1, g1, c2, g2,
+                            lambda c: L.cdf(c, P), lambda c: L.sf(c, P), lambda c: L.pmf(c, P))
+        out = np.clip(np.broadcast_to(out, flat.shape).astype(float), 0.0, 1.0).reshape(t.shape)
+        return float(out) if out.ndim == 0 else out
+
+    def oc(self, theta):
+        """Operating characteristic 1 - power: probability of not rejecting H0."""
+        p = self.power(theta)
+        return 1.0 - p
+
+    def nonrandomized(self) -> "Design":
+        """The conservative rule: same cutoffs, randomisation dropped (gammas 0).
+
+        It rejects only strictly beyond the cutoffs (strictly inside for
+        equivalence); its sizes never exceed alpha (float law).
+        """
+        return self.with_gammas(0.0, 0.0)
+
+    def thresholds(self, digits: int) -> tuple:
+        """Field randomisation thresholds t = floor(gamma * 10**digits) for (gamma1, gamma2).
+
+        "If Y equals the cutoff, read ``digits`` random digits as a number and
+        reject if it is below t."  Flooring keeps the size at or below the
+        randomised rule's.  Uses the exact decimal gammas when verified, so a
+        gamma such as 0.123 is never floored to 122 by binary rounding.
+        """
+        from decimal import ROUND_FLOOR, Decimal
+
+        if not isinstance(digits, int) or isinstance(digits, bool) or not 1 <= digits <= 9:
+            raise DesignError(f"invalid digits = {digits!r}: a whole number from 1 to 9")
+        scale = Decimal(10) ** digits
+
+        def one(g, text):
+            if g is None:
+                return None
+            exact = Decimal(text) if text is not None else Decimal(repr(g))
+            return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
+
+        return one(self.gamma1, self.gamma1_decimal), one(self.gamma2, self.gamma2_decimal)
+
+    def with_gammas(self, gamma1, gamma2) -> "Design":
+        """Same cutoffs, other gammas (e.g. the digit-rounded or the conservative rule).
+
+        The result is unverified; its sizes are computed with the float law.
+        """
+        g1 = None if self.gamma1 is None else float(gamma1)
+        g2 = None if self.gamma2 is None else float(gamma2)
+        base = Design(self.problem, self.c1, g1, self.c2, g2, ())
+        sizes = tuple(float(base.power(t)) for t in self.points)
+        return Design(self.problem, self.c1, g1, self.c2, g2, sizes)
+
+    def digit_rule(self, digits: int) -> "Design":
+        """The rule field staff apply with ``digits`` random digits: gamma = t / 10**digits."""
+        t1, t2 = self.thresholds(digits)
+        scale = 10 ** digits
+        return self.with_gammas(None if t1 is None else t1 / scale,
+                                None if t2 is None else t2 / scale)
+
+    # -- words --------------------------------------------------------------
+    def hypothesis(self) -> str:
+        fam, knd = self.problem.family, self.problem.kind
+        return "H0: " + knd.summary.format(
+            t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
+            high=_num(self.high)) + (f" ({fam.theta_unit})" if fam.theta_unit else "")
+
+    def describe(self) -> str:
+        """The decision rule in plain words."""
+        fam, knd = self.problem.family, self.problem.kind
+        lines = []
+        disp = f", dispersion k = {_num(self.dispersion)}" if self.dispersion is not None else ""
+        lines.append(f"{knd.optimality} test, {fam.name} family, {fam.n_word} = {_num(self.n)}"
+                     f"{disp}, size alpha = {_num(self.alpha)}.")
+        lines.append(self.hypothesis() + ".")
+        lines.append("Y = the total count over the sample." if fam.name != "binomial"
+                     else "Y = the number of successes among the n trials.")
+        lines.extend(_rule_lines(self))
+        sizes = ", ".join(f"{_num(t)}: {s:.6g}" for t, s in zip(self.points, self.sizes))
+        lines.append(f"Probability of rejecting H0 at the constraint points: {sizes}.")
+        if self.verified:
+            lines.append(f"Verified: the fast and the {self.digits}-digit solvers agree.")
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict:
+        """Plain dict (inputs, cutoffs, gammas, sizes, verification)."""
+        out = dict(self.problem.inputs())
+        out.update(c1=self.c1, gamma1=self.gamma1, c2=self.c2, gamma2=self.gamma2,
+                   gamma1_decimal=self.gamma1_decimal, gamma2_decimal=self.gamma2_decimal,
+                   size_low=self.size_low, size_high=self.size_high, verified=self.verified,
+                   digits=self.digits)
+        return out
+
+
+def _prob(g) -> str:
+    return f"{g:.6f}".rstrip("0").rstrip(".") if g else "0"
+
+
+def _rule_lines(d: Design) -> list:
+    kind, c1, g1, c2, g2 = d.kind, d.c1, d.gamma1, d.c2, d.gamma2
+    out = []
+    if kind == "upper":
+        out.append(f"Reject H0 if Y >= {c2 + 1}.")
+        if g2:
+            out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
+        out.append(f"If Y <= {c2 - 1 if g2 else c2}: do not reject.")
+        return out
+    if kind == "lower":
+        out.append(f"Reject H0 if Y <= {c1 - 1}." if c1 > 0 else "Never reject outright (c1 = 0).")
+        if g1:
+            out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
+        out.append(f"If Y >= {c1 + 1 if g1 else c1}: do not reject.")
+        return out
+    if kind in ("band", "point"):
+        if c1 == c2:
+            out.append(f"Reject H0 if Y != {c1}; if Y = {c1}, reject with probability "
+                       f"{_prob(g1 + g2)}.")
+            return out
+        tails = []
+        if c1 > 0:
+            tails.append(f"Y <= {c1 - 1}")
+        tails.append(f"Y >= {c2 + 1}")
+        out.append("Reject H0 if " + " or ".join(tails) + ".")
+        if g1:
+            out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
+        else:
+            out.append(f"If Y = {c1}: do not reject (gamma1 = 0).")
+        if g2:
+            out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
+        else:
+            out.append(f"If Y = {c2}: do not reject (gamma2 = 0).")
+        if c2 - c1 > 1:
+            out.append(f"If {c1 + 1} <= Y <= {c2 - 1}: do not reject.")
+        return out
+    # equivalence: reject in the middle
+    if c2 - c1 > 1:
+        out.append(f"Reject H0 (conclude {d.low} < {d.problem.family.theta_word} < {d.high}) "
+                   f"if {c1 + 1} <= Y <= {c2 - 1}.")
+    if g1:
+        out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
+    if g2:
+        out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
+    out.append(f"If Y <= {c1 - 1 if g1 else c1} or Y >= {c2 + 1 if g2 else c2}: do not reject.")
+    return out

@@ -1,0 +1,85 @@
+"""Overdispersed counts: mean theta > 0 per unit, known dispersion k > 0.
+
+Each unit's count has variance theta + theta^2/k; the total over n units is
+Y ~ NB(size r = n*k, mean m = n*theta), i.e. with q = r/(r+m)
+pmf(y) = Gamma(y+r) / (Gamma(r) y!) q^r (1-q)^y.
+"""
+
+from __future__ import annotations
+
+import math
+
+import mpmath as mp
+import numpy as np
+
+from ..mpnum import dec
+
+_ZERO = mp.mpf(0)
+
+from .base import Family
+from .floatlaw import NegBinomialLaw
+
+
+class NegBinomialMp:
+    """mpmath law of NB(size r, mean m) for MpTable."""
+
+    supmax = None
+
+    def __init__(self, theta, n, k):
+        self.r = dec(n) * dec(k)
+        self.m = dec(n) * dec(theta)
+        self.q = self.r / (self.r + self.m)
+        self.qc = self.m / (self.r + self.m)  # 1 - q
+        self.mean = self.m
+        if self.r > 1:
+            self.mode = int(mp.floor((self.r - 1) * self.qc / self.q))
+        else:
+            self.mode = 0
+
+    def log_pmf(self, y):
+        r = self.r
+        return (mp.loggamma(y + r) - mp.loggamma(r) - mp.loggamma(y + 1)
+                + r * mp.log(self.q) + y * mp.log(self.qc))
+
+    def ratio(self, y):
+        return (y + self.r) * self.qc / (y + 1)
+
+    def down_ratio(self, y):
+        return y / ((y - 1 + self.r) * self.qc)
+
+    def right_bound(self, y):
+        # ratios tend to 1-q: from above when r > 1, from below when r < 1
+        return max(self.ratio(y), self.qc)
+
+    def left_bound(self, y):
+        # only reached when r > 1 (otherwise the mode is 0): down-ratios decrease
+        return self.down_ratio(y) if y > 0 else _ZERO
+
+
+class NegBinomial(Family):
+    float_law = NegBinomialLaw
+
+    def theta_ok(self, theta):
+        return theta > 0 and math.isfinite(theta)
+
+    def theta_allowed(self):
+        return "the negative-binomial mean per unit must be a finite number > 0"
+
+    def theta_ok_array(self, theta):
+        t = np.asarray(theta, dtype=float)
+        return (t > 0) & np.isfinite(t)
+
+    def float_params(self, theta, n, k):
+        return NegBinomialLaw.make(theta, n, k)
+
+    def mp_law(self, theta, n, k):
+        return NegBinomialMp(theta, n, k)
+
+    def natural_delta(self, lo, hi, n, k):
+        return n * (hi - lo)
+
+
+NEGBINOMIAL = NegBinomial(
+    name="negative-binomial", theta_word="mean", theta_unit="per unit", n_word="number of units n",
+    integer_n=True, uses_dispersion=True,
+)

@@ -1,0 +1,64 @@
+"""File output helpers shared by every writer: atomic writes and safe cell text.
+
+Convention: a file is written to a temporary file in the target folder,
+flushed, fsync'ed and renamed over the final name, so an interrupted run never
+leaves a partial file under a final name.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import tempfile
+from pathlib import Path
+
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+@contextlib.contextmanager
+def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: str | None = None):
+    """Open a temporary file next to ``path``; on success fsync and rename it into place."""
+    path = Path(path)
+    path.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        kwargs = {} if "b" in mode else {"encoding": encoding or "utf-8", "newline": newline}
+        with os.fdopen(fd, mode, **kwargs) as fh:
+            yield fh
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+        _fsync_dir(path.parent)
+    except BaseException:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(tmp)
+        raise
+
+
+def _fsync_dir(folder: Path) -> None:
+    with contextlib.suppress(OSError):
+        dfd = os.open(folder, os.O_RDONLY)
+        try:
+            os.fsync(dfd)
+        finally:
+            os.close(dfd)
+
+
+def atomic_write_bytes(path, data: bytes) -> None:
+    with atomic_open(path, "wb") as fh:
+        fh.write(data)
+
+
+def atomic_write_text(path, text: str) -> None:
+    atomic_write_bytes(path, text.encode("utf-8"))
+
+
+def safe_cell_text(text) -> str:
+    """User text for a spreadsheet/CSV cell that can never be read as a formula.
+
+    Text starting with = + - @ (or a tab / carriage return) gets a leading
+    apostrophe-free guard: a single quote character is prefixed, the common
+    practice of spreadsheet tools for literal text.
+    """
+    s = "" if text is None else str(text)
+    return "'" + s if s.startswith(_FORMULA_START) else s

@@ -1,0 +1,1 @@
+"""The two independent solvers: ``fast`` (numpy/scipy) and ``precise`` (mpmath)."""
