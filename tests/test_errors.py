@@ -1,0 +1,89 @@
+"""Bad input of every kind gives one clear line naming the field, the value and the rule."""
+
+from __future__ import annotations
+
+import math
+
+import pandas as pd
+import pytest
+
+import exactband
+from exactband import DesignError
+
+BASE = dict(family="poisson", kind="band", n=25, alpha=0.05, low=2.0, high=2.5)
+CASES = [
+    # (changes to BASE, field named in the message, text that must appear)
+    (dict(alpha=0.0), "alpha", "0 < alpha < 1"),
+    (dict(alpha=1.0), "alpha", "0 < alpha < 1"),
+    (dict(alpha=-0.1), "alpha", "0 < alpha < 1"),
+    (dict(alpha=1.5), "alpha", "0 < alpha < 1"),
+    (dict(alpha=math.nan), "alpha", "finite"),
+    (dict(alpha="often"), "alpha", "finite"),
+    (dict(low=3.0), "low", "smaller than high"),
+    (dict(low=2.5), "low", "smaller than high"),
+    (dict(low=-1.0), "low", "> 0"),
+    (dict(low=0.0), "low", "> 0"),
+    (dict(high=math.inf), "high", "finite"),
+    (dict(low=math.nan), "low", "finite"),
+    (dict(n=0), "n", "> 0"),
+    (dict(n=-3), "n", "> 0"),
+    (dict(n=math.inf), "n", "> 0"),
+    (dict(n=None), "n", "required"),
+    (dict(family="binomial", low=0.2, high=1.2), "high", "between 0 and 1"),
+    (dict(family="binomial", low=0.0, high=0.5), "low", "between 0 and 1"),
+    (dict(family="binomial", n=25.5, low=0.2, high=0.3), "n", "whole number"),
+    (dict(family="binomial", n=0, low=0.2, high=0.3), "n", "whole number"),
+    (dict(family="negative-binomial", n=3.5, dispersion=2.0), "n", "whole number"),
+    (dict(family="negative-binomial"), "dispersion", "dispersion k"),
+    (dict(family="negative-binomial", dispersion=0.0), "dispersion", "> 0"),
+    (dict(family="negative-binomial", dispersion=math.nan), "dispersion", "finite"),
+    (dict(dispersion=2.0), "dispersion", "negative-binomial"),
+    (dict(value=2.2), "value", "takes only low and high"),
+    (dict(high=None), "high", "needs low and high"),
+    (dict(kind="upper"), "low", "takes only value"),
+    (dict(kind="upper", low=None, high=None), "value", "needs value"),
+    (dict(family="gamma"), "family", "poisson, binomial, negative-binomial"),
+    (dict(kind="two-sided"), "kind", "upper, lower, point, band, equivalence"),
+]
+
+
+@pytest.mark.parametrize("change,field,text", CASES)
+def test_bad_input_gives_one_clear_line(change, field, text):
+    kw = dict(BASE)
+    kw.update(change)
+    with pytest.raises(DesignError) as info:
+        exactband.design(kw.pop("family"), kw.pop("kind"), **kw)
+    msg = str(info.value)
+    assert "\n" not in msg
+    assert msg.startswith(f"invalid {field} = "), msg
+    assert text in msg, msg
+
+
+@pytest.mark.parametrize("digits", [0, 5, 19, 1001, 50.5, "many", True])
+def test_bad_digits(digits):
+    with pytest.raises(DesignError, match="invalid digits"):
+        exactband.design("poisson", "upper", n=3, value=1, alpha=0.05, digits=digits)
+
+
+def test_batch_reports_the_bad_row():
+    frame = pd.DataFrame({
+        "family": ["poisson", "poisson", "binomial"],
+        "kind": ["band", "upper", "upper"],
+        "n": [25, 10, 12.5],
+        "alpha": [0.05, 0.05, 0.05],
+        "low": [2.0, None, None], "high": [2.5, None, None], "value": [None, 2.0, 0.1],
+    }, index=["first", "second", "third"])
+    with pytest.raises(DesignError) as info:
+        exactband.designs(frame, verify=False)
+    assert str(info.value).startswith("row third: invalid n = 12.5")
+
+
+def test_batch_requires_the_core_columns():
+    with pytest.raises(DesignError, match="missing column"):
+        exactband.designs(pd.DataFrame({"family": ["poisson"], "n": [3]}))
+
+
+def test_power_rejects_theta_outside_the_family_space():
+    d = exactband.design("binomial", "upper", n=10, value=0.2, alpha=0.05, verify=False)
+    with pytest.raises(DesignError, match="invalid theta"):
+        d.power([0.1, 1.2])
