@@ -76,68 +76,57 @@ class MpTable:
         self.lo = self.hi = m0
         self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
         self._left = []  # pmf(m0-1), pmf(m0-2), ...
-        self._trunc_right = self._grow_right(None)
-        self._trunc_left = self._grow_left(None)
+        self._trunc_right = self._grow(True, None)
+        self._trunc_left = self._grow(False, None)
         self._sums = None
 
     # -- building ----------------------------------------------------------
     # The tables hold libmp values (mpmath's own number representation, without
     # the mpf wrapper) so that filling them costs one or two roundings per term.
-    def _grow_right(self, until):
-        law, thr, prec = self.law, raw(self.thr), self._prec
-        lt = libmp.mpf_lt
-        y, p = self.hi, self._right[-1]
-        rest = _ZERO
-        with mp.workprec(prec):
-            while self.supmax is None or y < self.supmax:
-                p = law.up(p, y, prec)
-                y += 1
-                self._right.append(p)
-                if lt(p, thr) and (until is None or y >= until):
-                    bound = law.right_bound(y)
-                    if bound < 1:
-                        rest = mp.make_mpf(p) * bound / (1 - bound)
-                        if rest < self.thr:
-                            break
-                if len(self._right) > self.max_len:
-                    raise OverflowError("probability table too long")
-            else:
-                rest = _ZERO
-        self.hi = y
-        return rest
+    def _grow(self, up: bool, until):
+        """Extend the table to the right (up) or left until the rest is provably < thr.
 
-    def _grow_left(self, until):
+        Returns the bound on the mass left out on that side.
+        """
         law, thr, prec = self.law, raw(self.thr), self._prec
         lt = libmp.mpf_lt
-        y = self.lo
-        p = self._left[-1] if self._left else self._right[0]
+        if up:
+            y, p, out, step, bound_at = self.hi, self._right[-1], self._right, law.up, law.right_bound
+        else:
+            y = self.lo
+            p = self._left[-1] if self._left else self._right[0]
+            out, step, bound_at = self._left, law.down, law.left_bound
         rest = _ZERO
         with mp.workprec(prec):
-            while y > 0:
-                p = law.down(p, y, prec)
-                y -= 1
-                self._left.append(p)
-                if lt(p, thr) and (until is None or y <= until):
-                    bound = law.left_bound(y)
+            while (y > 0) if not up else (self.supmax is None or y < self.supmax):
+                p = step(p, y, prec)
+                y += 1 if up else -1
+                out.append(p)
+                far = until is None or (y >= until if up else y <= until)
+                if far and lt(p, thr):
+                    bound = bound_at(y)
                     if bound < 1:
                         rest = mp.make_mpf(p) * bound / (1 - bound)
                         if rest < self.thr:
                             break
-                if len(self._left) > self.max_len:
+                if len(out) > self.max_len:
                     raise OverflowError("probability table too long")
             else:
                 rest = _ZERO
-        self.lo = y
+        if up:
+            self.hi = y
+        else:
+            self.lo = y
         return rest
 
     def extend(self, lo, hi):
         """Make the window hold [lo, hi] (as far as the support allows)."""
         with mp.workprec(self._prec):
             if hi > self.hi:
-                self._trunc_right = self._grow_right(hi)
+                self._trunc_right = self._grow(True, hi)
                 self._sums = None
             if lo < self.lo:
-                self._trunc_left = self._grow_left(lo)
+                self._trunc_left = self._grow(False, lo)
                 self._sums = None
 
     @property
