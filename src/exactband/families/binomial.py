@@ -79,6 +79,6 @@ class Binomial(Family):
 
 
 BINOMIAL = Binomial(
-    name="binomial", theta_word="proportion p", theta_unit="per trial", n_word="number of trials n",
+    name="binomial", theta_word="p", theta_unit="per trial", n_word="number of trials n",
     integer_n=True, uses_dispersion=False,
 )

@@ -92,6 +92,6 @@ class NegBinomial(Family):
 
 
 NEGBINOMIAL = NegBinomial(
-    name="negative-binomial", theta_word="mean", theta_unit="per unit", n_word="number of units n",
+    name="negative-binomial", theta_word="mean per unit", theta_unit="per unit", n_word="number of units n",
     integer_n=True, uses_dispersion=True,
 )

@@ -71,6 +71,6 @@ class Poisson(Family):
 
 
 POISSON = Poisson(
-    name="poisson", theta_word="rate", theta_unit="per unit", n_word="exposure n",
+    name="poisson", theta_word="rate per unit", theta_unit="per unit", n_word="exposure n",
     integer_n=False, uses_dispersion=False,
 )
