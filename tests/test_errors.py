@@ -4,8 +4,11 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pandas as pd
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 import exactband
 from exactband import DesignError
@@ -87,3 +90,50 @@ def test_power_rejects_theta_outside_the_family_space():
     d = exactband.design("binomial", "upper", n=10, value=0.2, alpha=0.05, verify=False)
     with pytest.raises(DesignError, match="invalid theta"):
         d.power([0.1, 1.2])
+
+
+@pytest.mark.parametrize("change,field", [
+    (dict(alpha="abc"), "alpha"), (dict(value=2.0), "value"), (dict(family="gamma"), "family"),
+    (dict(kind=None), "kind"), (dict(high=np.nan), "high"), (dict(n=True), "n"),
+    (dict(dispersion=1.0), "dispersion"), (dict(low=9.0), "low"),
+])
+def test_batch_message_is_the_single_design_message(change, field):
+    good = dict(family="poisson", kind="band", n=25.0, alpha=0.05, low=2.0, high=2.5,
+                value=np.nan, dispersion=np.nan)
+    bad = dict(good)
+    bad.update(change)
+    frame = pd.DataFrame([good, good, bad, good], dtype=object)
+    with pytest.raises(DesignError) as info:
+        exactband.designs(frame, verify=False)
+    assert str(info.value).startswith(f"row 2: invalid {field} = "), str(info.value)
+
+
+values = st.one_of(st.none(), st.just(np.nan), st.floats(allow_nan=True, allow_infinity=True),
+                   st.integers(-3, 3000), st.sampled_from(["2", "x", "", "0.5"]))
+
+
+@settings(max_examples=400)
+@given(st.sampled_from(["poisson", "binomial", "negative-binomial", "Poisson ", "other"]),
+       st.sampled_from(["upper", "lower", "point", "band", "equivalence", "BAND"]),
+       values, values, values, values, values, values)
+def test_batch_validation_agrees_with_make_problem(family, kind, n, alpha, low, high, value, k):
+    # the column-wise check of designs() must accept exactly what make_problem accepts
+    from exactband.params import make_problem
+
+    def clean(v):
+        return None if v is None or (isinstance(v, float) and math.isnan(v)) else v
+
+    try:
+        make_problem(family, kind, n=clean(n), alpha=clean(alpha), low=clean(low),
+                     high=clean(high), value=clean(value), dispersion=clean(k))
+        single_ok = True
+    except DesignError:
+        single_ok = False
+    frame = pd.DataFrame([dict(family=family, kind=kind, n=n, alpha=alpha, low=low, high=high,
+                               value=value, dispersion=k)], dtype=object)
+    try:
+        exactband.designs(frame, verify=False)
+        batch_ok = True
+    except DesignError:
+        batch_ok = False
+    assert single_ok == batch_ok
