@@ -137,3 +137,10 @@ def test_batch_validation_agrees_with_make_problem(family, kind, n, alpha, low, 
     except DesignError:
         batch_ok = False
     assert single_ok == batch_ok
+
+
+def test_too_spread_for_the_precise_solver_is_a_clear_line():
+    with pytest.raises(DesignError, match="too spread out"):
+        exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.05)
+    fast = exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.05, verify=False)
+    assert fast.c2 > 1e12

@@ -14,6 +14,7 @@ import numpy as np
 from .crosscheck import compare
 from .design import Design
 from .errors import DesignError, VerificationError, invalid
+from .families.mptable import TableTooLarge
 from .params import Problem, make_problem
 from .solvers import fast, precise
 
@@ -90,8 +91,13 @@ def from_fast(p: Problem, sol: tuple) -> Design:
 
 def verify_one(p: Problem, sol: tuple, digits: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
-    pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                       value=p.value, dispersion=p.dispersion, digits=digits)
+    try:
+        pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
+                           value=p.value, dispersion=p.dispersion, digits=digits)
+    except TableTooLarge as e:
+        raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
+                          f"high-precision check ({e} per probability table); use a smaller "
+                          "n or the unverified fast path") from None
     cc = compare(p.kind.name, p.alpha, sol, pd, digits)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")

@@ -27,6 +27,7 @@ class BinomialMp:
         if self.mode > self.n:
             self.mode = self.n
         self.mean = self.n * self.p
+        self.variance = self.n * self.p * self.q
         self._odds = self.p / self.q
         self._o = mt.raw(self._odds)
         self._io = mt.raw(self.q / self.p)

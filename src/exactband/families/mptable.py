@@ -61,10 +61,17 @@ def div_int(x, d: int, prec):
     return libmp.normalize(sign, q, exp - shift, q.bit_length(), prec, _RND)
 
 
+MAX_TABLE = 3_000_000  # terms per table; beyond this the precise solver declines
+
+
+class TableTooLarge(OverflowError):
+    """The law is too spread out to tabulate within MAX_TABLE terms."""
+
+
 class MpTable:
     """pmf / cdf / sf / first moments of one discrete law, at working precision."""
 
-    def __init__(self, law, thr, moments: bool = False, max_len: int = 20_000_000):
+    def __init__(self, law, thr, moments: bool = False, max_len: int = MAX_TABLE):
         self.law = law
         self.thr = thr
         self.moments = moments
@@ -72,6 +79,9 @@ class MpTable:
         self.supmax = law.supmax  # None for unbounded support
         self._prec = mp.mp.prec
         m0 = law.mode
+        sd = float(mp.sqrt(law.variance))
+        if sd * 2 * float(mp.sqrt(2 * -mp.log(thr))) > max_len:  # the window needs ~ +-K sd
+            raise TableTooLarge(f"more than {max_len:,} terms")
         p0 = raw(mp.exp(law.log_pmf(m0)))
         self.lo = self.hi = m0
         self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
@@ -110,7 +120,7 @@ class MpTable:
                         if rest < self.thr:
                             break
                 if len(out) > self.max_len:
-                    raise OverflowError("probability table too long")
+                    raise TableTooLarge(f"more than {self.max_len:,} terms")
             else:
                 rest = _ZERO
         if up:

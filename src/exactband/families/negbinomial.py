@@ -32,6 +32,7 @@ class NegBinomialMp:
         self.q = self.r / (self.r + self.m)
         self.qc = self.m / (self.r + self.m)  # 1 - q
         self.mean = self.m
+        self.variance = self.m + self.m * self.m / self.r
         self._qc = mt.raw(self.qc)
         if self.r > 1:
             self.mode = int(mp.floor((self.r - 1) * self.qc / self.q))

@@ -23,6 +23,7 @@ class PoissonMp:
         self.mu = dec(n) * dec(theta)
         self.mode = int(mp.floor(self.mu))
         self.mean = self.mu
+        self.variance = self.mu
         self._mu = mt.raw(self.mu)
 
     def log_pmf(self, y):
