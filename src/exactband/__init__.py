@@ -12,5 +12,5 @@ from .errors import DesignError, ExactbandError, VerificationError
 
 __version__ = "0.1.0"
 
-__all__ = ["Design", "DesignError", "ExactbandError", "VerificationError", "design", "designs", "plan",
+__all__ = ["Design", "DesignError", "ExactbandError", "VerificationError", "design", "designs",
            "__version__"]
