@@ -44,6 +44,7 @@ import numpy as np
 
 from . import kinds as K
 from .api import design as make_design
+from .design import _num
 from .errors import ExactbandError, VerificationError
 from .families.base import as_real
 from .oc import (DEFAULT_RANDOM_DIGITS, PlanningError, _error, check_random_digits, check_rule,
@@ -153,8 +154,8 @@ def _check_target(target, alpha):
 
 def _null_words(problem) -> str:
     t = problem.family.theta_word
-    return problem.kind.summary.format(t=t, value=problem.value, low=problem.low,
-                                       high=problem.high)
+    return problem.kind.summary.format(t=t, value=_num(problem.value), low=_num(problem.low),
+                                       high=_num(problem.high))
 
 
 def _check_alternatives(problem, alternatives) -> tuple:

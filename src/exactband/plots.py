@@ -59,7 +59,7 @@ def figure_bytes(fig, fmt: str, dpi: int = 150) -> bytes:
     if meta is None:
         raise _error("format", fmt, "png, svg or pdf")
     buf = io.BytesIO()
-    with matplotlib.rc_context({"svg.hashsalt": "exactband", "svg.fonttype": "path"}):
+    with matplotlib.rc_context({"svg.hashsalt": "exactband", "svg.fonttype": "none"}):
         fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta)
     return buf.getvalue()
 
