@@ -80,8 +80,10 @@ def _new_figure(size):
 
 
 # -- words --------------------------------------------------------------------------
-UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "proportion of trials",
+UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "probability per trial",
               "negative-binomial": "mean count per unit"}
+AXIS_WORDS = {"poisson": "rate \u03b8", "binomial": "proportion p",
+              "negative-binomial": "mean \u03b8"}
 
 
 def pretty(text: str) -> str:
@@ -91,7 +93,8 @@ def pretty(text: str) -> str:
 
 def theta_axis_label(design: Design) -> str:
     fam = design.problem.family
-    return f"{fam.theta_word} \u03b8 ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
+    word = AXIS_WORDS.get(fam.name, fam.theta_word)
+    return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
 
 
 def _g(x):
@@ -126,7 +129,7 @@ def _cutoff_text(design: Design) -> str:
 
 
 def _size_text(sizes) -> str:
-    return "/".join(f"{s:.5f}" for s in sizes)
+    return "/".join(f"{s:.6f}" for s in sizes)
 
 
 # -- shading and reference lines ------------------------------------------------------
@@ -204,8 +207,10 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
     dx.set_ylabel("power minus\nrandomised power", fontsize=8.5)
     title = "Power function" if curve == "power" else "Operating characteristic (OC) curve"
     ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
-    caption = design_caption(design, d) + (" Sizes are the probabilities of rejecting H0 at "
-                                           f"{', '.join(_num(p) for p in design.points)}.")
+    caption = design_caption(design, d) + (
+        " Sizes are the probabilities of rejecting H0 at "
+        f"{', '.join(_num(p) for p in design.points)} (6 decimals); the conservative and field "
+        "rules never exceed alpha. All values are exact sums of probabilities.")
     _footer(foot, ax, caption)
     return fig
 
@@ -329,7 +334,7 @@ def _oc_page(rows, rules, col, d, theta, size, title, number):
             for i, (x, f) in enumerate(zip(group, frames)):
                 st = dict(N_STYLES[i % len(N_STYLES)])
                 ax.plot(theta, f[f"{col}_{rule}"].to_numpy(float), label=f"n = {_num(x.n)}",
-                        markevery=(0.015 * i, 0.07), markersize=4, **st)
+                        markevery=(0.02 * i, 0.1), markersize=4, **st)
             ax.set_xlim(x0, x1)
             ax.set_ylim(-0.02, 1.02)
             ax.grid(True, color="0.85", linewidth=0.5)
@@ -340,9 +345,16 @@ def _oc_page(rows, rules, col, d, theta, size, title, number):
             if r == len(rows) - 1:
                 ax.set_xlabel(theta_axis_label(first), fontsize=8)
             ax.legend(fontsize=7, loc="best", framealpha=0.9)
-    head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: {first.hypothesis()}, "
-                     f"{first.problem.family.name} family")
+    fam = first.problem.family
+    disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
+    head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
+                     f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
     fig.suptitle(f"{head} (page {number})", fontsize=11)
+    what = ("OC = probability of not rejecting H0" if col == "oc"
+            else "power = probability of rejecting H0")
+    fig.supxlabel(f"{what}, exact sums of probabilities for each {fam.n_word}; the shaded "
+                  "region is H0.  The dotted line marks " + ("1 - alpha." if col == "oc"
+                                                             else "alpha."), fontsize=7.5)
     return fig
 
 
