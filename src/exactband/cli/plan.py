@@ -53,8 +53,12 @@ def add_parser(sub) -> None:
 def _powers(result, values) -> str:
     from ..design import _num
 
+    import math
+
     word = result.design.problem.family.theta_word
-    return "; ".join(f"{word} {_num(a)}: {p:.6f}" for a, p in zip(result.alternatives, values))
+    # truncated, not rounded: a power shown as 0.900000 is never below a target of 0.9
+    return "; ".join(f"{word} {_num(a)}: {math.floor(p * 1e6) / 1e6:.6f}"
+                     for a, p in zip(result.alternatives, values))
 
 
 def text_report(r) -> str:
@@ -67,8 +71,10 @@ def text_report(r) -> str:
     lines = [f"Smallest {fam.n_word} (grid step {_num(r.step)}) with power >= {r.target:g} at "
              f"{fam.theta_word} {alts}, {rule}:", f"  n = {_num(r.n)}"]
     if r.rule != "randomized":
-        lines.append(f"  n_from = {_num(r.n_from)}  (every larger n meets the target: checked "
-                     f"one by one up to n = {_num(r.n_certified)}, certified beyond)")
+        how = (f"checked one by one up to n = {_num(r.n_certified)}, certified beyond"
+               if r.n_certified > r.n_from else
+               f"certified from n = {_num(r.n_certified)} on")
+        lines.append(f"  n_from = {_num(r.n_from)}  (every larger n meets the target: {how})")
         lines.append(f"  the randomised rule needs n = {_num(r.n_randomized)}")
     lines.append(f"Power at n = {_num(r.n)}: {_powers(r, r.power)}")
     if r.power_below is not None:
