@@ -147,3 +147,10 @@ def test_one_digit_field_rule_against_brute_force():
              rule="digits", random_digits=1, verify=False)
     assert (r.n, r.n_from) == first_and_from(rows, "digits", target)
     assert r.n_certified <= 150
+
+
+def test_one_alternative_may_be_a_plain_number():
+    r = plan("poisson", "upper", alpha=0.05, value=2, alternatives=3, target="0.9",
+             verify=False)
+    assert r.alternatives == (3.0,) and len(r.power) == 1
+    assert r.power_by_alternative[3.0] == r.power[0] >= 0.9

@@ -245,7 +245,12 @@ def power_sheet(designs, thetas, *, random_digits=DEFAULT_RANDOM_DIGITS):
 
 def parse_number_list(field: str, text) -> list:
     """'1.6, 3' or a list of numbers -> list of floats (one-line error naming ``field``)."""
-    items = text.replace(";", ",").split(",") if isinstance(text, str) else list(text)
+    if isinstance(text, str):
+        items = text.replace(";", ",").split(",")
+    elif np.ndim(text) == 0:
+        items = [text]
+    else:
+        items = list(text)
     items = [x.strip() if isinstance(x, str) else x for x in items]
     items = [x for x in items if not (isinstance(x, str) and x == "")]
     if not items:

@@ -28,7 +28,9 @@ def add_parser(sub) -> None:
     p = sub.add_parser(
         "decide", help="decision for an observed count (randomisation by digits)",
         description="Apply a design (given by its parameters or by a row of a generated "
-                    "table CSV) to an observed total count Y and state the decision.",
+                    "table CSV) to an observed total count Y and state the decision. "
+                    "Required: --y and either --table or --family, --kind, --n, --alpha and "
+                    "the hypothesis values.",
         epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter,
         conflict_handler="resolve")
     add_design_options(p, required=False)

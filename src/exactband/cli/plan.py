@@ -24,7 +24,9 @@ def add_parser(sub) -> None:
     p = sub.add_parser(
         "plan", help="sample size: smallest n reaching a target power",
         description="Find the smallest n (on the grid step, 2*step, ...) at which the chosen "
-                    "rule's power is at least the target at every alternative.",
+                    "rule's power is at least the target at every alternative. Required: "
+                    "--family, --kind, --alpha, the hypothesis values, --alternatives, "
+                    "--target.",
         epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
     add_design_options(p, required=False)
     suppress_option(p, "--n")
