@@ -233,3 +233,17 @@ def test_cli_decide_table_digit_length(capsys, table):
     assert main(["decide", "--table", str(table), "--row", "1", "--y", "39",
                  "--digits", "4821"]) == 2
     assert "exactly 3" in capsys.readouterr().err
+
+
+def test_tails_meeting_at_one_point():
+    # c1 == c2: phi there is gamma1 + gamma2 (kinds.phi contract), so the field
+    # threshold is t1 + t2; a hand-made design exercises the branch
+    from exactband.design import Design
+    from exactband.params import make_problem
+
+    prob = make_problem("poisson", "band", n=1, alpha=0.05, low=2, high=2.5)
+    d = Design(prob, 3, 0.2, 3, 0.3, ())
+    assert d.thresholds(3) == (200, 300)
+    assert decide(d, 3, digits="499").reject and not decide(d, 3, digits="500").reject
+    assert "c1 = c2 = 3" in decide(d, 3, digits="500").region
+    assert decide(d, 2).reject and decide(d, 4).reject

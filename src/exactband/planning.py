@@ -48,7 +48,7 @@ from .design import _num
 from .errors import ExactbandError, VerificationError
 from .families.base import as_real
 from .oc import (DEFAULT_RANDOM_DIGITS, PlanningError, _error, check_random_digits, check_rule,
-                 parse_number_list, rule_designs)
+                 operating_characteristics, parse_number_list, power_sheet, rule_designs)
 from .params import make_problem
 from .solvers import fast
 
@@ -56,6 +56,10 @@ DEFAULT_N_MAX = 1e7
 SCAN_LIMIT = 200_000  # grid points the conservative scan may cover
 CHUNK = 20_000
 CERT_MARGIN = 1e-12  # the certificate must clear the target by more than float noise
+
+# power and OC over theta live in oc.py; offered here too, beside plan
+__all__ = ["PlanResult", "PlanningError", "operating_characteristics", "plan",
+           "power_against_n", "power_sheet"]
 
 
 @dataclass(frozen=True)
