@@ -21,7 +21,7 @@ import exactband
 from exactband import kinds as K
 from exactband.families import get_family
 from exactband.params import make_problem
-from exactband.planning import _Grid
+from exactband.ngrid import NGrid as _Grid
 
 TOL = 1e-12
 FAMILIES = ("poisson", "binomial", "negative-binomial")

@@ -11,7 +11,7 @@ from exactband import kinds as K
 from exactband.oc import (PlanningError, default_thetas, operating_characteristics,
                           power_sheet, rule_designs)
 from exactband.params import make_problem
-from exactband.planning import _Grid
+from exactband.ngrid import NGrid as _Grid
 
 # (family, kind, n, hypothesis, dispersion): one design of every family and kind
 CASES = [
