@@ -154,3 +154,9 @@ def test_one_alternative_may_be_a_plain_number():
              verify=False)
     assert r.alternatives == (3.0,) and len(r.power) == 1
     assert r.power_by_alternative[3.0] == r.power[0] >= 0.9
+
+
+def test_plan_is_exported_at_the_top():
+    import exactband.planning
+
+    assert exactband.plan is exactband.planning.plan
