@@ -6,6 +6,7 @@
 """
 
 from .api import design, designs
+from .planning import plan
 from .design import Design
 from .errors import DesignError, ExactbandError, VerificationError
 
