@@ -56,7 +56,7 @@ BAD = [
     (["--kind", "both"], "kind"),
     (["--value", "2"], "value"),
     (["--dispersion", "2"], "dispersion"),
-    (["--digits", "3"], "digits"),
+    (["--precision", "3"], "precision"),
 ]
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import argparse
 
-from .common import add_design_options
+from .common import add_design_options, check_precision
 from .output import emit, json_text, require
 
 EXAMPLE = """\
@@ -31,12 +31,8 @@ def add_parser(sub) -> None:
                     "table CSV) to an observed total count Y and state the decision. "
                     "Required: --y and either --table or --family, --kind, --n, --alpha and "
                     "the hypothesis values.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter,
-        conflict_handler="resolve")
+        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
     add_design_options(p, required=False)
-    p.add_argument("--solver-digits", default="50", metavar="D",
-                   help="significant digits of the verifying solver (default 50; designs "
-                        "given by parameters only)")
     g = p.add_argument_group("observation and randomisation")
     g.add_argument("--y", "--count", dest="y", metavar="Y", help="the observed total count "
                    "(required)")
@@ -78,7 +74,7 @@ def run(args) -> int:
         require(args, ("family", "kind", "n", "alpha"), "decide")
         d = design(args.family, args.kind, n=args.n, alpha=args.alpha, low=args.low,
                    high=args.high, value=args.value, dispersion=args.dispersion,
-                   digits=args.solver_digits)
+                   digits=check_precision(args.precision))
         dec = decide(d, args.y, rule=rule, digits=args.digits, random_digits=args.random_digits)
         source = "computed from the parameters" + (" and verified" if d.verified else "")
     if args.json:

@@ -63,13 +63,6 @@ def emit(text: str, out=None) -> None:
     atomic_write_text(out, text)
 
 
-def suppress_option(parser, flag: str) -> None:
-    """Hide a shared option that a command does not take (argparse keeps it parseable)."""
-    import argparse
-
-    parser._option_string_actions[flag].help = argparse.SUPPRESS
-
-
 def require(args, names, command: str) -> None:
     """Options a command needs although the shared group marks them optional."""
     from . import UsageError

@@ -4,8 +4,8 @@ from __future__ import annotations
 
 import argparse
 
-from .common import add_design_options
-from .output import emit, json_text, require, suppress_option
+from .common import add_design_options, check_precision
+from .output import emit, json_text, require
 
 EXAMPLE = """\
 examples:
@@ -28,8 +28,7 @@ def add_parser(sub) -> None:
                     "--family, --kind, --alpha, the hypothesis values, --alternatives, "
                     "--target.",
         epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
-    add_design_options(p, required=False)
-    suppress_option(p, "--n")
+    add_design_options(p, required=False, include_n=False)
     g = p.add_argument_group("planning")
     g.add_argument("--alternatives", metavar="LIST",
                    help="comma-separated theta values outside the null region (required)")
@@ -90,13 +89,10 @@ def text_report(r) -> str:
 
 
 def run(args) -> int:
-    from ..oc import PlanningError
     from ..planning import plan, power_against_n
     from .design import design_json
 
     require(args, ("family", "kind", "alpha", "alternatives", "target"), "plan")
-    if args.n is not None:
-        raise PlanningError(f"invalid n = {args.n}: plan finds n; give --step or --n-max instead")
     plot = None
     if args.plot:
         from ..plots import check_plot_path
@@ -105,7 +101,7 @@ def run(args) -> int:
     r = plan(args.family, args.kind, alpha=args.alpha, alternatives=args.alternatives,
              target=args.target, low=args.low, high=args.high, value=args.value,
              dispersion=args.dispersion, rule=args.rule, random_digits=args.random_digits,
-             step=args.step, n_max=args.n_max, verify=not args.no_verify, digits=args.digits)
+             step=args.step, n_max=args.n_max, verify=not args.no_verify, digits=check_precision(args.precision))
     if plot is not None:
         from ..plots import plan_figure, save_figure
 

@@ -1,6 +1,6 @@
 """Benchmark of power/OC, plan and decide (median of repeated runs, one process).
 
-Run: .venv/bin/python bench/planning.py
+Run: .venv/bin/python bench/bench_planning.py (or make bench)
 """
 
 from __future__ import annotations
