@@ -14,7 +14,6 @@ defusedxml, which refuses entity declarations (XML bombs).
 from __future__ import annotations
 
 import csv
-import io
 import zipfile
 from pathlib import Path
 
@@ -58,28 +57,47 @@ def read(path, *, sheet=None, delimiter=None, encoding="utf-8"):
 
 # -- CSV ---------------------------------------------------------------------
 class _Lines:
-    """Line iterator with a length cap and line numbers for decoding errors."""
+    """Text lines of a binary file, decoded incrementally, with a length cap.
 
-    def __init__(self, fh, name, encoding):
-        self.fh, self.name, self.encoding = fh, name, encoding
-        self.count = 0
+    Decoding line by line (not by 8 KB blocks) lets a decoding error name its line.
+    """
+
+    def __init__(self, fh, name, encoding, decoder):
+        self.fh, self.name, self.encoding, self.decoder = fh, name, encoding, decoder
+        self.count = 0  # lines handed out
+        self.pending = ""
+        self.done = False
 
     def __iter__(self):
         return self
 
-    def __next__(self):
+    def _fill(self):
+        chunk = self.fh.readline(MAX_LINE + 1)
         try:
-            line = self.fh.readline(MAX_LINE + 1)
+            self.pending += self.decoder.decode(chunk, final=not chunk)
         except UnicodeDecodeError as e:
             bad = e.object[e.start:e.start + 1].hex()
+            line = self.count + 1 + self.pending.count("\n")
             raise AuditInputError(
-                f"{self.name}: line {self.count + 1} is not {self.encoding} text (byte 0x{bad}); "
+                f"{self.name}: line {line} is not {self.encoding} text (byte 0x{bad}); "
                 f"save the file as UTF-8 or give --encoding") from None
-        if not line:
-            raise StopIteration
-        if len(line) > MAX_LINE:
+        if not chunk:
+            self.done = True
+
+    def __next__(self):
+        while "\n" not in self.pending and not self.done:
+            if len(self.pending) > MAX_LINE:
+                break
+            self._fill()
+        i = self.pending.find("\n")
+        if i < 0:
+            i = len(self.pending) - 1
+        if i + 1 > MAX_LINE:
             raise AuditInputError(f"{self.name}: line {self.count + 1} is longer than "
                                   f"{MAX_LINE} characters; this is not a table")
+        if i < 0:
+            raise StopIteration
+        line, self.pending = self.pending[:i + 1], self.pending[i + 1:]
         self.count += 1
         return line
 
@@ -102,9 +120,8 @@ def _csv(p: Path, delimiter, encoding):
         raise AuditInputError(f"invalid --delimiter = {delimiter!r}: one character such as , ; "
                               "or a tab")
     enc = "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
-    raw = open(p, "rb")
-    fh = io.TextIOWrapper(raw, encoding=enc, errors="strict", newline="")
-    lines = _Lines(fh, p.name, encoding)
+    fh = open(p, "rb")
+    lines = _Lines(fh, p.name, encoding, codecs.getincrementaldecoder(enc)(errors="strict"))
     try:
         first = None
         for line in lines:
@@ -170,6 +187,17 @@ def _text(v) -> str:
     return f"{type(v).__name__} {v}"  # dates, times: refused later as numbers
 
 
+def _defused(e: BaseException, kind):
+    """The defusedxml refusal behind an exception (openpyxl wraps it), or None."""
+    seen = 0
+    while e is not None and seen < 10:
+        if isinstance(e, kind):
+            return e
+        e = e.__cause__ or e.__context__
+        seen += 1
+    return None
+
+
 def _xlsx(p: Path, sheet):
     from openpyxl.xml import DEFUSEDXML
 
@@ -182,11 +210,12 @@ def _xlsx(p: Path, sheet):
     _check_archive(p)
     try:
         wb = openpyxl.load_workbook(p, read_only=True, data_only=False, keep_links=False)
-    except DefusedXmlException as e:
-        raise AuditInputError(f"{p.name}: refused: the workbook's XML declares entities or a DTD "
-                              f"(a possible XML bomb: {type(e).__name__})") from None
-    except Exception as e:  # openpyxl raises many types for a broken archive
-        msg = " ".join(str(e).split())[:120]
+    except Exception as e:  # openpyxl raises (and wraps) many types for a broken archive
+        bomb = _defused(e, DefusedXmlException)
+        if bomb is not None:
+            raise AuditInputError(f"{p.name}: refused: the workbook's XML declares entities or a "
+                                  f"DTD (a possible XML bomb: {type(bomb).__name__})") from None
+        msg = " ".join(str(e).replace(str(p), p.name).split())[:120]
         raise AuditInputError(f"{p.name}: not a readable XLSX workbook ({type(e).__name__}: "
                               f"{msg})") from None
     try:
@@ -208,12 +237,13 @@ def _xlsx(p: Path, sheet):
                     yield header
                 else:
                     yield r, cells
-        except DefusedXmlException as e:
-            raise AuditInputError(f"{p.name}: refused: the sheet's XML declares entities or a DTD "
-                                  f"(a possible XML bomb: {type(e).__name__})") from None
         except AuditInputError:
             raise
         except Exception as e:
+            bomb = _defused(e, DefusedXmlException)
+            if bomb is not None:
+                raise AuditInputError(f"{p.name}: refused: the sheet's XML declares entities or a "
+                                      f"DTD (a possible XML bomb: {type(bomb).__name__})") from None
             msg = " ".join(str(e).split())[:120]
             raise AuditInputError(f"{p.name}: sheet {ws.title!r} is not readable "
                                   f"({type(e).__name__}: {msg})") from None

@@ -48,6 +48,7 @@ class Row:
     tol: tuple = (None, None)  # gamma tolerances at c1, c2
     decimals: tuple = (0, 0)  # decimals printed in the gamma columns (column-wide)
     error: str | None = None
+    kind: str | None = None  # the kind named by the row, when it names a valid one
     numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed
 
 
@@ -123,9 +124,9 @@ def _check_required(name, pos, consts, header):
 def _kind_columns(name, rows, pos):
     """A kind present in the file needs its hypothesis and cutoff columns."""
     for r in rows:
-        if r.problem is None:
+        if r.kind is None:
             continue
-        k = r.problem.kind
+        k = get_kind(r.kind)
         need = list(k.takes) + (["c1"] if k.uses_c1 else []) + (["c2"] if k.uses_c2 else [])
         lacking = [c for c in need if c not in pos]
         if lacking:
@@ -162,6 +163,7 @@ def _row(line, t, consts, mark, pos) -> Row:
             which = "family" if vals["family"] is None else "kind"
             raise DesignError(f"invalid {which}: empty")
         fam, knd = get_family(vals["family"]), get_kind(vals["kind"])
+        row.kind = knd.name
         row.problem = make_problem(fam, knd, n=vals["n"], alpha=vals["alpha"], low=vals["low"],
                                    high=vals["high"], value=vals["value"],
                                    dispersion=vals["dispersion"])
