@@ -54,6 +54,8 @@ def _rows(gammas):
     (["0.1339", "0.5", "0.0123"], [5e-5, 5e-5, 5e-5]),
     # 6 significant digits: each cell keeps its own last place
     (["0.123457", "0.0123457", "0.5"], [5e-7, 5e-8, 5e-7]),
+    # a cell that shows a trailing zero was printed at its own precision
+    (["0.1340", "0.123456789"], [5e-5, 5e-10]),
     # a column of exact zeros (a non-randomised table) is exact
     (["0", "0"], [1e-12, 1e-12]),
     # 17 significant digits from a double: the floor applies

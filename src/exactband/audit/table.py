@@ -9,7 +9,8 @@ party printed, inferred per column because writers drop trailing zeros.  With
 D the most decimals and S the most significant digits printed in the column,
 a cell showing v is taken to carry max(own decimals, min(D, S - 1 - floor(log10 v)))
 decimals (so a fixed-decimals column and a significant-digits column are both
-read right, and "0.5" in a 4-decimal column means 0.5000).  A column printed
+read right, and "0.5" in a 4-decimal column means 0.5000); a cell that shows a
+trailing zero ("0.1340") was not stripped and keeps its own decimals.  A column printed
 without any decimals (gammas all 0 or 1) is taken as exact.  The tolerance is
 never below TOL_FLOOR: digits beyond that say nothing about a rule applied with
 random digits, and double-precision programs cannot honour them.
@@ -208,6 +209,11 @@ def _answers(p: Problem, t, mark, pos):
     return tuple(out), tuple(nums)
 
 
+def _trailing_zero(x: N.Number) -> bool:
+    mant = x.text.strip().lower().split("e")[0]
+    return x.decimals > 0 and mant.endswith("0") and any(c in mant for c in ".,")
+
+
 def _sig(n: N.Number) -> int:
     d = n.value.normalize().as_tuple().digits if n.value == 0 else n.value.as_tuple().digits
     return 0 if n.value == 0 else len(d)
@@ -230,7 +236,9 @@ def _tolerances(rows, fixed):
             else:
                 v = abs(x.value)
                 d_s = D if v == 0 else S - 1 - math.floor(math.log10(v))
-                d = max(x.decimals, min(D, d_s))
+                # a cell that shows a trailing zero was not stripped: its own decimals hold
+                shown = x.decimals if _trailing_zero(x) else min(D, d_s)
+                d = max(x.decimals, shown)
                 tol = max(0.5 * 10.0 ** (-d), TOL_FLOOR)
             r.tol = r.tol[:i] + (tol,) + r.tol[i + 1:]
             r.decimals = r.decimals[:i] + (D,) + r.decimals[i + 1:]
