@@ -29,13 +29,14 @@ TOLERANCE_RULE = (
 # (header, kind of value) in report order; kind: text / int / prob / sci / pct
 COLUMNS = [
     ("row", "int"), ("id", "text"), ("verdict", "text"), ("reasons", "text"),
-    ("size_excess_pct_of_alpha", "pct"), ("diagnosis", "text"), ("detail", "text"),
+    ("size_excess_pct_of_alpha", "pct"), ("power_shortfall_pct_of_alpha", "pct"),
+    ("diagnosis", "text"), ("detail", "text"),
     ("family", "text"), ("kind", "text"), ("n", "text"), ("alpha", "text"), ("low", "text"),
     ("high", "text"), ("value", "text"), ("dispersion", "text"),
-    ("their_c1", "text"), ("their_gamma1", "text"), ("their_c2", "text"), ("their_gamma2", "text"),
-    ("our_c1", "int"), ("our_gamma1", "text"), ("our_c2", "int"), ("our_gamma2", "text"),
-    ("gamma1_abs_error", "sci"), ("gamma2_abs_error", "sci"),
-    ("gamma1_tolerance", "sci"), ("gamma2_tolerance", "sci"),
+    ("their_c1", "text"), ("our_c1", "int"), ("their_gamma1", "text"), ("our_gamma1", "text"),
+    ("gamma1_abs_error", "sci"), ("gamma1_tolerance", "sci"),
+    ("their_c2", "text"), ("our_c2", "int"), ("their_gamma2", "text"), ("our_gamma2", "text"),
+    ("gamma2_abs_error", "sci"), ("gamma2_tolerance", "sci"),
     ("their_size_low", "prob"), ("their_size_high", "prob"), ("size_excess", "sci"),
     ("min_power_outside_null", "prob"), ("at_theta", "num"), ("also_consistent_with", "text"),
 ]
@@ -69,6 +70,8 @@ def record(v) -> dict:
     out["size_excess"] = excess  # how far the larger attained size exceeds alpha (0: it does not)
     out["size_excess_pct_of_alpha"] = None if excess is None or not alpha else 100.0 * excess / alpha
     out["min_power_outside_null"], out["at_theta"] = v.min_power, v.at_theta
+    short = None if v.min_power is None or not alpha else max(alpha - v.min_power, 0.0)
+    out["power_shortfall_pct_of_alpha"] = None if short is None else 100.0 * short / alpha
     return out
 
 
