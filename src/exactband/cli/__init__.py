@@ -14,7 +14,7 @@ import sys
 
 from ..errors import ExactbandError, VerificationError
 
-COMMANDS = ["design", "power", "plan", "decide"]  # module names under exactband.cli, in --help order
+COMMANDS = ["design", "power", "plan", "decide", "audit", "challenge"]  # in --help order
 
 
 class UsageError(ExactbandError):

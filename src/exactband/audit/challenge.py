@@ -1,0 +1,151 @@
+"""Challenge sets: a deterministic grid of hard designs for a vendor to fill in.
+
+Every kind and every discrete family meets each hard regime: small counts, a
+narrow band (relative widths 1e-2 to 1e-6), alpha down to 1e-6, large n, and
+for the binomial p near 0 or 1.  A seed jitters the parameters inside each
+cell of the grid (Python's random.Random, stable across versions), and every
+value is rounded to four significant digits so it prints exactly.  The same
+seed and exactband version give the same file, byte for byte.  The answer
+columns c1, gamma1, c2, gamma2 are left empty; ``exactband audit`` of the
+filled file grades it.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import random
+
+from ..fileio import safe_cell_text
+from .columns import STANDARD
+
+FAMILIES = ("poisson", "binomial", "negative-binomial")
+KINDS = ("upper", "lower", "point", "band", "equivalence")
+HEADER = ("id", "regime") + STANDARD
+INSTRUCTIONS = [
+    "Fill c1, gamma1, c2, gamma2 for every row with your program's answer; leave the other "
+    "columns as they are.",
+    "Test function: band, point: reject if Y < c1 or Y > c2, with probability gamma1 at Y = c1 and "
+    "gamma2 at Y = c2; equivalence: reject if c1 < Y < c2, gamma1 at c1, gamma2 at c2; upper uses "
+    "only c2, gamma2 (reject if Y > c2); lower only c1, gamma1 (reject if Y < c1). Gammas in "
+    "[0, 1). Leave unused cutoffs empty.",
+    "Families: poisson (rate per unit, exposure n), binomial (p, n trials), negative-binomial "
+    "(mean per unit, known dispersion k, n units). Print gammas with as many decimals as you "
+    "claim: the grading tolerance is half a unit in the last decimal printed.",
+    "Grade the filled file with: exactband audit FILLED_FILE --report DIR",
+]
+
+
+def _sig(x: float, digits: int = 4) -> float:
+    return float(f"{x:.{digits}g}")
+
+
+class _Grid:
+    def __init__(self, seed: int):
+        self.rng = random.Random(seed)
+        self.rows = []
+
+    def jitter(self, x, spread=0.15):
+        return _sig(x * (1 + self.rng.uniform(-spread, spread)))
+
+    def add(self, regime, family, kind, n, alpha, theta, width=None, k=None):
+        """One design around theta; two-point kinds get [theta, theta * (1 + width)]."""
+        row = {"regime": regime, "family": family, "kind": kind, "n": n, "alpha": alpha,
+               "dispersion": k if family == "negative-binomial" else None}
+        if kind in ("band", "equivalence"):
+            hi = theta * (1 + width) if family != "binomial" else theta + width * min(theta, 1 - theta)
+            lo, hi = _sig(theta, 8), _sig(hi, 8)
+            if not lo < hi:
+                return
+            row.update(low=lo, high=hi)
+        else:
+            row.update(value=theta)
+        self.rows.append(row)
+
+
+def _n(family, g: _Grid, poisson: float, counted: int) -> float | int:
+    """Exposure (Poisson, jittered) or number of trials / units."""
+    return g.jitter(poisson) if family == "poisson" else counted
+
+
+def grid(seed: int = 0) -> list:
+    """The challenge designs as dicts of the standard input columns (plus id, regime)."""
+    g = _Grid(seed)
+    for family in FAMILIES:
+        k = 2.0 if family == "negative-binomial" else None
+        for kind in KINDS:
+            wide = 0.5 if kind in ("band", "equivalence") else None
+            # small counts: a handful of expected events
+            n = _n(family, g, 5, 20)
+            g.add("small counts", family, kind, n, 0.05, g.jitter(2.5 / n), wide, k)
+            # alpha down to 1e-6
+            for alpha in (1e-3, 1e-6):
+                n = _n(family, g, 40, 300)
+                g.add(f"alpha {alpha:g}", family, kind, n, alpha, g.jitter(60 / n), wide, k)
+            # large n: thousands of expected events
+            n = _n(family, g, 20_000, 100_000 if family == "binomial" else 2000)
+            g.add("large n", family, kind, n, 0.01, g.jitter(5000 / n),
+                  0.05 if wide else None, 0.5 if k else None)
+            # narrow bands: the two side conditions nearly coincide
+            if kind in ("band", "equivalence"):
+                for width in (1e-2, 1e-4, 1e-6):
+                    n = _n(family, g, 50, 400)
+                    g.add(f"narrow band {width:g}", family, kind, n, 0.05, g.jitter(100 / n),
+                          width, k)
+        if family == "binomial":
+            for kind in KINDS:
+                wide = 0.5 if kind in ("band", "equivalence") else None
+                g.add("p near 0", family, kind, 5000, 0.05, g.jitter(2e-4), wide)
+                g.add("p near 1", family, kind, 500, 0.05, _sig(1 - g.jitter(1e-3), 6), wide)
+    for i, row in enumerate(g.rows, start=1):
+        row["id"] = f"CH{i:03d}"
+    return g.rows
+
+
+def _text(x) -> str:
+    if x is None:
+        return ""
+    if isinstance(x, float):
+        return repr(int(x)) if x.is_integer() and abs(x) < 1e15 else repr(x)
+    return str(x)
+
+
+def csv_bytes(rows) -> bytes:
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(HEADER)
+    for r in rows:
+        w.writerow([safe_cell_text(_text(r.get(c))) for c in HEADER])
+    return buf.getvalue().encode("utf-8")
+
+
+def xlsx_bytes(rows, seed: int) -> bytes:
+    from openpyxl import Workbook
+    from openpyxl.styles import Font, PatternFill
+
+    from .. import __version__
+    from .xlsx_report import CAUTION, _deterministic
+
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "challenge"
+    for j, name in enumerate(HEADER, start=1):
+        c = ws.cell(1, j, name)
+        c.font = Font(bold=True)
+    answer = PatternFill("solid", fgColor="FFF8DC")
+    for i, r in enumerate(rows, start=2):
+        for j, name in enumerate(HEADER, start=1):
+            v = r.get(name)
+            c = ws.cell(i, j, safe_cell_text(v) if isinstance(v, str) else v)
+            if name in ("c1", "gamma1", "c2", "gamma2"):
+                c.fill = answer
+    ws.freeze_panes = "C2"
+    info = wb.create_sheet("instructions")
+    lines = [f"exactband {__version__} challenge set, seed {seed}, {len(rows)} designs."]
+    lines += INSTRUCTIONS + [CAUTION]
+    for i, line in enumerate(lines, start=1):
+        info.cell(i, 1, safe_cell_text(line))
+    info.column_dimensions["A"].width = 140
+    buf = io.BytesIO()
+    wb.save(buf)
+    return _deterministic(buf.getvalue())

@@ -1,0 +1,244 @@
+"""From cell text to audit rows: columns resolved, numbers read, tolerances inferred.
+
+A file-level problem (no header, duplicated or missing columns, too many rows)
+raises AuditInputError.  A row-level problem (a bad number, a formula, an
+unknown family) makes that row ``invalid`` with a reason; it never stops the run.
+
+Gamma tolerance (default): half a unit in the last decimal place the third
+party printed, inferred per column because writers drop trailing zeros.  With
+D the most decimals and S the most significant digits printed in the column,
+a cell showing v is taken to carry max(own decimals, min(D, S - 1 - floor(log10 v)))
+decimals (so a fixed-decimals column and a significant-digits column are both
+read right, and "0.5" in a 4-decimal column means 0.5000); a cell that shows a
+trailing zero ("0.1340") was not stripped and keeps its own decimals.  A column printed
+without any decimals (gammas all 0 or 1) is taken as exact.  The tolerance is
+never below TOL_FLOOR: digits beyond that say nothing about a rule applied with
+random digits, and double-precision programs cannot honour them.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from ..errors import DesignError
+from ..families import get_family
+from ..kinds import get_kind
+from ..params import Problem, make_problem
+from . import columns as C
+from . import numbers as N
+from .errors import AuditInputError
+from .readers import read
+
+MAX_ROWS = 20_000
+TOL_FLOOR = 1e-12
+EMPTY = {"", "-", "\u2013", "\u2014", "na", "n/a", "none", "null"}
+NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1", "c2", "gamma2")
+
+
+@dataclass
+class Row:
+    """One row of the third party's table, read and checked."""
+
+    line: int
+    ident: str | None
+    text: dict  # standard name -> the cell text as they printed it
+    problem: Problem | None = None
+    theirs: tuple | None = None  # (c1, g1, c2, g2): int / float / None
+    tol: tuple = (None, None)  # gamma tolerances at c1, c2
+    decimals: tuple = (0, 0)  # decimals printed in the gamma columns (column-wide)
+    error: str | None = None
+    kind: str | None = None  # the kind named by the row, when it names a valid one
+    numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed
+
+
+@dataclass
+class Table:
+    name: str
+    rows: list
+    columns: dict  # standard name -> their column name
+    ignored: list
+    decimal_mark: str | None
+    notes: list = field(default_factory=list)
+
+
+@dataclass
+class Options:
+    mapping: dict = field(default_factory=dict)
+    constants: dict = field(default_factory=dict)  # family / kind / dispersion for every row
+    decimal_mark: str | None = None
+    gamma_tol: float | None = None
+    max_rows: int = MAX_ROWS
+    sheet: str | None = None
+    delimiter: str | None = None
+    encoding: str = "utf-8"
+
+
+def load(path, opts: Options) -> Table:
+    """Read and check a whole file (bounded by opts.max_rows)."""
+    p = Path(path)
+    mark = opts.decimal_mark
+    if mark is not None and mark not in (".", ","):
+        raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','")
+    stream = read(p, sheet=opts.sheet, delimiter=opts.delimiter, encoding=opts.encoding)
+    header = next(stream)
+    pos, ignored = C.resolve(header, opts.mapping)
+    for name in opts.constants:
+        if name in pos:
+            raise AuditInputError(f"{name} is given both as column {header[pos[name]]!r} and on the "
+                                  "command line / mapping file; keep one")
+    names = list(pos)
+    rows = []
+    for line, cells in stream:
+        if len(rows) >= opts.max_rows:
+            raise AuditInputError(f"{p.name}: more than {opts.max_rows} data rows; audit the table "
+                                  "in parts or raise --max-rows")
+        rows.append((line, tuple(cells[pos[k]].strip() if pos[k] < len(cells) else ""
+                                 for k in names)))
+    if not rows:
+        raise AuditInputError(f"{p.name}: the header has no data rows below it")
+    _check_required(p.name, pos, opts.constants, header)
+    texts = [dict(zip(names, cells)) for _, cells in rows]
+    if mark is None:
+        mark, mixed = N.file_mark(t[k] for t in texts for k in NUMERIC if k in t)
+    out = [_row(line, t, opts.constants, mark, pos) for (line, _), t in zip(rows, texts)]
+    _kind_columns(p.name, out, pos)
+    _tolerances(out, opts.gamma_tol)
+    notes = []
+    if "gamma1" not in pos and "gamma2" not in pos:
+        notes.append("no gamma columns: the table is read as non-randomised (every gamma 0)")
+    return Table(p.name, out, {k: header[i] for k, i in pos.items()}, ignored, mark, notes)
+
+
+def _check_required(name, pos, consts, header):
+    missing = [k for k in ("family", "kind", "n", "alpha") if k not in pos and k not in consts]
+    if not any(k in pos for k in ("c1", "c2")):
+        missing.append("c1 or c2")
+    if missing:
+        have = ", ".join(repr(h) for h in header if h) or "none"
+        raise AuditInputError(f"{name}: missing column(s) {', '.join(missing)} (columns found: "
+                              f"{have}); map them with --map OURS=THEIRS or a mapping file, or "
+                              "give family / kind once with --family / --kind")
+
+
+def _kind_columns(name, rows, pos):
+    """A kind present in the file needs its hypothesis and cutoff columns."""
+    for r in rows:
+        if r.kind is None:
+            continue
+        k = get_kind(r.kind)
+        need = list(k.takes) + (["c1"] if k.uses_c1 else []) + (["c2"] if k.uses_c2 else [])
+        lacking = [c for c in need if c not in pos]
+        if lacking:
+            raise AuditInputError(f"{name}: row {r.line} is a {k.name} design but the file has no "
+                                  f"{', '.join(lacking)} column; map it with --map")
+
+
+def _empty(text) -> bool:
+    return text.strip().casefold() in EMPTY
+
+
+def _number(field_name, text, mark):
+    try:
+        return N.parse(text, mark)
+    except N.NumberError as e:
+        raise DesignError(f"invalid {field_name}: {e}") from None
+
+
+def _row(line, t, consts, mark, pos) -> Row:
+    ident = t.get("id") or None
+    row = Row(line, ident, {k: v for k, v in t.items() if k != "id"})
+    try:
+        vals = {}
+        for k in C.INPUTS:
+            text = consts.get(k, t.get(k, ""))
+            if k in ("family", "kind"):
+                if N.is_formula(text):
+                    raise DesignError(f"invalid {k}: {text!r} is a formula; type the name")
+                vals[k] = None if _empty(text) else text
+            else:
+                vals[k] = None if _empty(text) else float(_number(k, text, mark))
+            row.text[k] = text
+        if vals["family"] is None or vals["kind"] is None:
+            which = "family" if vals["family"] is None else "kind"
+            raise DesignError(f"invalid {which}: empty")
+        fam, knd = get_family(vals["family"]), get_kind(vals["kind"])
+        row.kind = knd.name
+        row.problem = make_problem(fam, knd, n=vals["n"], alpha=vals["alpha"], low=vals["low"],
+                                   high=vals["high"], value=vals["value"],
+                                   dispersion=vals["dispersion"])
+        row.theirs, row.numbers = _answers(row.problem, t, mark, pos)
+    except DesignError as e:
+        row.error = str(e)
+    return row
+
+
+def _answers(p: Problem, t, mark, pos):
+    """Their (c1, g1, c2, g2) checked against the kind; Numbers of the gammas."""
+    out, nums = [None, None, None, None], [None, None]
+    for i, (c, g, used) in enumerate((("c1", "gamma1", p.kind.uses_c1),
+                                      ("c2", "gamma2", p.kind.uses_c2))):
+        ct, gt = t.get(c, ""), t.get(g, "")
+        if not used:
+            if not _empty(ct) or not _empty(gt):
+                keep = " and ".join(x for x, u in (("c1, gamma1", p.kind.uses_c1),
+                                                   ("c2, gamma2", p.kind.uses_c2)) if u)
+                raise DesignError(f"invalid {c} = {ct!r}: the {p.kind.name} kind uses only {keep}; "
+                                  f"leave {c} and {g} empty")
+            continue
+        if _empty(ct):
+            raise DesignError(f"invalid {c}: empty; the {p.kind.name} kind needs {c}")
+        cn = _number(c, ct, mark)
+        if not cn.is_integer() or cn.value < 0:
+            raise DesignError(f"invalid {c} = {ct!r}: a cutoff is a whole number >= 0")
+        cv = int(cn.value)
+        if p.family.integer_n and p.family.name == "binomial" and cv > p.n:
+            raise DesignError(f"invalid {c} = {ct!r}: a binomial cutoff lies between 0 and n = {p.n}")
+        if g not in pos:
+            gv, gn = 0.0, None
+        elif _empty(gt):
+            raise DesignError(f"invalid {g}: empty; write 0 for no randomisation at {c}")
+        else:
+            gn = _number(g, gt, mark)
+            if not 0 <= gn.value <= 1:
+                raise DesignError(f"invalid {g} = {gt!r}: a randomisation probability lies in [0, 1]")
+            gv = float(gn.value)
+        out[2 * i], out[2 * i + 1] = cv, gv
+        nums[i] = gn
+    return tuple(out), tuple(nums)
+
+
+def _trailing_zero(x: N.Number) -> bool:
+    mant = x.text.strip().lower().split("e")[0]
+    return x.decimals > 0 and mant.endswith("0") and any(c in mant for c in ".,")
+
+
+def _sig(n: N.Number) -> int:
+    d = n.value.normalize().as_tuple().digits if n.value == 0 else n.value.as_tuple().digits
+    return 0 if n.value == 0 else len(d)
+
+
+def _tolerances(rows, fixed):
+    good = [r for r in rows if r.error is None]
+    for i in (0, 1):
+        nums = [r.numbers[i] for r in good if r.numbers[i] is not None]
+        D = max((x.decimals for x in nums), default=0)
+        S = max((_sig(x) for x in nums), default=0)
+        for r in good:
+            x = r.numbers[i]
+            if r.theirs[2 * i] is None:
+                continue
+            if fixed is not None:
+                tol = fixed
+            elif x is None or D == 0:
+                tol = TOL_FLOOR  # no gamma column, or a column of exact 0 / 1
+            else:
+                v = abs(x.value)
+                d_s = D if v == 0 else S - 1 - math.floor(math.log10(v))
+                # a cell that shows a trailing zero was not stripped: its own decimals hold
+                shown = x.decimals if _trailing_zero(x) else min(D, d_s)
+                d = max(x.decimals, shown)
+                tol = max(0.5 * 10.0 ** (-d), TOL_FLOOR)
+            r.tol = r.tol[:i] + (tol,) + r.tol[i + 1:]
+            r.decimals = r.decimals[:i] + (D,) + r.decimals[i + 1:]

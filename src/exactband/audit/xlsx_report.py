@@ -1,0 +1,216 @@
+"""The XLSX audit report: failing rows visible at a glance.
+
+Sheet "audit": a banner with the counts, then one row per input row.  The
+verdict column is filled (finding: dark red with white text, invalid: amber,
+ok: pale green) and every finding / invalid row is tinted across its width;
+reasons, the excess of the attained size over alpha (in % of alpha) and the
+diagnosis come right after the verdict, before the numbers.  Sheet "summary":
+counts, findings by reason, diagnoses, provenance and the caution.  Bytes are
+deterministic (fixed document timestamps and zip entry dates).
+"""
+
+from __future__ import annotations
+
+import io
+import re
+import zipfile
+
+from ..fileio import safe_cell_text
+from .reports import COLUMNS, TOLERANCE_RULE, provenance, record, summary
+
+CAUTION = ("exactband computes statistical decision rules; acceptance limits, sampling plans and "
+           "consequences come from the governing standard, local regulation and qualified "
+           "professionals.")
+FILLS = {"finding": ("9C1C1C", "FFFFFF", "FBE3E3"), "invalid": ("E8A317", "000000", "FFF3D1"),
+         "ok": ("D5EDD7", "1E4620", None)}
+WRONG = ("F4B6B6", "7A0000")  # a cell holding a wrong number: stronger fill, dark red bold
+WIDTHS = {"row": 7, "id": 10, "verdict": 10, "reasons": 16, "size_excess_pct_of_alpha": 12,
+          "power_shortfall_pct_of_alpha": 12, "diagnosis": 38, "detail": 64, "family": 11,
+          "kind": 10, "also_consistent_with": 36}
+WRAP = ("reasons", "diagnosis", "detail", "also_consistent_with")
+FORMATS = {"prob": "0.000000", "sci": "0.00E+00", "pct": '0.00"%";-0.00"%";"\u2013"',
+           "num": "General", "int": "0"}
+HEADINGS = {"row": "their row", "size_excess_pct_of_alpha": "size above alpha, % of alpha",
+            "power_shortfall_pct_of_alpha": "power below alpha off H0, % of alpha"}
+LINE_HEIGHT = 15  # points per line of 11-point text
+FIXED_TIME = "2000-01-01T00:00:00Z"
+HEADER_ROW = 4
+
+
+def _cell_value(value, kind):
+    if value is None or value == "":
+        return None
+    if kind == "text":
+        return safe_cell_text(value)
+    return value
+
+
+def xlsx_bytes(result) -> bytes:
+    from openpyxl import Workbook
+    from openpyxl.styles import Alignment, Font, PatternFill
+    from openpyxl.utils import get_column_letter
+
+    cols = [(c, k) for c, k in COLUMNS if c != "id" or any(v.row.ident for v in result.verdicts)]
+    s = summary(result)
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "audit"
+    bold = Font(bold=True)
+    state = "ALL ROWS OK" if result.all_ok else "NOT ALL ROWS OK"
+    ws.cell(1, 1, safe_cell_text(f"exactband audit of {result.table.name}: {state}")).font = \
+        Font(bold=True, size=14, color="9C1C1C" if not result.all_ok else "1E4620")
+    ws.cell(2, 1, f"{s['rows']} rows: {s['ok']} ok, {s['finding']} with findings, "
+                  f"{s['invalid']} invalid.  Findings are tinted red, invalid rows amber, and the "
+                  "numbers behind each finding are marked in dark red.").font = bold
+    ws.cell(3, 1, TOLERANCE_RULE + ".  " + CAUTION).font = Font(italic=True, color="555555")
+    for j, (name, _) in enumerate(cols, start=1):
+        c = ws.cell(HEADER_ROW, j, HEADINGS.get(name, name.replace("_", " ")))
+        c.font = Font(bold=True, color="FFFFFF")
+        c.fill = PatternFill("solid", fgColor="3A3A3A")
+        c.alignment = Alignment(wrap_text=True, vertical="top")
+        ws.column_dimensions[get_column_letter(j)].width = WIDTHS.get(name, 12)
+    ws.row_dimensions[HEADER_ROW].height = 4 * LINE_HEIGHT
+    top = Alignment(vertical="top")
+    right = Alignment(vertical="top", horizontal="right")  # printed numbers line up with ours
+    wrap = Alignment(vertical="top", wrap_text=True)
+    printed = {"n", "alpha", "low", "high", "value", "dispersion", "their_c1", "their_gamma1",
+               "their_c2", "their_gamma2", "our_gamma1", "our_gamma2"}
+    for i, v in enumerate(result.verdicts, start=HEADER_ROW + 1):
+        rec = record(v)
+        wrong = _wrong_cells(v, rec)
+        strong, text_colour, tint = FILLS[v.verdict]
+        ws.row_dimensions[i].height = LINE_HEIGHT * _lines(rec)
+        for j, (name, kind) in enumerate(cols, start=1):
+            c = ws.cell(i, j, _cell_value(rec.get(name), kind))
+            c.alignment = wrap if name in WRAP else (right if name in printed else top)
+            if kind in FORMATS:
+                c.number_format = FORMATS[kind]
+            if tint:
+                c.fill = PatternFill("solid", fgColor=tint)
+            if name == "verdict":
+                c.fill = PatternFill("solid", fgColor=strong)
+                c.font = Font(bold=True, color=text_colour)
+            elif name in wrong:
+                c.fill = PatternFill("solid", fgColor=WRONG[0])
+                c.font = Font(bold=True, color=WRONG[1])
+            elif name in ("reasons", "diagnosis") and v.verdict == "finding":
+                c.font = Font(bold=True, color="9C1C1C")
+            elif v.verdict == "ok" and kind != "text":
+                c.font = Font(color="808080")  # within tolerance: the numbers recede
+    last = get_column_letter(len(cols))
+    ws.freeze_panes = ws.cell(HEADER_ROW + 1, [c for c, _ in cols].index("verdict") + 2)
+    ws.auto_filter.ref = f"A{HEADER_ROW}:{last}{HEADER_ROW + len(result.verdicts)}"
+    ws.print_title_rows = f"{HEADER_ROW}:{HEADER_ROW}"
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    _summary_sheet(wb.create_sheet("summary"), result, s, bold)
+    buf = io.BytesIO()
+    wb.save(buf)
+    return _deterministic(buf.getvalue())
+
+
+def _lines(rec) -> int:
+    """Lines the tallest wrapped cell of a row needs (LibreOffice does not fit heights)."""
+    import math
+
+    need = 1
+    for name in WRAP:
+        text = str(rec.get(name) or "")
+        per_line = max(WIDTHS.get(name, 12) - 4, 8)  # bold text runs wider than the width unit
+        words, lines, used = text.split(), 1, 0
+        for w in words:
+            if used and used + 1 + len(w) > per_line:
+                lines, used = lines + 1, len(w)
+            else:
+                used += len(w) + (1 if used else 0)
+            lines += (len(w) - 1) // per_line if len(w) > per_line else 0
+        need = max(need, lines if text else 1)
+    return min(need, 12) if math.isfinite(need) else 1
+
+
+def _wrong_cells(v, rec) -> set:
+    """Report columns that hold the numbers behind a finding (highlighted cell by cell)."""
+    out = set()
+    if v.verdict == "invalid":  # the field the reason names, e.g. "invalid alpha: ..."
+        m = re.match(r"invalid (\w+)", v.details[0] if v.details else "")
+        if m and m.group(1) in rec:
+            out.add(m.group(1))
+        elif m and f"their_{m.group(1)}" in rec:
+            out.add(f"their_{m.group(1)}")
+        return out
+    if v.verdict != "finding":
+        return out
+    if "cutoff" in v.reasons:
+        for c in ("c1", "c2"):
+            if str(rec.get(f"their_{c}") or "") != str(rec.get(f"our_{c}") or ""):
+                out.add(f"their_{c}")
+    if "gamma" in v.reasons:
+        for i, t in ((1, v.row.tol[0]), (2, v.row.tol[1])):
+            e = rec.get(f"gamma{i}_abs_error")
+            if e is not None and t is not None and e > t:
+                out.update((f"their_gamma{i}", f"gamma{i}_abs_error"))
+    if "size" in v.reasons:
+        out.update(("size_excess_pct_of_alpha", "size_excess"))
+        for name, s in (("their_size_low", rec.get("their_size_low")),
+                        ("their_size_high", rec.get("their_size_high"))):
+            if s is not None and s > v.row.problem.alpha:
+                out.add(name)
+    if "unbiasedness" in v.reasons:
+        out.update(("power_shortfall_pct_of_alpha", "min_power_outside_null", "at_theta"))
+    return out
+
+
+def _summary_sheet(ws, result, s, bold):
+    from openpyxl.styles import Alignment
+
+    rows = [("exactband audit", None), ("rows", s["rows"]), ("ok", s["ok"]),
+            ("finding", s["finding"]), ("invalid", s["invalid"]), (None, None),
+            ("findings by reason", None)]
+    rows += [(f"  {k}", n) for k, n in s["findings_by_reason"].items()] or [("  (none)", None)]
+    rows += [(None, None), ("diagnoses of the findings", None)]
+    rows += [(f"  {d}", n) for d, n in s["diagnoses"].items()] or [("  (none)", None)]
+    prov = provenance(result)
+    rows += [(None, None), ("provenance", None), ("input file", prov["input"]["file"]),
+             ("input sha256", prov["input"]["sha256"]),
+             ("decimal mark", prov["input"]["decimal_mark"] or "(none needed)"),
+             ("columns used", ", ".join(f"{k} <- {v}" for k, v in prov["input"]["columns"].items())),
+             ("ignored columns", ", ".join(prov["input"]["ignored_columns"]) or "(none)"),
+             ("exactband", prov["exactband"]), ("scipy", prov["scipy"]), ("mpmath", prov["mpmath"]),
+             ("python", prov["python"]), ("solver digits", prov["solver_digits"]),
+             ("tolerance rule", TOLERANCE_RULE)]
+    rows += [("note", n) for n in prov["notes"]]
+    rows += [(None, None), ("caution", CAUTION)]
+    for i, (k, val) in enumerate(rows, start=1):
+        if k is not None:
+            c = ws.cell(i, 1, safe_cell_text(k))
+            c.alignment = Alignment(vertical="top")
+            if not k.startswith("  "):
+                c.font = bold
+        if val is not None:
+            c = ws.cell(i, 2, safe_cell_text(val) if isinstance(val, str) else val)
+            c.alignment = Alignment(wrap_text=True, vertical="top", horizontal="left")
+            if isinstance(val, str) and len(val) > 80:
+                ws.row_dimensions[i].height = LINE_HEIGHT * (len(val) // 70 + 1)
+    ws.column_dimensions["A"].width = 78
+    ws.column_dimensions["B"].width = 70
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+
+
+def _deterministic(data: bytes) -> bytes:
+    """Fixed document timestamps and zip entry dates, so same input -> same bytes."""
+    src = zipfile.ZipFile(io.BytesIO(data))
+    out = io.BytesIO()
+    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
+        for info in src.infolist():
+            body = src.read(info.filename)
+            if info.filename == "docProps/core.xml":
+                body = re.sub(rb"(<dcterms:(created|modified)[^>]*>)[^<]*(</dcterms:)",
+                              rb"\g<1>" + FIXED_TIME.encode() + rb"\g<3>", body)
+            z = zipfile.ZipInfo(info.filename, date_time=(1980, 1, 1, 0, 0, 0))
+            z.compress_type = zipfile.ZIP_DEFLATED
+            z.external_attr = 0o600 << 16
+            dst.writestr(z, body)
+    return out.getvalue()
