@@ -111,7 +111,7 @@ def test_non_randomised_table_without_gamma_columns(cli, tmp_path):
 
 def test_unusable_options(cli, vendor, tmp_path):
     for args, words in ((("--gamma-tol", "x"), "--gamma-tol"), (("--max-rows", "0"), "--max-rows"),
-                        (("--digits", "5"), "digits"), (("--sheet", "S"), "XLSX files only")):
+                        (("--precision", "5"), "invalid precision"), (("--sheet", "S"), "XLSX files only")):
         code, _, err = cli("audit", vendor, "--report", tmp_path / "r", *args)
         assert code == 2 and words in err and err.count("\n") == 1
         assert not (tmp_path / "r").exists()

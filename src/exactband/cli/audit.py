@@ -7,6 +7,8 @@ import math
 import os
 import sys
 
+from .common import check_precision
+
 EXAMPLE = """\
 examples:
   exactband audit vendor_table.csv --report audit_out
@@ -54,7 +56,7 @@ def add_parser(sub) -> None:
     j.add_argument("--gamma-tol", metavar="X",
                    help="absolute gamma tolerance for every row (default: half a unit in the last "
                         "decimal they printed, inferred per column)")
-    j.add_argument("--digits", metavar="D", default="50",
+    j.add_argument("--precision", metavar="D", default="50",
                    help="significant digits of the high-precision solver (default 50)")
     j.add_argument("--workers", metavar="N",
                    help="processes for the recomputation (default: the CPU count, at most 4)")
@@ -123,7 +125,7 @@ def run(args) -> int:
                else _int("workers", args.workers, 1))
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
         raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
-    result = audit(args.file, opts, digits=args.digits, workers=workers,
+    result = audit(args.file, opts, digits=check_precision(args.precision), workers=workers,
                    progress=progress_printer)
     if args.report is not None:
         reports.write(result, args.report)
