@@ -14,7 +14,7 @@ import sys
 
 from ..errors import ExactbandError, VerificationError
 
-COMMANDS = ["design"]  # module names under exactband.cli, in --help order
+COMMANDS = ["design", "table"]  # module names under exactband.cli, in --help order
 
 
 class UsageError(ExactbandError):
