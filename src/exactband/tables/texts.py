@@ -125,8 +125,8 @@ def cover_blocks(tset, sections_) -> list:
                       f"with t2. Take the digits from the random-digit page in order, starting "
                       f"where your supervisor says, cross them out as you use them and never "
                       f"use them twice. Flooring makes the rejection chance t/{10 ** d}, never "
-                      f"above gamma, so the size stays at or below alpha; the columns 'Size, "
-                      f"random digits' give the sizes attained this way."))
+                      f"above gamma, so the size stays at or below alpha; the columns 'Size "
+                      f"with random digits' give the sizes attained this way."))
     b += [("example", line) for line in example_lines(sections_[0], d)]
     if spec.conservative:
         b.append(("heading", "Without random digits: the conservative rule"))

@@ -25,8 +25,10 @@ from .write_csv import COLUMNS, csv_row
 FIXED_TIME = datetime.datetime(2000, 1, 1, 0, 0, 0)
 ZIP_TIME = (2000, 1, 1, 0, 0, 0)
 PAPER = {"A4": "9", "Letter": "1"}  # OOXML paperSize codes
-COVER_WIDTH = 110  # characters
-BOLD = Font(bold=True)
+COVER_WIDTH = 78  # characters: fits A4 and Letter portrait unscaled (LibreOffice does not
+# scale a one-column sheet to the page width)
+FONT = "Calibri"
+BOLD = Font(name=FONT, bold=True)
 THIN = Side(style="thin")
 MEDIUM = Side(style="medium")
 WRAP = Alignment(wrap_text=True, vertical="top")
@@ -70,16 +72,20 @@ def _page(ws, spec, landscape: bool, heading: str) -> None:
         part.size = 8
 
 
-def _lines(text: str, width: int) -> int:
-    return sum(max(1, math.ceil(len(p) / (width * 0.9))) for p in text.split("\n"))
+def _lines(text: str, width: float, fill: float = 0.8) -> int:
+    """Lines a wrapped text needs in a cell ``width`` characters wide (an estimate that
+    errs on the high side: a cut line is worse than a blank one)."""
+    return sum(max(1, math.ceil(len(p) / (width * fill))) for p in text.split("\n"))
 
 
 def _cover(wb, tset, sections, blocks) -> None:
     ws = wb.active
     ws.title = "Cover"
     ws.column_dimensions["A"].width = COVER_WIDTH
-    styles = {"title": Font(bold=True, size=16), "heading": Font(bold=True, size=12),
-              "caution": Font(bold=True, size=11), "example": Font(italic=True)}
+    styles = {"title": Font(name=FONT, bold=True, size=16),
+              "heading": Font(name=FONT, bold=True, size=12),
+              "caution": Font(name=FONT, bold=True, size=11),
+              "example": Font(name=FONT, italic=True)}
     r = 0
     for style, text in blocks:
         r += 1
@@ -94,9 +100,9 @@ def _cover(wb, tset, sections, blocks) -> None:
             c.fill = SHADE
         size = 20 if style == "title" else 15
         ws.row_dimensions[r].height = size * _lines(text, COVER_WIDTH * (0.7 if style == "title"
-                                                                          else 1))
+                                                                          else 1), fill=1.0)
     r += 2
-    ws.cell(row=r, column=1, value="Contents").font = Font(bold=True, size=12)
+    ws.cell(row=r, column=1, value="Contents").font = Font(name=FONT, bold=True, size=12)
     for s in sections:
         r += 1
         ws.cell(row=r, column=1, value=f"Sheet '{s.sheet}': {s.heading} ({len(s.rows)} rows)")
@@ -119,7 +125,7 @@ def _section(wb, tset, s) -> None:
     ncol = len(s.columns)
     last = get_column_letter(ncol)
     ws["A1"] = safe_cell_text(tset.spec.title)
-    ws["A1"].font = Font(bold=True, size=12)
+    ws["A1"].font = Font(name=FONT, bold=True, size=12)
     ws["A2"] = f"{s.heading}.  {s.hypothesis}"
     ws["A2"].font = BOLD
     ws["A3"] = s.rule
@@ -190,7 +196,8 @@ def _digits(wb, tset) -> None:
         ws.cell(row=r, column=1, value=line + 1).font = mono
         chunk = digits[line * 50:(line + 1) * 50]
         for g in range(10):
-            ws.cell(row=r, column=2 + g, value=chunk[g * 5:(g + 1) * 5]).font = mono
+            cell = ws.cell(row=r, column=2 + g, value=chunk[g * 5:(g + 1) * 5])
+            cell.font, cell.alignment = mono, Alignment(horizontal="center")
     ws.column_dimensions["A"].width = 6
     for g in range(10):
         ws.column_dimensions[get_column_letter(2 + g)].width = 8
@@ -201,7 +208,7 @@ def _digits(wb, tset) -> None:
 def _provenance(wb, tset, rows) -> None:
     ws = wb.create_sheet("Provenance")
     ws["A1"] = "Provenance"
-    ws["A1"].font = Font(bold=True, size=12)
+    ws["A1"].font = Font(name=FONT, bold=True, size=12)
     for i, (label, value) in enumerate(rows, start=3):
         ws.cell(row=i, column=1, value=label).font = BOLD
         ws.cell(row=i, column=2, value=safe_cell_text(value)).alignment = WRAP
