@@ -11,10 +11,11 @@ Number text:
   30-digit decimal of the verifying solver, so the printed digits agree with
   the thresholds t = floor(gamma * 10**d) and never show 1;
 * sizes: truncated to 3 - e decimals, e the exponent of alpha's leading digit
-  (alpha = 0.05 -> 5 decimals, about three significant digits), after adding
-  NOISE = 1e-13 so that float rounding of a size equal to a printed value
-  (0.04999999999999999 for 0.05) does not lose the last digit; a printed size
-  therefore never exceeds the attained size by more than 1e-13.
+  (alpha = 0.05 -> 5 decimals, about three significant digits), after scaling
+  by 1 + NOISE (NOISE = 1e-12, far above the ~1e-15 relative rounding of the
+  float sizes) so that a size equal to a printed value (0.04999999999999999
+  for 0.05) does not lose its last digit; a printed size therefore never
+  exceeds the attained size by more than a relative 1e-12.
 """
 
 from __future__ import annotations
@@ -59,7 +60,7 @@ class Section:
     group_starts: tuple  # row indices where a new band / value begins
 
 
-NOISE = Decimal("1e-13")
+NOISE = Decimal("1e-12")
 PRINT_KEYS = ("low", "high", "value", "n", "c1", "gamma1", "t1", "c2", "gamma2", "t2",
               "digit_rule_size_low", "digit_rule_size_high", "conservative_size_low",
               "conservative_size_high")
@@ -77,13 +78,13 @@ def plain(x) -> str:
 
 def floor_text(decimal_text: str, places: int) -> str:
     q = Decimal(1).scaleb(-places)
-    return str(Decimal(decimal_text).quantize(q, rounding=ROUND_FLOOR))
+    return format(Decimal(decimal_text).quantize(q, rounding=ROUND_FLOOR), "f")
 
 
 def size_text(x: float, places: int) -> str:
-    """A size truncated to ``places`` decimals, after adding NOISE (float rounding)."""
+    """A size truncated to ``places`` decimals, after scaling by 1 + NOISE (float rounding)."""
     q = Decimal(1).scaleb(-places)
-    return str((Decimal(repr(float(x))) + NOISE).quantize(q, rounding=ROUND_FLOOR))
+    return format((Decimal(repr(float(x))) * (1 + NOISE)).quantize(q, rounding=ROUND_FLOOR), "f")
 
 
 def size_decimals(alpha: float) -> int:

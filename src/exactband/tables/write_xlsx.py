@@ -46,6 +46,12 @@ class _FixedZip(zipfile.ZipFile):
             zinfo_or_arcname.external_attr = 0o644 << 16
         super().writestr(zinfo_or_arcname, data, compress_type, compresslevel)
 
+    def write(self, filename, arcname=None, compress_type=None, compresslevel=None):
+        """openpyxl adds worksheets from temporary files: use their bytes, not their mtime."""
+        with open(filename, "rb") as fh:
+            data = fh.read()
+        self.writestr(arcname if arcname is not None else str(filename), data)
+
 
 def _hf(text: str) -> str:
     """Text for a header/footer field ('&' is a control character there)."""
