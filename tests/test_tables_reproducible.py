@@ -20,7 +20,7 @@ from exactband.errors import VerificationError
 from exactband.tables import build as build_mod
 from exactband.tables import cache as cache_mod
 from exactband.tables import generate
-from tables_support import SMALL, built, write_spec
+from .tables_support import SMALL, built, write_spec
 
 FINAL = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")
 

@@ -8,8 +8,9 @@
 from .api import design, designs
 from .design import Design
 from .errors import DesignError, ExactbandError, VerificationError
+from .planning import plan
 
 __version__ = "0.1.0"
 
 __all__ = ["Design", "DesignError", "ExactbandError", "VerificationError", "design", "designs",
-           "__version__"]
+           "plan", "__version__"]

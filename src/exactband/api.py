@@ -14,6 +14,7 @@ import numpy as np
 from .crosscheck import compare
 from .design import Design
 from .errors import DesignError, VerificationError, invalid
+from .families.mptable import TableTooLarge
 from .params import Problem, make_problem
 from .solvers import fast, precise
 
@@ -90,8 +91,13 @@ def from_fast(p: Problem, sol: tuple) -> Design:
 
 def verify_one(p: Problem, sol: tuple, digits: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
-    pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                       value=p.value, dispersion=p.dispersion, digits=digits)
+    try:
+        pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
+                           value=p.value, dispersion=p.dispersion, digits=digits)
+    except TableTooLarge as e:
+        raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
+                          f"high-precision check ({e} per probability table); use a smaller "
+                          "n or the unverified fast path") from None
     cc = compare(p.kind.name, p.alpha, sol, pd, digits)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
@@ -176,67 +182,4 @@ def verify_many(problems, sols, digits, workers=None, progress=None) -> list:
     return out
 
 
-COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
-
-
-def _cell(v):
-    if v is None:
-        return None
-    try:
-        import pandas as pd
-
-        if v is pd.NA:
-            return None
-    except ImportError:  # pragma: no cover
-        pass
-    if isinstance(v, float) and math.isnan(v):
-        return None
-    if isinstance(v, np.floating):
-        return None if np.isnan(v) else float(v)
-    if isinstance(v, np.integer):
-        return int(v)
-    return v
-
-
-def designs(frame, *, verify=True, digits=50, workers=None):
-    """Batch form of ``design`` over a DataFrame.
-
-    ``frame`` has columns family, kind, n, alpha and, where used, low, high,
-    value, dispersion (missing or NaN where unused).  Returns a copy with
-    c1, gamma1, c2, gamma2 added (c1/c2 as nullable integers).  ``verify=False``
-    is the pure fast path; with ``verify=True`` every row is also solved in high
-    precision (on ``workers`` processes) and must agree.  A bad row raises
-    DesignError naming the row.
-    """
-    import pandas as pd
-
-    missing = [c for c in ("family", "kind", "n", "alpha") if c not in frame.columns]
-    if missing:
-        raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
-                          f"expected columns {', '.join(COLUMNS)}")
-    d = check_digits(digits)
-    problems = []
-    cols = {c: (frame[c].tolist() if c in frame.columns else [None] * len(frame)) for c in COLUMNS}
-    for pos, lab in enumerate(frame.index):
-        row = {c: _cell(cols[c][pos]) for c in COLUMNS}
-        try:
-            problems.append(make_problem(row["family"], row["kind"], n=row["n"],
-                                         alpha=row["alpha"], low=row["low"], high=row["high"],
-                                         value=row["value"], dispersion=row["dispersion"]))
-        except DesignError as e:
-            raise DesignError(f"row {lab}: {e}") from None
-    sols = fast_solve(problems) if problems else []
-    if verify and problems:
-        try:
-            ds = verify_many(problems, sols, d, workers=workers)
-        except VerificationError as e:
-            raise VerificationError(str(e)) from None
-        sols = [(x.c1, x.gamma1, x.c2, x.gamma2) for x in ds]
-    else:
-        sols = [_canonical(*s, p.kind.name) for s, p in zip(sols, problems)]
-    out = frame.copy()
-    out["c1"] = pd.array([s[0] for s in sols], dtype="Int64")
-    out["gamma1"] = pd.array([np.nan if s[1] is None else s[1] for s in sols], dtype="float64")
-    out["c2"] = pd.array([s[2] for s in sols], dtype="Int64")
-    out["gamma2"] = pd.array([np.nan if s[3] is None else s[3] for s in sols], dtype="float64")
-    return out
+from .batch import COLUMNS, designs  # noqa: E402,F401  (batch form re-exported)

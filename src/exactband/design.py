@@ -189,7 +189,7 @@ class Design:
         fam, knd = self.problem.family, self.problem.kind
         return "H0: " + knd.summary.format(
             t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
-            high=_num(self.high)) + (f" ({fam.theta_unit})" if fam.theta_unit else "")
+            high=_num(self.high))
 
     def describe(self) -> str:
         """The decision rule in plain words."""
@@ -202,8 +202,9 @@ class Design:
         lines.append("Y = the total count over the sample." if fam.name != "binomial"
                      else "Y = the number of successes among the n trials.")
         lines.extend(_rule_lines(self))
-        sizes = ", ".join(f"{_num(t)}: {s:.6g}" for t, s in zip(self.points, self.sizes))
-        lines.append(f"Probability of rejecting H0 at the constraint points: {sizes}.")
+        word = fam.theta_word
+        sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, self.sizes))
+        lines.append(f"Size (probability of rejecting H0) {sizes}.")
         if self.verified:
             lines.append(f"Verified: the fast and the {self.digits}-digit solvers agree.")
         return "\n".join(lines)

@@ -11,6 +11,14 @@ from .families.base import as_real
 from .kinds import Kind, get_kind
 
 
+# Supported range of alpha (inside (0, 1)).  Below 1e-100 tail probabilities approach
+# the double-precision underflow; an equivalence design is solved through its
+# complement of size 1 - alpha, which a double resolves only for alpha >= 1e-12.
+ALPHA_MIN = 1e-100
+ALPHA_MIN_EQUIVALENCE = 1e-12
+ALPHA_MAX = 1.0 - 1e-12
+
+
 @dataclass(frozen=True)
 class Problem:
     """Everything that defines a design, checked; build it with ``make_problem``."""
@@ -67,8 +75,10 @@ def make_problem(family, kind, *, n, alpha, low=None, high=None, value=None,
     if knd.two_point and not vals["low"] < vals["high"]:
         raise invalid("low", given["low"], f"low must be smaller than high (high = {given['high']})")
     k = fam.check_dispersion(dispersion)
-    if a < 1e-300 or (knd.name != "equivalence" and 1.0 - a < 1e-15):
-        raise invalid("alpha", alpha, "alpha must satisfy 1e-300 <= alpha <= 1 - 1e-15")
+    lo_alpha = ALPHA_MIN_EQUIVALENCE if knd.name == "equivalence" else ALPHA_MIN
+    if not lo_alpha <= a <= ALPHA_MAX:
+        raise invalid("alpha", alpha, f"{knd.name} designs are computed for "
+                      f"{lo_alpha:g} <= alpha <= 1 - {1 - ALPHA_MAX:.0e}")
     for name, x in vals.items():
         if fam.integer_n is False and not math.isfinite(n_ok * x):
             raise invalid(name, given[name], "n * theta overflows")

@@ -14,7 +14,7 @@ import sys
 
 from ..errors import ExactbandError, VerificationError
 
-COMMANDS = ["design", "table"]  # module names under exactband.cli, in --help order
+COMMANDS = ["design", "power", "plan", "decide", "table"]  # modules under exactband.cli, in --help order
 
 
 class UsageError(ExactbandError):
@@ -22,7 +22,12 @@ class UsageError(ExactbandError):
 
 
 class Parser(argparse.ArgumentParser):
-    """argparse with one-line errors and exit code 2."""
+    """argparse with one-line errors and exit code 2; options are never abbreviated
+    (so a mistyped --n cannot silently become --n-max)."""
+
+    def __init__(self, *args, **kwargs):
+        kwargs.setdefault("allow_abbrev", False)
+        super().__init__(*args, **kwargs)
 
     def error(self, message):  # noqa: D401 - argparse API
         raise UsageError(f"{self.prog}: {message}")

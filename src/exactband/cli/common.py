@@ -10,13 +10,17 @@ KIND_HELP = ("hypothesis: band (low <= theta <= high), point (theta = value), "
              "equivalence (theta <= low or theta >= high)")
 
 
-def add_design_options(p: argparse.ArgumentParser, required: bool = True) -> None:
+def add_design_options(p: argparse.ArgumentParser, required: bool = True,
+                       include_n: bool = True) -> None:
+    """The design options; the solver precision is --precision (--digits is left free
+    for the random digits an inspector reads)."""
     g = p.add_argument_group("design")
     g.add_argument("--family", required=required, metavar="NAME", help=FAMILY_HELP)
     g.add_argument("--kind", required=required, metavar="KIND", help=KIND_HELP)
-    g.add_argument("--n", required=required, metavar="N",
-                   help="exposure (poisson: real > 0, e.g. hours or square metres) or number of "
-                        "trials / units (binomial, negative-binomial: whole number >= 1)")
+    if include_n:
+        g.add_argument("--n", required=required, metavar="N",
+                       help="exposure (poisson: real > 0, e.g. hours or square metres) or number "
+                            "of trials / units (binomial, negative-binomial: whole number >= 1)")
     g.add_argument("--alpha", required=required, metavar="A", help="size of the test, 0 < A < 1")
     g.add_argument("--low", metavar="X", help="lower end of the band (band, equivalence)")
     g.add_argument("--high", metavar="X", help="upper end of the band (band, equivalence)")
@@ -24,10 +28,23 @@ def add_design_options(p: argparse.ArgumentParser, required: bool = True) -> Non
     g.add_argument("--dispersion", metavar="K",
                    help="known dispersion k > 0 of the negative-binomial family "
                         "(variance per unit = theta + theta^2/k)")
-    g.add_argument("--digits", default="50", metavar="D",
+    g.add_argument("--precision", default="50", metavar="D",
                    help="significant digits of the verifying high-precision solver (default 50)")
 
 
+def check_precision(value) -> int:
+    """--precision as the solvers' digits; the message names the option the user typed."""
+    from ..api import MAX_DIGITS, MIN_DIGITS, check_digits
+    from ..errors import DesignError, invalid
+
+    try:
+        return check_digits(value)
+    except DesignError:
+        raise invalid("precision", value, f"a whole number of significant digits from "
+                      f"{MIN_DIGITS} to {MAX_DIGITS}") from None
+
+
 def design_kwargs(args) -> dict:
+    args.precision = check_precision(args.precision)
     return dict(n=args.n, alpha=args.alpha, low=args.low, high=args.high, value=args.value,
-                dispersion=args.dispersion, digits=args.digits)
+                dispersion=args.dispersion, digits=args.precision)

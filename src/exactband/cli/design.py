@@ -13,15 +13,16 @@ examples:
       flaws counted on 25 bolts of cloth; H0: the flaw rate per bolt lies in [2, 2.5]
   exactband design --family binomial --kind upper --n 50 --value 0.1 --alpha 0.05 --json
 
-The rule: reject H0 when Y (the total over the sample) is beyond the cutoffs; at a
-cutoff itself reject with the stated probability (the randomisation gamma).
+The rule: reject H0 when Y (the total over the sample) is beyond the cutoffs c1, c2
+(equivalence: strictly between them); at a cutoff itself reject with the stated
+probability (the randomisation gamma1 at c1, gamma2 at c2).
 """
 
 
 def add_parser(sub) -> None:
     p = sub.add_parser(
         "design", help="compute one exact test and print the rule",
-        description="Compute the exact optimal test for one design with the fast solver, "
+        description="Compute the exact optimal test for one design with the fast solver,\n"
                     "verify it with the high-precision solver, and print the decision rule.",
         epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
     add_design_options(p)

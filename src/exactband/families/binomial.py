@@ -10,6 +10,7 @@ from ..mpnum import dec
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
 
+from . import mptable as mt
 from .base import Family
 from .floatlaw import BinomialLaw
 
@@ -26,12 +27,21 @@ class BinomialMp:
         if self.mode > self.n:
             self.mode = self.n
         self.mean = self.n * self.p
+        self.variance = self.n * self.p * self.q
         self._odds = self.p / self.q
+        self._o = mt.raw(self._odds)
+        self._io = mt.raw(self.q / self.p)
 
     def log_pmf(self, y):
         n = self.n
         return (mp.loggamma(n + 1) - mp.loggamma(y + 1) - mp.loggamma(n - y + 1)
                 + y * mp.log(self.p) + (n - y) * mp.log(self.q))
+
+    def up(self, p, y, prec):
+        return mt.div_int(mt.mul_int(mt.mul(p, self._o, prec), self.n - y, prec), y + 1, prec)
+
+    def down(self, p, y, prec):
+        return mt.div_int(mt.mul_int(mt.mul(p, self._io, prec), y, prec), self.n - y + 1, prec)
 
     def ratio(self, y):
         return (self.n - y) * self._odds / (y + 1)
@@ -70,6 +80,6 @@ class Binomial(Family):
 
 
 BINOMIAL = Binomial(
-    name="binomial", theta_word="proportion p", theta_unit="per trial", n_word="number of trials n",
+    name="binomial", theta_word="p", theta_unit="per trial", n_word="number of trials n",
     integer_n=True, uses_dispersion=False,
 )

@@ -5,6 +5,8 @@ parameter value a family supplies, in mpmath arithmetic,
 
 * ``log_pmf(y)``  the log mass at one point (mpmath's loggamma/log),
 * ``ratio(y)``    pmf(y+1)/pmf(y), and ``down_ratio(y)`` = pmf(y-1)/pmf(y),
+* ``up(p, y, prec)`` / ``down(p, y, prec)`` the same steps on libmp values
+  (``p * ratio(y)`` with one or two roundings; see ``mul``, ``div_int`` here),
 * ``mode``        where the table starts,
 * tail bounds     an upper bound on every later ratio, so truncation is bounded.
 
@@ -27,12 +29,49 @@ from mpmath import libmp
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
+_RND = libmp.round_nearest
+_MAX_EXACT_SPAN = 60_000  # bits: beyond this the smallest masses are below any tolerance
+
+
+def raw(x):
+    """The libmp value (sign, mantissa, exponent, bitcount) of an mpf."""
+    return x._mpf_
+
+
+def mul(x, y, prec):
+    """x * y for libmp values, rounded to prec bits."""
+    return libmp.mpf_mul(x, y, prec, _RND)
+
+
+def mul_int(x, k: int, prec):
+    return libmp.mpf_mul_int(x, k, prec, _RND)
+
+
+def div(x, y, prec):
+    return libmp.mpf_div(x, y, prec, _RND)
+
+
+def div_int(x, d: int, prec):
+    """x / d for a positive integer d, one rounding (mpmath's normalize)."""
+    sign, man, exp, _ = x
+    if not man:
+        return x
+    shift = prec + d.bit_length() + 4
+    q = (man << shift) // d
+    return libmp.normalize(sign, q, exp - shift, q.bit_length(), prec, _RND)
+
+
+MAX_TABLE = 3_000_000  # terms per table; beyond this the precise solver declines
+
+
+class TableTooLarge(OverflowError):
+    """The law is too spread out to tabulate within MAX_TABLE terms."""
 
 
 class MpTable:
     """pmf / cdf / sf / first moments of one discrete law, at working precision."""
 
-    def __init__(self, law, thr, moments: bool = False, max_len: int = 20_000_000):
+    def __init__(self, law, thr, moments: bool = False, max_len: int = MAX_TABLE):
         self.law = law
         self.thr = thr
         self.moments = moments
@@ -40,66 +79,64 @@ class MpTable:
         self.supmax = law.supmax  # None for unbounded support
         self._prec = mp.mp.prec
         m0 = law.mode
-        p0 = mp.exp(law.log_pmf(m0))
+        sd = float(mp.sqrt(law.variance))
+        if sd * 2 * float(mp.sqrt(2 * -mp.log(thr))) > max_len:  # the window needs ~ +-K sd
+            raise TableTooLarge(f"more than {max_len:,} terms")
+        p0 = raw(mp.exp(law.log_pmf(m0)))
         self.lo = self.hi = m0
-        self._right = [p0]  # pmf(m0), pmf(m0+1), ...
+        self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
         self._left = []  # pmf(m0-1), pmf(m0-2), ...
-        self._trunc_right = self._grow_right(None)
-        self._trunc_left = self._grow_left(None)
+        self._trunc_right = self._grow(True, None)
+        self._trunc_left = self._grow(False, None)
         self._sums = None
 
     # -- building ----------------------------------------------------------
-    def _grow_right(self, until):
-        law, thr = self.law, self.thr
-        y, p = self.hi, self._right[-1]
-        rest = _ZERO
-        while self.supmax is None or y < self.supmax:
-            p = p * law.ratio(y)
-            y += 1
-            self._right.append(p)
-            if p < thr and (until is None or y >= until):
-                bound = law.right_bound(y)
-                if bound < 1:
-                    rest = p * bound / (1 - bound)
-                    if rest < thr:
-                        break
-            if len(self._right) > self.max_len:
-                raise OverflowError("probability table too long")
-        else:
-            rest = _ZERO
-        self.hi = y
-        return rest
+    # The tables hold libmp values (mpmath's own number representation, without
+    # the mpf wrapper) so that filling them costs one or two roundings per term.
+    def _grow(self, up: bool, until):
+        """Extend the table to the right (up) or left until the rest is provably < thr.
 
-    def _grow_left(self, until):
-        law, thr = self.law, self.thr
-        y = self.lo
-        p = self._left[-1] if self._left else self._right[0]
-        rest = _ZERO
-        while y > 0:
-            p = p * law.down_ratio(y)
-            y -= 1
-            self._left.append(p)
-            if p < thr and (until is None or y <= until):
-                bound = law.left_bound(y)
-                if bound < 1:
-                    rest = p * bound / (1 - bound)
-                    if rest < thr:
-                        break
-            if len(self._left) > self.max_len:
-                raise OverflowError("probability table too long")
+        Returns the bound on the mass left out on that side.
+        """
+        law, thr, prec = self.law, raw(self.thr), self._prec
+        lt = libmp.mpf_lt
+        if up:
+            y, p, out, step, bound_at = self.hi, self._right[-1], self._right, law.up, law.right_bound
         else:
-            rest = _ZERO
-        self.lo = y
+            y = self.lo
+            p = self._left[-1] if self._left else self._right[0]
+            out, step, bound_at = self._left, law.down, law.left_bound
+        rest = _ZERO
+        with mp.workprec(prec):
+            while (y > 0) if not up else (self.supmax is None or y < self.supmax):
+                p = step(p, y, prec)
+                y += 1 if up else -1
+                out.append(p)
+                far = until is None or (y >= until if up else y <= until)
+                if far and lt(p, thr):
+                    bound = bound_at(y)
+                    if bound < 1:
+                        rest = mp.make_mpf(p) * bound / (1 - bound)
+                        if rest < self.thr:
+                            break
+                if len(out) > self.max_len:
+                    raise TableTooLarge(f"more than {self.max_len:,} terms")
+            else:
+                rest = _ZERO
+        if up:
+            self.hi = y
+        else:
+            self.lo = y
         return rest
 
     def extend(self, lo, hi):
         """Make the window hold [lo, hi] (as far as the support allows)."""
         with mp.workprec(self._prec):
             if hi > self.hi:
-                self._trunc_right = self._grow_right(hi)
+                self._trunc_right = self._grow(True, hi)
                 self._sums = None
             if lo < self.lo:
-                self._trunc_left = self._grow_left(lo)
+                self._trunc_left = self._grow(False, lo)
                 self._sums = None
 
     @property
@@ -108,31 +145,34 @@ class MpTable:
         return self._trunc_left + self._trunc_right
 
     def _build(self):
-        prec, rnd = self._prec, libmp.round_nearest
-        add = libmp.mpf_add
+        """Prefix and suffix sums, exact: every mass is an integer multiple of 2**e0.
 
-        def radd(u, v):
-            return add(u, v, prec, rnd)
-
-        self.p = list(reversed(self._left)) + self._right
-        raw = [v._mpf_ for v in self.p]
-        F = list(accumulate(raw, radd))
-        S = list(accumulate(reversed(raw), radd))
+        Summing exactly in Python integers is much cheaper than rounding each
+        partial sum, and keeps full relative accuracy in both tails; values are
+        rounded to the working precision only when read.
+        """
+        vals = list(reversed(self._left)) + self._right
+        e0 = min(v[2] for v in vals if v[1])
+        span = max(v[2] + v[3] for v in vals) - e0
+        if span > _MAX_EXACT_SPAN:  # astronomically spread table: drop what cannot matter
+            e0 = max(v[2] + v[3] for v in vals) - _MAX_EXACT_SPAN
+        ints = [(v[1] << (v[2] - e0)) if v[2] >= e0 else (v[1] >> (e0 - v[2])) for v in vals]
+        F = list(accumulate(ints))
+        S = list(accumulate(reversed(ints)))
         S.reverse()
-        S = S[1:] + [libmp.fzero]
-        mk = mp.make_mpf
-        self.F = [mk(v) for v in F]
-        self.S = [mk(v) for v in S]
+        S = S[1:] + [0]
+        self._e0, self._p, self._F, self._S = e0, vals, F, S
         if self.moments:
-            with mp.workprec(prec):
-                yp = [((self.lo + i) * v)._mpf_ for i, v in enumerate(self.p)]
-            M = list(accumulate(yp, radd))
-            MS = list(accumulate(reversed(yp), radd))
+            yp = [(self.lo + i) * v for i, v in enumerate(ints)]
+            M = list(accumulate(yp))
+            MS = list(accumulate(reversed(yp)))
             MS.reverse()
-            MS = MS[1:] + [libmp.fzero]
-            self.M = [mk(v) for v in M]
-            self.MS = [mk(v) for v in MS]
+            self._M, self._MS = M, MS[1:] + [0]
         self._sums = True
+
+    def _num(self, k: int):
+        """mpf of the integer k * 2**e0, rounded to the working precision."""
+        return mp.make_mpf(libmp.from_man_exp(k, self._e0, self._prec, _RND))
 
     def _ready(self):
         if self._sums is None:
@@ -143,7 +183,7 @@ class MpTable:
         self._ready()
         if y < self.lo or y > self.hi:
             return _ZERO
-        return self.p[y - self.lo]
+        return mp.make_mpf(self._p[y - self.lo])
 
     def cdf(self, y):
         """P(Y <= y)."""
@@ -152,7 +192,7 @@ class MpTable:
             return _ZERO
         if y > self.hi:
             return _ONE
-        return self.F[y - self.lo]
+        return self._num(self._F[y - self.lo])
 
     def sf(self, y):
         """P(Y > y)."""
@@ -161,7 +201,7 @@ class MpTable:
             return _ONE
         if y >= self.hi:
             return _ZERO
-        return self.S[y - self.lo]
+        return self._num(self._S[y - self.lo])
 
     def moment_below(self, y):
         """E[Y; Y <= y]."""
@@ -169,26 +209,26 @@ class MpTable:
         if y < self.lo:
             return _ZERO
         if y > self.hi:
-            return self.M[-1]
-        return self.M[y - self.lo]
+            return self._num(self._M[-1])
+        return self._num(self._M[y - self.lo])
 
     def moment_above(self, y):
         """E[Y; Y > y]."""
         self._ready()
         if y < self.lo:
-            return self.M[-1]
+            return self._num(self._M[-1])
         if y >= self.hi:
             return _ZERO
-        return self.MS[y - self.lo]
+        return self._num(self._MS[y - self.lo])
 
     # -- quantiles ------------------------------------------------------------
     def first_cdf_above(self, a):
         """min{c : P(Y <= c) > a} (c1 of a left tail of mass a)."""
         self._ready()
-        return self.lo + bisect_right(self.F, a)
+        return self.lo + bisect_right(self._F, a, key=self._num)
 
     def first_sf_at_most(self, r):
         """min{c : P(Y > c) <= r} (c2 of a right tail of mass r)."""
         self._ready()
         # S is non-increasing; the first index with S[i] <= r
-        return self.lo + bisect_left(self.S, -r, key=lambda v: -v)
+        return self.lo + bisect_left(self._S, -r, key=lambda v: -self._num(v))

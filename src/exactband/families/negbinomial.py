@@ -16,6 +16,7 @@ from ..mpnum import dec
 
 _ZERO = mp.mpf(0)
 
+from . import mptable as mt
 from .base import Family
 from .floatlaw import NegBinomialLaw
 
@@ -31,6 +32,8 @@ class NegBinomialMp:
         self.q = self.r / (self.r + self.m)
         self.qc = self.m / (self.r + self.m)  # 1 - q
         self.mean = self.m
+        self.variance = self.m + self.m * self.m / self.r
+        self._qc = mt.raw(self.qc)
         if self.r > 1:
             self.mode = int(mp.floor((self.r - 1) * self.qc / self.q))
         else:
@@ -40,6 +43,16 @@ class NegBinomialMp:
         r = self.r
         return (mp.loggamma(y + r) - mp.loggamma(r) - mp.loggamma(y + 1)
                 + r * mp.log(self.q) + y * mp.log(self.qc))
+
+    def up(self, p, y, prec):
+        # pmf(y+1) = pmf(y) * (y + r) (1 - q) / (y + 1)
+        t = mt.mul(mt.mul(p, self._qc, prec), mt.raw(self.r + y), prec)
+        return mt.div_int(t, y + 1, prec)
+
+    def down(self, p, y, prec):
+        # pmf(y-1) = pmf(y) * y / ((y - 1 + r) (1 - q))
+        t = mt.mul_int(p, y, prec)
+        return mt.div(t, mt.mul(mt.raw(self.r + (y - 1)), self._qc, prec), prec)
 
     def ratio(self, y):
         return (y + self.r) * self.qc / (y + 1)
@@ -80,6 +93,6 @@ class NegBinomial(Family):
 
 
 NEGBINOMIAL = NegBinomial(
-    name="negative-binomial", theta_word="mean", theta_unit="per unit", n_word="number of units n",
+    name="negative-binomial", theta_word="mean per unit", theta_unit="per unit", n_word="number of units n",
     integer_n=True, uses_dispersion=True,
 )

@@ -9,6 +9,7 @@ import numpy as np
 
 from ..mpnum import dec
 
+from . import mptable as mt
 from .base import Family
 from .floatlaw import PoissonLaw
 
@@ -22,9 +23,17 @@ class PoissonMp:
         self.mu = dec(n) * dec(theta)
         self.mode = int(mp.floor(self.mu))
         self.mean = self.mu
+        self.variance = self.mu
+        self._mu = mt.raw(self.mu)
 
     def log_pmf(self, y):
         return y * mp.log(self.mu) - self.mu - mp.loggamma(y + 1)
+
+    def up(self, p, y, prec):
+        return mt.div_int(mt.mul(p, self._mu, prec), y + 1, prec)
+
+    def down(self, p, y, prec):
+        return mt.div(mt.mul_int(p, y, prec), self._mu, prec)
 
     def ratio(self, y):
         return self.mu / (y + 1)
@@ -63,6 +72,6 @@ class Poisson(Family):
 
 
 POISSON = Poisson(
-    name="poisson", theta_word="rate", theta_unit="per unit", n_word="exposure n",
+    name="poisson", theta_word="rate per unit", theta_unit="per unit", n_word="exposure n",
     integer_n=False, uses_dispersion=False,
 )

@@ -1,0 +1,219 @@
+"""The field decision for an observed count, with randomisation that can be audited.
+
+At a randomisation point (Y equal to a cutoff whose gamma is not zero) the rule
+the tables print is applied: read d random digits as a whole number and reject
+if it is below the threshold t = floor(gamma * 10**d).  The digits are either
+the ones the inspector read from a page of random digits, or drawn from the
+operating system's cryptographic generator (``secrets``); either way they are
+part of the decision, so anyone can repeat it.  The conservative rule never
+rejects at a cutoff (no digits needed).
+"""
+
+from __future__ import annotations
+
+import math
+import secrets
+from dataclasses import dataclass
+
+from .design import Design, _num
+from .errors import ExactbandError, invalid
+
+DEFAULT_DRAW_DIGITS = 4  # digits drawn when neither the inspector nor a table fixes d
+MODES = ("randomized", "conservative")
+DRAWN = "drawn from the operating system's cryptographic generator"
+READ = "read by the inspector"
+
+
+class DecideError(ExactbandError, ValueError):
+    """Unusable input to a field decision (one line)."""
+
+
+def _error(field, value, allowed) -> DecideError:
+    return DecideError(str(invalid(field, value, allowed)))
+
+
+@dataclass(frozen=True)
+class Decision:
+    """Outcome of ``decide``: where Y fell, the digits used, reject or not, in words."""
+
+    design: Design
+    y: int
+    rule: str
+    region: str  # below c1, at c1, between c1 and c2, at c2, above c2 (or the one-sided forms)
+    randomization_point: bool  # Y is at a cutoff with gamma > 0
+    gamma: float | None
+    threshold: int | None
+    random_digits: int | None
+    digits: str | None  # the digits used (None when none were needed)
+    digits_source: str | None
+    reject: bool
+    reason: str
+
+    @property
+    def conclusion(self) -> str:
+        return conclusion(self.design, self.reject)
+
+    def describe(self) -> str:
+        d = self.design
+        lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {_num(d.n)}, "
+                 f"alpha = {_num(d.alpha)}; rule: {self.rule}.",
+                 f"Observed Y = {self.y}: {self.region}.", self.reason]
+        if self.digits is not None:
+            lines.append(f"Random digits used: {self.digits} ({self.digits_source}); "
+                         f"as a number {int(self.digits)} "
+                         f"{'<' if self.reject else '>='} threshold {self.threshold}.")
+        else:
+            lines.append("Random digits used: none (not needed for this Y).")
+        lines.append(f"Decision: {'REJECT H0' if self.reject else 'DO NOT REJECT H0'}"
+                     f" - {self.conclusion}.")
+        return "\n".join(lines)
+
+    def to_dict(self) -> dict:
+        d = self.design
+        return {"inputs": d.problem.inputs(), "c1": d.c1, "gamma1": d.gamma1, "c2": d.c2,
+                "gamma2": d.gamma2, "y": self.y, "rule": self.rule, "region": self.region,
+                "randomization_point": self.randomization_point, "gamma": self.gamma,
+                "random_digits": self.random_digits, "threshold": self.threshold,
+                "digits": self.digits, "digits_source": self.digits_source,
+                "reject": self.reject, "decision": "reject H0" if self.reject else
+                "do not reject H0", "conclusion": self.conclusion, "reason": self.reason,
+                "hypothesis": d.hypothesis()}
+
+
+def conclusion(design: Design, reject: bool) -> str:
+    """What rejecting (or not) means for this kind, in words."""
+    t = design.problem.family.theta_word
+    low, high, value = _num(design.low), _num(design.high), _num(design.value)
+    if not reject:
+        if design.kind == "equivalence":
+            return f"equivalence not shown: the data do not establish {low} < {t} < {high}"
+        return "the data are consistent with " + design.hypothesis()[4:]
+    return {"band": f"the data indicate the {t} lies outside {low} to {high}",
+            "point": f"the data indicate the {t} differs from {value}",
+            "upper": f"the data indicate the {t} exceeds {value}",
+            "lower": f"the data indicate the {t} is below {value}",
+            "equivalence": f"equivalence shown: the data indicate {low} < {t} < {high}",
+            }[design.kind]
+
+
+def check_count(design: Design, y) -> int:
+    """Y must be a whole number in the support of the family (0..n for binomial)."""
+    top = design.n if design.family == "binomial" else None
+    allowed = ("a whole number from 0 to " + str(top) if top is not None
+               else "a whole number >= 0")
+    if isinstance(y, bool) or y is None:
+        raise _error("y", y, allowed)
+    try:
+        x = float(y.strip()) if isinstance(y, str) else float(y)
+    except (TypeError, ValueError):
+        raise _error("y", y, allowed) from None
+    if not math.isfinite(x) or x != math.floor(x) or x < 0 or (top is not None and x > top):
+        raise _error("y", y, allowed)
+    return int(x)
+
+
+def check_digits_text(digits, need: int | None) -> str:
+    """Random digits as typed: ASCII digits only, exactly ``need`` of them when fixed."""
+    s = str(digits).strip()
+    if not s or not s.isascii() or not s.isdigit():
+        raise _error("digits", digits, "only the digits 0-9, e.g. 4821")
+    if need is not None and len(s) != need:
+        raise _error("digits", digits, f"the rule reads exactly {need} random digits "
+                                       f"({len(s)} given)")
+    if len(s) > 9:
+        raise _error("digits", digits, "at most 9 random digits")
+    return s
+
+
+def _region(design: Design, y: int):
+    """(words, cutoff index 1/2 or None, reject when not at a cutoff)."""
+    kind, c1, c2 = design.kind, design.c1, design.c2
+    if kind == "upper":
+        return ((f"above c2 = {c2}", None, True) if y > c2 else
+                (f"at c2 = {c2}", 2, None) if y == c2 else (f"below c2 = {c2}", None, False))
+    if kind == "lower":
+        return ((f"below c1 = {c1}", None, True) if y < c1 else
+                (f"at c1 = {c1}", 1, None) if y == c1 else (f"above c1 = {c1}", None, False))
+    outside = kind != "equivalence"  # band, point reject outside; equivalence inside
+    if y < c1:
+        return f"below c1 = {c1}", None, outside
+    if y > c2:
+        return f"above c2 = {c2}", None, outside
+    if y == c1 and c1 == c2:
+        return f"at c1 = c2 = {c1}", 0, None
+    if y == c1:
+        return f"at c1 = {c1}", 1, None
+    if y == c2:
+        return f"at c2 = {c2}", 2, None
+    return f"between c1 = {c1} and c2 = {c2}", None, not outside
+
+
+def decide(design: Design, y, *, rule="randomized", digits=None, random_digits=None,
+           thresholds=None) -> Decision:
+    """Decision for an observed total Y under ``design``.
+
+    Parameters
+    ----------
+    design : Design (from ``exactband.design`` or a table row)
+    y : observed total count
+    rule : "randomized" (default; randomise at the cutoffs with digits) or
+        "conservative" (never reject at a cutoff)
+    digits : the random digits the inspector read (a string such as "4821");
+        None draws them from the operating system's cryptographic generator
+    random_digits : d, the number of digits the rule reads (a table fixes it);
+        default len(digits), or 4 when drawing
+    thresholds : (t1, t2) as printed in a table; default floor(gamma * 10**d)
+
+    Examples
+    --------
+    >>> import exactband
+    >>> from exactband.decide import decide
+    >>> d = exactband.design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
+    >>> decide(d, 39, digits="0999").reject      # t1 = floor(0.13399... * 10**4) = 1339
+    True
+    """
+    mode = rule.strip().lower() if isinstance(rule, str) else rule
+    mode = {"randomised": "randomized"}.get(mode, mode)
+    if mode not in MODES:
+        raise _error("rule", rule, "randomized or conservative")
+    yy = check_count(design, y)
+    need = None
+    if random_digits is not None:
+        try:
+            need = int(random_digits)
+        except (TypeError, ValueError):
+            raise _error("random-digits", random_digits, "a whole number from 1 to 9") from None
+        if str(need) != str(random_digits).strip() or not 1 <= need <= 9:
+            raise _error("random-digits", random_digits, "a whole number from 1 to 9")
+    text = None if digits is None else check_digits_text(digits, need)
+    d = need if need is not None else (len(text) if text is not None else DEFAULT_DRAW_DIGITS)
+    words, at, reject = _region(design, yy)
+    gammas = (design.gamma1 or 0.0, design.gamma2 or 0.0)
+    if at is None:
+        why = "outside the cutoffs" if reject else "inside the cutoffs"
+        if design.kind == "equivalence":
+            why = "strictly between the cutoffs" if reject else "outside the cutoffs"
+        return Decision(design, yy, mode, words, False, None, None, None, None, None,
+                        bool(reject), f"Y is {why}: the rule "
+                        f"{'rejects' if reject else 'does not reject'} without randomisation.")
+    gamma = sum(gammas) if at == 0 else gammas[at - 1]
+    if gamma == 0.0:
+        return Decision(design, yy, mode, words, False, 0.0, None, None, None, None, False,
+                        "At this cutoff gamma = 0: the rule does not reject.")
+    if mode == "conservative":
+        return Decision(design, yy, mode, words, True, gamma, None, None, None, None, False,
+                        f"At this cutoff the randomised rule rejects with probability "
+                        f"{gamma:.6f}; the conservative rule does not reject.")
+    ts = design.thresholds(d) if thresholds is None else thresholds
+    t = (ts[0] or 0) + (ts[1] or 0) if at == 0 else ts[at - 1]
+    if t == 0:
+        return Decision(design, yy, mode, words, True, gamma, 0, d, None, None, False,
+                        f"At this cutoff gamma = {gamma:.6f} and the {d}-digit threshold is 0: "
+                        "the field rule does not reject.")
+    source = READ
+    if text is None:
+        text, source = f"{secrets.randbelow(10 ** d):0{d}d}", DRAWN
+    return Decision(design, yy, mode, words, True, gamma, int(t), d, text, source,
+                    int(text) < t,
+                    f"Randomise: gamma = {gamma:.6f}; read {d} random digits as a number and "
+                    f"reject if it is below t = floor(gamma x 10^{d}) = {t}.")

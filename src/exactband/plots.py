@@ -1,0 +1,362 @@
+"""Figures of operating characteristics and of power against n (matplotlib, no display).
+
+Figures are built with the object interface (``matplotlib.figure.Figure``), so
+nothing touches pyplot's global state or a display.  The three rules differ in
+line style, marker and lightness, so they stay apart in greyscale print.
+``figure_bytes`` gives deterministic PNG / SVG / PDF bytes (fixed SVG hash salt,
+no dates in the metadata).  The figures draw data computed elsewhere
+(``oc.operating_characteristics``, ``planning.power_against_n``).
+"""
+
+from __future__ import annotations
+
+import io
+import textwrap
+from pathlib import Path
+
+
+from .design import Design, _num
+from .oc import PlanningError, _error, operating_characteristics, rule_label
+
+FORMATS = ("png", "svg")
+PAGE_INCHES = {"A4": (8.27, 11.69), "Letter": (8.5, 11.0)}
+# randomised: solid black; conservative: dashed blue, circles; field digits: dash-dot
+# orange, triangles.  Lightness 0 / ~0.4 / ~0.65 keeps them apart in greyscale too.
+STYLE = {
+    "randomized": dict(color="black", linestyle="-", linewidth=2.0, marker=None, zorder=3),
+    "conservative": dict(color="#0072B2", linestyle=(0, (6, 3)), linewidth=1.5, marker="o",
+                         markersize=4.5, markerfacecolor="white", zorder=4),
+    "digits": dict(color="#E69F00", linestyle=(0, (6, 2, 1.5, 2)), linewidth=1.5, marker="^",
+                   markersize=5, zorder=5),
+}
+N_STYLES = [dict(linestyle="-", marker=None, color="black", linewidth=1.8),
+            dict(linestyle=(0, (6, 3)), marker="o", color="#0072B2", markerfacecolor="white"),
+            dict(linestyle=(0, (6, 2, 1.5, 2)), marker="^", color="#E69F00"),
+            dict(linestyle=(0, (1.5, 1.5)), marker="s", color="#555555", markerfacecolor="white"),
+            dict(linestyle=(0, (10, 2)), marker="D", color="#009E73")]
+NULL_SHADE = dict(color="0.88", zorder=0, linewidth=0)
+
+
+def check_plot_path(path) -> Path:
+    """A plot file name ending in .png or .svg (checked before any work is done)."""
+    p = Path(str(path))
+    ext = p.suffix.lower().lstrip(".")
+    if ext not in FORMATS:
+        raise _error("plot", str(path), "the file name must end in .png or .svg")
+    if p.exists() and p.is_dir():
+        raise _error("plot", str(path), "a file name is required, not a folder")
+    return p
+
+
+def figure_bytes(fig, fmt: str, dpi: int = 150) -> bytes:
+    """Deterministic bytes of a figure: png, svg or pdf."""
+    import matplotlib
+
+    fmt = fmt.lower()
+    meta = {"png": {"Software": None}, "svg": {"Date": None, "Creator": None},
+            "pdf": {"CreationDate": None, "ModDate": None, "Producer": None,
+                    "Creator": None}}.get(fmt)
+    if meta is None:
+        raise _error("format", fmt, "png, svg or pdf")
+    buf = io.BytesIO()
+    with matplotlib.rc_context({"svg.hashsalt": "exactband", "svg.fonttype": "none"}):
+        fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta)
+    return buf.getvalue()
+
+
+def save_figure(fig, path) -> Path:
+    """Write a figure to PATH (.png or .svg) atomically."""
+    from .fileio import atomic_write_bytes
+
+    p = check_plot_path(path)
+    atomic_write_bytes(p, figure_bytes(fig, p.suffix.lower().lstrip(".")))
+    return p
+
+
+def _new_figure(size):
+    from matplotlib.figure import Figure
+
+    return Figure(figsize=size, layout="constrained")
+
+
+# -- words --------------------------------------------------------------------------
+UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "probability per trial",
+              "negative-binomial": "mean count per unit"}
+AXIS_WORDS = {"poisson": "rate \u03b8", "binomial": "proportion p",
+              "negative-binomial": "mean \u03b8"}
+
+
+def pretty(text: str) -> str:
+    """Typographic comparison signs for figure text."""
+    return text.replace("<=", "\u2264").replace(">=", "\u2265")
+
+
+def theta_axis_label(design: Design) -> str:
+    fam = design.problem.family
+    word = AXIS_WORDS.get(fam.name, fam.theta_word)
+    return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
+
+
+def _g(x):
+    return "-" if x is None else f"{x:.4f}"
+
+
+def design_caption(design: Design, random_digits: int | None = None) -> str:
+    """One paragraph naming the design: family, kind, H0, n, alpha, cutoffs, gammas."""
+    fam = design.problem.family
+    disp = f", dispersion k = {_num(design.dispersion)}" if design.dispersion is not None else ""
+    parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
+             f"{pretty(design.hypothesis())}; {fam.n_word} = {_num(design.n)}; "
+             f"alpha = {_num(design.alpha)}."]
+    parts.append(_cutoff_text(design))
+    if random_digits:
+        t1, t2 = design.thresholds(random_digits)
+        ts = [f"t{i} = {t} at c{i}" for i, t in ((1, t1), (2, t2)) if t is not None]
+        parts.append(f"Field rule: at a cutoff read {random_digits} random digits as a number "
+                     f"and reject if it is below the threshold ({', '.join(ts)}).")
+    if not design.verified:
+        parts.append("(Not verified by the high-precision solver.)")
+    return " ".join(parts)
+
+
+def _cutoff_text(design: Design) -> str:
+    cut = []
+    if design.c1 is not None:
+        cut.append(f"c1 = {design.c1}, gamma1 = {_g(design.gamma1)}")
+    if design.c2 is not None:
+        cut.append(f"c2 = {design.c2}, gamma2 = {_g(design.gamma2)}")
+    return "; ".join(cut) + "."
+
+
+def _size_text(sizes) -> str:
+    return "/".join(f"{s:.6f}" for s in sizes)
+
+
+# -- shading and reference lines ------------------------------------------------------
+def _shade_null(ax, design: Design, x0: float, x1: float, label=True):
+    kind, lab = design.kind, ("null region (H0)" if label else None)
+    if kind == "band":
+        ax.axvspan(design.low, design.high, label=lab, **NULL_SHADE)
+    elif kind == "upper":
+        ax.axvspan(x0, design.value, label=lab, **NULL_SHADE)
+    elif kind == "lower":
+        ax.axvspan(design.value, x1, label=lab, **NULL_SHADE)
+    elif kind == "equivalence":
+        ax.axvspan(x0, design.low, label=lab, **NULL_SHADE)
+        ax.axvspan(design.high, x1, **NULL_SHADE)
+    else:  # point: a line, the null region has no width
+        ax.axvline(design.value, color="0.6", linewidth=4, zorder=0, alpha=0.6,
+                   label=("null value (H0)" if label else None))
+
+
+def _alpha_line(ax, alpha, curve="power"):
+    y = alpha if curve == "power" else 1.0 - alpha
+    name = "alpha" if curve == "power" else "1 - alpha"
+    ax.axhline(y, color="0.25", linewidth=0.9, linestyle=(0, (1, 2)), zorder=2,
+               label=f"{name} = {_num(y) if curve == 'power' else f'{y:g}'}")
+
+
+def _curve_col(curve: str) -> str:
+    if curve not in ("power", "oc"):
+        raise _error("curve", curve, "power or oc")
+    return "power" if curve == "power" else "oc"
+
+
+def _y_label(curve: str) -> str:
+    return ("probability of rejecting H0 (power)" if curve == "power"
+            else "probability of not rejecting H0 (OC)")
+
+
+# -- one design: three rules ---------------------------------------------------------
+def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, size=(8.0, 7.2)):
+    """Power (or OC) curves of the randomised, conservative and field rules of one design.
+
+    ``frame`` is ``oc.operating_characteristics(design, ...)`` (computed here when
+    omitted).  The null region is shaded, the alpha line drawn, the design named
+    in the caption.  A lower panel shows each rule's power minus the randomised
+    rule's (the curves nearly coincide in the main panel).  Returns a Figure.
+    """
+    col = _curve_col(curve)
+    if frame is None:
+        frame = operating_characteristics(design, random_digits=random_digits)
+    d = frame.attrs.get("random_digits", random_digits)
+    sizes = frame.attrs.get("sizes", {})
+    fig = _new_figure(size)
+    ax, dx, foot = fig.subplots(3, 1, height_ratios=[3, 1.1, 0.75])
+    dx.sharex(ax)
+    ax.tick_params(labelbottom=False)
+    th = frame["theta"].to_numpy(float)
+    x0, x1 = float(th.min()), float(th.max())
+    for a in (ax, dx):
+        _shade_null(a, design, x0, x1, label=a is ax)
+        a.grid(True, color="0.8", linewidth=0.5)
+    _alpha_line(ax, design.alpha, curve)
+    base = frame["power_randomized"].to_numpy(float)
+    for i, rule in enumerate(("randomized", "conservative", "digits")):
+        st = dict(STYLE[rule])
+        label = rule_label(rule, d)
+        if rule in sizes:
+            label += f"; size {_size_text(sizes[rule])}"
+        every = (0.02 + 0.03 * i, 0.09)
+        ax.plot(th, frame[f"{col}_{rule}"].to_numpy(float), label=label, markevery=every, **st)
+        dx.plot(th, frame[f"power_{rule}"].to_numpy(float) - base, markevery=every, **st)
+    ax.set_xlim(x0, x1)
+    ax.set_ylim(-0.02, 1.02)
+    ax.set_ylabel(_y_label(curve))
+    dx.set_xlabel(theta_axis_label(design))
+    dx.set_ylabel("power minus\nrandomised power", fontsize=8.5)
+    title = "Power function" if curve == "power" else "Operating characteristic (OC) curve"
+    ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
+    caption = design_caption(design, d) + (
+        " Sizes are the probabilities of rejecting H0 at "
+        f"{', '.join(_num(p) for p in design.points)} (6 decimals); the conservative and field "
+        "rules never exceed alpha. All values are exact sums of probabilities.")
+    _footer(foot, ax, caption)
+    return fig
+
+
+def _footer(foot, ax, caption, width=125):
+    """An axes-free strip under the charts: the legend of ``ax`` and the caption."""
+    foot.set_axis_off()
+    foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=2, fontsize=8,
+                frameon=False, bbox_to_anchor=(0.5, 1.0))
+    foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5, ha="left",
+              va="bottom", transform=foot.transAxes)
+
+
+# -- planning: power against n ---------------------------------------------------------
+def plan_figure(result, frame, *, size=None):
+    """Power against n at each alternative around a ``plan`` answer (one panel each).
+
+    ``frame`` is ``planning.power_against_n(result)``.  The randomised rule is
+    drawn solid; for the conservative and digit rules their saw-toothed power is
+    drawn too.  The target line and the answers n (and n_from) are marked.
+    """
+    alts = list(result.alternatives)
+    rows = len(alts)
+    fig = _new_figure(size or (8.0, 1.8 + 2.6 * rows))
+    axes = list(fig.subplots(rows + 1, 1, squeeze=False,
+                             height_ratios=[2.6] * rows + [1.1])[:, 0])
+    foot = axes.pop()
+    for ax in axes[1:]:
+        ax.sharex(axes[0])
+    for ax in axes[:-1]:
+        ax.tick_params(labelbottom=False)
+    des = result.design
+    fam = des.problem.family
+    rules = ["randomized"] if result.rule == "randomized" else ["randomized", result.rule]
+    d = result.random_digits or 3
+    for ax, a in zip(axes, alts):
+        sub = frame[frame["alternative"] == a]
+        ns = sub["n"].to_numpy(float)
+        for rule in rules:
+            st = dict(STYLE[rule])
+            if rule != "randomized":  # every grid point: the saw-tooth is the message
+                st.update(linewidth=0.8, markersize=3.5 if len(ns) <= 200 else 0)
+            ax.plot(ns, sub[f"power_{rule}"].to_numpy(float), label=rule_label(rule, d), **st)
+        ax.axhline(result.target, color="0.25", linewidth=0.9, linestyle=(0, (1, 2)),
+                   label=f"target power {result.target:g}")
+        if result.rule != "randomized":
+            ax.axvline(result.n_randomized, color="0.6", linewidth=1.0, linestyle=(0, (1, 1)),
+                       label=f"n = {_num(result.n_randomized)} (randomised rule)")
+        ax.axvline(result.n, color="0.15", linewidth=1.2, linestyle=(0, (4, 1, 1, 1)),
+                   label=f"n = {_num(result.n)} (smallest n meeting the target)")
+        if result.n_from != result.n:
+            ax.axvline(result.n_from, color="0.4", linewidth=1.2, linestyle=(0, (2, 1)),
+                       label=f"n_from = {_num(result.n_from)} (every larger n meets it)")
+        ax.set_ylabel(f"power at {fam.theta_word}\n= {_num(a)}", fontsize=9)
+        ax.grid(True, color="0.8", linewidth=0.5)
+    unit = "exposure units" if not fam.integer_n else ("trials" if fam.name == "binomial"
+                                                       else "units")
+    axes[-1].set_xlabel(f"{fam.n_word} ({unit}; grid step {_num(result.step)})")
+    rule_words = {"randomized": "randomised rule", "conservative": "conservative rule",
+                  "digits": f"field rule with {d} random digits"}[result.rule]
+    axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
+    caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
+               f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
+               f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
+               f"Design at n = {_num(result.n)}: {_cutoff_text(des)}")
+    _footer(foot, axes[0], caption)
+    return fig
+
+
+# -- a page of OC curves for one band (tables) ----------------------------------------------
+def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", random_digits=3,
+             n_per_chart=4, charts_per_page=4, paper="A4", title=None, points=161):
+    """Page-sized figures of OC (or power) curves for the designs of one hypothesis.
+
+    ``designs`` share family, kind and hypothesis values (e.g. one band of a
+    table) and may differ in n and alpha.  Each row of charts holds one alpha and
+    up to ``n_per_chart`` values of n; each column one rule of ``rules``.  Rows
+    beyond ``charts_per_page`` go to further pages.  Returns a list of Figures
+    (write them with ``figure_bytes``).
+    """
+    col = _curve_col(curve)
+    designs = list(designs)
+    if not designs:
+        raise _error("designs", "[]", "at least one design is required")
+    key = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
+    if len(key) != 1:
+        raise PlanningError("invalid designs: a page shows one hypothesis; the designs differ "
+                            "in family, kind or hypothesis values")
+    for r in rules:
+        if r not in STYLE:
+            raise _error("rules", r, "randomized, conservative, digits")
+    if paper not in PAGE_INCHES:
+        raise _error("paper", paper, "A4 or Letter")
+    from .oc import default_thetas
+
+    widest = min(designs, key=lambda x: x.n)
+    theta = default_thetas(widest, points)
+    rows = []
+    for alpha in sorted({x.alpha for x in designs}):
+        group = sorted((x for x in designs if x.alpha == alpha), key=lambda x: x.n)
+        for i in range(0, len(group), n_per_chart):
+            rows.append(group[i:i + n_per_chart])
+    pages = []
+    for p in range(0, len(rows), charts_per_page):
+        pages.append(_oc_page(rows[p:p + charts_per_page], rules, col, random_digits, theta,
+                              PAGE_INCHES[paper], title, len(pages) + 1))
+    return pages
+
+
+def _oc_page(rows, rules, col, d, theta, size, title, number):
+    fig = _new_figure(size)
+    grid = fig.subplots(len(rows), len(rules), squeeze=False)
+    first = rows[0][0]
+    x0, x1 = float(theta.min()), float(theta.max())
+    for r, group in enumerate(rows):
+        frames = [operating_characteristics(x, theta, random_digits=d) for x in group]
+        for c, rule in enumerate(rules):
+            ax = grid[r, c]
+            _shade_null(ax, first, x0, x1, label=(r == 0 and c == 0))
+            _alpha_line(ax, group[0].alpha, "power" if col == "power" else "oc")
+            for i, (x, f) in enumerate(zip(group, frames)):
+                st = dict(N_STYLES[i % len(N_STYLES)])
+                ax.plot(theta, f[f"{col}_{rule}"].to_numpy(float), label=f"n = {_num(x.n)}",
+                        markevery=(0.02 * i, 0.1), markersize=4, **st)
+            ax.set_xlim(x0, x1)
+            ax.set_ylim(-0.02, 1.02)
+            ax.grid(True, color="0.85", linewidth=0.5)
+            ax.set_title(f"{rule_label(rule, d)}, alpha = {_num(group[0].alpha)}", fontsize=8.5)
+            ax.tick_params(labelsize=7.5)
+            if c == 0:
+                ax.set_ylabel(_y_label("power" if col == "power" else "oc"), fontsize=8)
+            if r == len(rows) - 1:
+                ax.set_xlabel(theta_axis_label(first), fontsize=8)
+            ax.legend(fontsize=7, loc="best", framealpha=0.9)
+    fam = first.problem.family
+    disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
+    head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
+                     f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
+    fig.suptitle(f"{head} (page {number})", fontsize=11)
+    what = ("OC = probability of not rejecting H0" if col == "oc"
+            else "power = probability of rejecting H0")
+    fig.supxlabel(f"{what}, exact sums of probabilities for each {fam.n_word}; the shaded "
+                  "region is H0.  The dotted line marks " + ("1 - alpha." if col == "oc"
+                                                             else "alpha."), fontsize=7.5)
+    return fig
+
+
+__all__ = ["check_plot_path", "design_caption", "figure_bytes", "oc_figure", "oc_pages",
+           "plan_figure", "save_figure", "theta_axis_label"]

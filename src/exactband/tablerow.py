@@ -1,0 +1,197 @@
+"""One row of a generated table CSV (NAME.csv) as a Design with its printed thresholds.
+
+The machine-readable table starts with the columns family, kind, n, alpha, low,
+high, value, dispersion, c1, gamma1, c2, gamma2, size_low, size_high,
+conservative_size_low, conservative_size_high, threshold1, threshold2 (more may
+follow, e.g. random_digits).  The row's own cutoffs, gammas and thresholds are
+what the field applies, so they are used as printed, not solved again.
+"""
+
+from __future__ import annotations
+
+import csv
+import math
+from dataclasses import dataclass
+from decimal import ROUND_FLOOR, Decimal
+from pathlib import Path
+
+from .decide import DecideError, _error
+from .design import Design
+from .errors import ExactbandError
+from .params import make_problem
+
+REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
+            "c2", "gamma2")
+FILTERS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
+DEFAULT_TABLE_DIGITS = 3  # the table spec's default random_digits
+
+
+@dataclass(frozen=True)
+class TableRule:
+    design: Design
+    thresholds: tuple  # (t1, t2), None where unused
+    random_digits: int
+    row: int  # 1-based data row
+    path: str
+
+
+def _cell(row, name):
+    v = row.get(name)
+    if v is None:
+        return None
+    v = v.strip()
+    return None if v == "" or v.lower() in ("nan", "none", "na") else v
+
+
+def _number(where, name, text, whole=False):
+    if text is None:
+        return None
+    try:
+        x = float(text)
+    except ValueError:
+        raise DecideError(f"{where}: invalid {name} = {text}: a number is required") from None
+    if not math.isfinite(x) or (whole and x != math.floor(x)):
+        raise DecideError(f"{where}: invalid {name} = {text}: "
+                          f"{'a whole number' if whole else 'a finite number'} is required")
+    return int(x) if whole else x
+
+
+def read_rows(path) -> list:
+    p = Path(str(path))
+    if not p.is_file():
+        raise _error("table", str(path), "an existing table CSV file (NAME.csv)")
+    try:
+        with open(p, encoding="utf-8-sig", newline="") as fh:
+            reader = csv.DictReader(fh)
+            rows = list(reader)
+            cols = reader.fieldnames or []
+    except (UnicodeDecodeError, csv.Error) as e:
+        raise _error("table", str(path), f"a UTF-8 CSV file ({type(e).__name__})") from None
+    missing = [c for c in REQUIRED if c not in cols]
+    if missing:
+        raise _error("table", str(path), "a generated table CSV; missing column(s) "
+                                         + ", ".join(missing))
+    if not rows:
+        raise _error("table", str(path), "a table with at least one row")
+    return rows
+
+
+def _matches(row, filters) -> bool:
+    for name, want in filters.items():
+        have = _cell(row, name)
+        if name in ("family", "kind"):
+            if (have or "").lower() != str(want).strip().lower():
+                return False
+            continue
+        try:
+            w = float(want)
+            h = None if have is None else float(have)
+        except ValueError:
+            return False
+        if h is None or not math.isclose(h, w, rel_tol=1e-9, abs_tol=0.0):
+            return False
+    return True
+
+
+def select_row(path, row=None, **filters) -> tuple:
+    """(1-based row number, row dict) chosen by number or by matching design values."""
+    rows = read_rows(path)
+    given = {k: v for k, v in filters.items() if k in FILTERS and v is not None}
+    if row is not None:
+        try:
+            k = int(str(row).strip())
+        except ValueError:
+            raise _error("row", row, f"a whole number from 1 to {len(rows)}") from None
+        if not 1 <= k <= len(rows):
+            raise _error("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)")
+        if given and not _matches(rows[k - 1], given):
+            raise _error("row", row, "that row does not match the design options given")
+        return k, rows[k - 1]
+    if not given:
+        raise _error("row", row, "give --row or design options (e.g. --kind --n --alpha) "
+                                 "that pick one row")
+    hits = [i for i, r in enumerate(rows) if _matches(r, given)]
+    desc = ", ".join(f"{k}={v}" for k, v in given.items())
+    if not hits:
+        raise DecideError(f"invalid table = {path}: no row matches {desc}")
+    if len(hits) > 1:
+        raise DecideError(f"invalid table = {path}: {len(hits)} rows match {desc} "
+                          f"(rows {', '.join(str(i + 1) for i in hits[:8])}); add options or --row")
+    return hits[0] + 1, rows[hits[0]]
+
+
+def _floor_t(gamma: float, d: int) -> int:
+    return int((Decimal(repr(gamma)) * Decimal(10) ** d).to_integral_value(rounding=ROUND_FLOOR))
+
+
+def _infer_digits(gammas, ts) -> int | None:
+    """The d for which every printed threshold is floor(gamma * 10**d) (within one)."""
+    pairs = [(g, t) for g, t in zip(gammas, ts) if g is not None and t is not None and t > 0]
+    if not pairs:
+        return None
+    for d in range(1, 10):
+        if all(abs(_floor_t(g, d) - t) <= 1 for g, t in pairs):
+            return d
+    return None
+
+
+def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
+    """The Design of one table row and the thresholds it prints.
+
+    ``random_digits`` (d) comes from the table's random_digits column when it
+    has one, else from the argument, else from the printed thresholds.  Printed
+    thresholds must agree with floor(gamma * 10**d) within one (the table floors
+    its exact gammas; the CSV keeps double precision), or the row is refused.
+    """
+    k, r = select_row(path, row, **filters)
+    where = f"table {path} row {k}"
+    vals = {c: _cell(r, c) for c in REQUIRED}
+    try:
+        prob = make_problem(vals["family"], vals["kind"], n=vals["n"], alpha=vals["alpha"],
+                            low=vals["low"], high=vals["high"], value=vals["value"],
+                            dispersion=vals["dispersion"])
+    except ExactbandError as e:
+        raise DecideError(f"{where}: {e}") from None
+    c1 = _number(where, "c1", vals["c1"], whole=True)
+    c2 = _number(where, "c2", vals["c2"], whole=True)
+    g1 = _number(where, "gamma1", vals["gamma1"])
+    g2 = _number(where, "gamma2", vals["gamma2"])
+    kind = prob.kind
+    for name, c, g, used in (("1", c1, g1, kind.uses_c1), ("2", c2, g2, kind.uses_c2)):
+        if used and (c is None or g is None):
+            raise DecideError(f"{where}: the {kind.name} kind needs c{name} and gamma{name}")
+        if used and not 0.0 <= g < 1.0:
+            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)")
+        if used and c < 0:
+            raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0")
+    if not kind.uses_c1:
+        c1 = g1 = None
+    if not kind.uses_c2:
+        c2 = g2 = None
+    base = Design(prob, c1, g1, c2, g2, ())
+    design = base.with_gammas(g1, g2)
+    ts = tuple(_number(where, f"threshold{i}", _cell(r, f"threshold{i}"), whole=True)
+               for i in (1, 2))
+    ts = (ts[0] if kind.uses_c1 else None, ts[1] if kind.uses_c2 else None)
+    col = _cell(r, "random_digits")
+    d = None
+    for source, value in (("random_digits", col), ("random-digits", random_digits)):
+        if value is not None:
+            dd = _number(where, source, str(value), whole=True)
+            if not 1 <= dd <= 9:
+                raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9")
+            if d is not None and dd != d:
+                raise DecideError(f"invalid random-digits = {random_digits}: the table reads "
+                                  f"{d} random digits")
+            d = dd if d is None else d
+    printed = any(t is not None for t in ts)
+    if d is None:
+        d = _infer_digits((g1, g2), ts) if printed else None
+        d = DEFAULT_TABLE_DIGITS if d is None else d
+    ts = tuple(_floor_t(g, d) if g is not None and t is None else t
+               for g, t in zip((g1, g2), ts))
+    for i, (g, t) in enumerate(zip((g1, g2), ts), start=1):
+        if g is not None and t is not None and abs(_floor_t(g, d) - t) > 1:
+            raise DecideError(f"{where}: threshold{i} = {t} does not match floor(gamma{i} x 10^{d})"
+                              f" = {_floor_t(g, d)}; is the number of random digits {d}?")
+    return TableRule(design, ts, d, k, str(path))
