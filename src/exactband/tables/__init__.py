@@ -7,11 +7,11 @@ solver first; ``check_set(out_dir)`` re-verifies a generated set.
 Modules by responsibility: spec (parse, validate), grid (expansion), build
 (solve, verify, derive), cache (resumable verification), layout and texts
 (what is printed), write_csv / write_xlsx / write_pdf / manifest (formatting
-only), generate (atomic writing), check (re-verification).
+only), publish (atomic writing of the set), check (re-verification).
 """
 
 from .check import check_set
-from .generate import generate
+from .publish import generate
 from .spec import SpecError, TableSpec, load_spec
 
 __all__ = ["SpecError", "TableSpec", "check_set", "generate", "load_spec"]

@@ -15,10 +15,10 @@ from dataclasses import dataclass
 
 from .. import api
 from ..design import Design
-from ..errors import VerificationError
+from ..errors import DesignError, VerificationError
 from . import grid
 from .cache import VerifyCache
-from .spec import TableSpec
+from .spec import SpecError, TableSpec
 
 CHUNK = 1024  # designs verified between two saves of the cache
 DIGITS_PER_PAGE = 2500  # 50 lines of 10 groups of 5
@@ -63,7 +63,8 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
 
     ``progress(k)`` is called as designs are verified; ``log(text)`` receives
     one-line notes (e.g. how many designs were resumed from the cache).
-    Raises VerificationError (and drops the cache) if the solvers disagree.
+    Raises VerificationError (and drops the cache) if the solvers disagree, SpecError
+    if the high-precision solver declines a design (too spread out to tabulate).
     """
     problems = grid.expand(spec)
     cache = VerifyCache(out_dir, spec)
@@ -84,6 +85,10 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     except VerificationError:
         cache.clear()
         raise
+    except DesignError as e:  # e.g. a law too spread out for the high-precision tables
+        cache.clear()
+        raise SpecError(f"{spec.where or spec.source}: a design of the grid cannot be "
+                        f"verified: {e}") from None
     designs = [done[i] for i in range(len(problems))]
     rows = tuple(derive(d, spec) for d in designs)
     return TableSet(spec, rows, summarise(designs, spec.digits),

@@ -61,7 +61,7 @@ def generate(spec_path, out_dir, *, allow_large=False, workers=None, progress=No
     _remove_stale_parts(out, spec.name)
     try:
         tset = build(spec, out, workers=workers, progress=progress, log=log)
-    except VerificationError:
+    except (VerificationError, SpecError):
         if not existed:
             with contextlib.suppress(OSError):
                 out.rmdir()
