@@ -122,7 +122,7 @@ def test_resume_from_cache_and_invalidation(tmp_path, ref, monkeypatch):
     monkeypatch.setattr(build_mod, "CHUNK", 5)
     seen = []
 
-    def stop_after_12(k):
+    def stop_after_12(k, total=None):
         seen.append(k)
         if sum(seen) >= 12:
             raise KeyboardInterrupt

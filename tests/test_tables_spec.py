@@ -34,6 +34,8 @@ BAD = [
     ("toml-syntax", 'title = "T\n', ["not valid TOML"]),
     ("title-type", toml(title="5"), ["invalid title = 5", "text"]),
     ("title-two-lines", toml(title='"""a\nb"""'), ["invalid title", "one line"]),
+    ("title-unprintable", toml(title='"\u0141\u00f3d\u017a mill"'),
+     ["invalid title = \u0141\u00f3d\u017a mill", "Windows-1252", "replace '\u0141'"]),
     ("family-unknown", toml(family='"gaussian"'), ["invalid family = gaussian", "poisson"]),
     ("kind-unknown", toml(kinds='["two-sided"]'), ["invalid kinds[0] = two-sided", "band"]),
     ("kinds-not-list", toml(kinds='"band"'), ["invalid kinds = band", "list"]),

@@ -13,12 +13,22 @@ examples:
   exactband table --check output/demo
       re-verifies every row of a generated set and the files' SHA-256 (exit 0 ok, 1 not)
 
+A spec (TOML; every key is described in README.md):
+  title = "Weaving flaws per bolt"          # printed on every page
+  scenario = "Mill and buyer agree ..."     # free text for the cover
+  family = "poisson"                        # poisson, binomial, negative-binomial
+  kinds = ["band", "upper"]                 # band, equivalence, upper, lower, point
+  alpha = [0.05, 0.01]
+  n = { from = 10, to = 50, step = 5 }      # or a list: n = [10, 20, 50]
+  bands = [[2.0, 2.5]]                      # for band and equivalence
+  values = [2.5]                            # for upper, lower and point
+  # optional: dispersion (negative-binomial), gamma_decimals = 4, random_digits = 3,
+  # conservative = true, paper = "A4" | "Letter", digits = 50, random_seed,
+  # random_digit_pages = 1
+
 Every design is computed by the fast solver and confirmed by the high-precision
 solver before any file is written; a disagreement stops the run (exit 1).  An
 interrupted run resumes from the verification cache kept in the output folder.
-Spec keys: see README.md (title, scenario, family, dispersion, kinds, alpha, n,
-bands, values, gamma_decimals, random_digits, conservative, paper, digits,
-random_seed, random_digit_pages).
 """
 
 
@@ -57,16 +67,20 @@ def _workers(text):
 
 @contextlib.contextmanager
 def _bar(desc: str):
-    """A tqdm progress bar on stderr when it is a terminal; else a no-op callback."""
+    """A tqdm progress bar on stderr when it is a terminal; else no callback.
+
+    The callback is ``progress(k, total=None)``: k more designs done; ``total``
+    (once, first) sets the number expected.
+    """
     if not sys.stderr.isatty():
         yield None
         return
     from tqdm import tqdm
 
-    with tqdm(desc=desc, unit="design", file=sys.stderr, leave=False) as bar:
-        def update(k):
-            if bar.total is None:
-                bar.total = 0
+    with tqdm(desc=desc, unit=" designs", file=sys.stderr, leave=False) as bar:
+        def update(k, total=None):
+            if total is not None:
+                bar.reset(total=total)
             bar.update(k)
         yield update
 

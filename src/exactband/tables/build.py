@@ -61,7 +61,8 @@ class TableSet:
 def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) -> TableSet:
     """Compute and verify every design of ``spec``; resume from the cache in ``out_dir``.
 
-    ``progress(k)`` is called as designs are verified; ``log(text)`` receives
+    ``progress(k, total=None)`` is called first with the designs already verified and
+    the total, then with k = 1 as designs are verified; ``log(text)`` receives
     one-line notes (e.g. how many designs were resumed from the cache).
     Raises VerificationError (and drops the cache) if the solvers disagree, SpecError
     if the high-precision solver declines a design (too spread out to tabulate).
@@ -72,8 +73,8 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     todo = [i for i in range(len(problems)) if i not in done]
     if done and log:
         log(f"resumed {len(done)} of {len(problems)} verified designs from the cache")
-    if progress and done:
-        progress(len(done))
+    if progress:
+        progress(len(done), total=len(problems))
     sols = api.fast_solve([problems[i] for i in todo]) if todo else []
     try:
         for start in range(0, len(todo), CHUNK):

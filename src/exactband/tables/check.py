@@ -122,6 +122,8 @@ def _check_rows(spec, rows, workers, progress) -> list:
             findings.append(f"line {line}: inputs {inputs} are not the grid's {want}")
     if findings:
         return findings
+    if progress:
+        progress(0, total=len(problems))
     try:
         designs = api.verify_many(problems, sols, spec.digits, workers=workers, progress=progress)
     except VerificationError as e:

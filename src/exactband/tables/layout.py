@@ -23,7 +23,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 from decimal import ROUND_FLOOR, Decimal
 
-from ..families import get_family
 from ..kinds import KINDS
 from .grid import sections
 from .spec import TWO_POINT
@@ -92,18 +91,21 @@ def size_decimals(alpha: float) -> int:
     return max(3, 3 - Decimal(repr(float(alpha))).adjusted())
 
 
-def theta_words(family: str) -> str:
-    fam = get_family(family)
-    return f"{fam.theta_word} {fam.theta_unit}".strip()
+# The words the printed tables use for each family's parameter and sample size:
+# (symbol in formulas, what it is, what n is).
+WORDS = {
+    "poisson": ("rate", "the expected count per unit of exposure", "the exposure (units inspected)"),
+    "binomial": ("p", "the proportion of units with the attribute", "the number of units inspected"),
+    "negative-binomial": ("mean", "the expected count per unit", "the number of units inspected"),
+}
 
 
 def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservative: bool):
     sd = size_decimals(alpha)
-    fam = get_family(family)
     two = kind in TWO_POINT
     at = ("low", "high") if two else ("value",)
     cols = [Column(k, "H0 band" if two else "H0 value", k) for k in at]
-    cols.append(Column("n", "", fam.n_word.split()[-1]))
+    cols.append(Column("n", "", "n"))
     kd = KINDS[kind]
     if kd.uses_c1:
         cols += [Column("c1", "Lower cutoff", "c1"),

@@ -66,6 +66,8 @@ def generate(spec_path, out_dir, *, allow_large=False, workers=None, progress=No
             with contextlib.suppress(OSError):
                 out.rmdir()
         raise
+    if progress and log:  # on a terminal: say what the pause after the bar is
+        log(f"{len(tset.rows)} designs verified; writing the table set")
     files = render(tset)
     mode = _file_mode()
     paths = []

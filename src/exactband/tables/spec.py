@@ -203,6 +203,10 @@ class _Checker:
             raise self.bad(key, value, f"at most {limit} characters (it has {len(s)})")
         if any(ord(c) < 32 and c not in "\n\t" for c in s):
             raise self.bad(key, value, "printable text is required (no control characters)")
+        bad = [c for c in s if not _printable(c)]
+        if bad:
+            raise self.bad(key, value, f"the PDF fonts print Western European text "
+                           f"(Windows-1252) only; replace {bad[0]!r}")
         return s
 
     def choice(self, key, value, allowed: tuple) -> str:
@@ -249,6 +253,15 @@ class _Checker:
             out.append(check(self, k, self.number(k, x)))
         _no_duplicates(self, key, out)
         return tuple(out)
+
+
+def _printable(c: str) -> bool:
+    """Whether the PDF's standard fonts (WinAnsi encoding) can print the character."""
+    try:
+        c.encode("cp1252")
+        return True
+    except UnicodeEncodeError:
+        return False
 
 
 def _show(value) -> str:

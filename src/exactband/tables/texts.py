@@ -7,8 +7,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
-from ..families import get_family
-from .layout import KIND_TITLE, plain, theta_words
+from .layout import KIND_TITLE, WORDS, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
            "sampling plans and the consequences of a decision come from the governing "
@@ -20,14 +19,14 @@ _HYP = {"band": "H0: low <= {t} <= high", "point": "H0: {t} = value",
 
 
 def hypothesis_text(kind: str, family: str) -> str:
-    return _HYP[kind].format(t=get_family(family).theta_word) + f" ({theta_words(family)})"
+    symbol, what, _ = WORDS[family]
+    return _HYP[kind].format(t=symbol) + f", where {symbol} is {what}"
 
 
 def y_text(family: str) -> str:
-    fam = get_family(family)
-    if fam.name == "binomial":
+    if family == "binomial":
         return "Y = the number of units with the attribute among the n inspected"
-    if fam.name == "poisson":
+    if family == "poisson":
         return "Y = the total count over the inspected exposure n"
     return "Y = the total count over the n inspected units"
 
@@ -141,10 +140,10 @@ def cover_blocks(tset, sections_) -> list:
 
 
 def legend(spec) -> list:
-    fam = get_family(spec.family)
+    symbol, what, n_is = WORDS[spec.family]
     return [
-        f"low, high / value: the hypothesis, as the {fam.theta_word} {fam.theta_unit}. "
-        f"n: the {fam.n_word}." + (f" Dispersion k = {plain(spec.dispersion)} throughout."
+        f"low, high / value: the null hypothesis H0 about {symbol}, {what}. "
+        f"n: {n_is}." + (f" Dispersion k = {plain(spec.dispersion)} throughout."
                                    if spec.dispersion is not None else ""),
         f"c1, c2: the cutoffs for Y. gamma1, gamma2: the randomisation probabilities at the "
         f"cutoffs, truncated to {spec.gamma_decimals} decimals (full precision in "
