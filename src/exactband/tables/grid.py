@@ -34,8 +34,8 @@ def expand(spec: TableSpec) -> list:
                                             dispersion=spec.dispersion, **point))
                 except DesignError as e:
                     where = ", ".join(f"{k}={v}" for k, v in point.items())
-                    raise SpecError(f"{spec.where or spec.source}: the design {kind} (n={n}, alpha={alpha}, "
-                                    f"{where}) is unusable: {e}") from None
+                    raise SpecError(f"{spec.where or spec.source}: the design {kind} "
+                                    f"(n={n}, alpha={alpha}, {where}) is unusable: {e}") from None
     return out
 
 

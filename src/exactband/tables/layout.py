@@ -94,8 +94,10 @@ def size_decimals(alpha: float) -> int:
 # The words the printed tables use for each family's parameter and sample size:
 # (symbol in formulas, what it is, what n is).
 WORDS = {
-    "poisson": ("rate", "the expected count per unit of exposure", "the exposure (units inspected)"),
-    "binomial": ("p", "the proportion of units with the attribute", "the number of units inspected"),
+    "poisson": ("rate", "the expected count per unit of exposure",
+                "the exposure (units inspected)"),
+    "binomial": ("p", "the proportion of units with the attribute",
+                 "the number of units inspected"),
     "negative-binomial": ("mean", "the expected count per unit", "the number of units inspected"),
 }
 
@@ -116,7 +118,8 @@ def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservat
                  Column("gamma2", "Upper cutoff", "gamma2", gamma_decimals),
                  Column("t2", "Upper cutoff", "t2")]
     for suffix, point in zip(("low", "high"), at):
-        cols.append(Column(f"digit_rule_size_{suffix}", "Size with random digits", f"at {point}", sd))
+        cols.append(Column(f"digit_rule_size_{suffix}", "Size with random digits", f"at {point}",
+                           sd))
     if conservative:
         for suffix, point in zip(("low", "high"), at):
             cols.append(Column(f"conservative_size_{suffix}", "Size, no randomisation",
@@ -135,7 +138,8 @@ def _cells(row, cols) -> tuple:
             x = num[k]
             out.append(Cell(plain(x), x if isinstance(x, int) else float(x)))
         elif k in ("gamma1", "gamma2"):
-            g, text = (d.gamma1, d.gamma1_decimal) if k == "gamma1" else (d.gamma2, d.gamma2_decimal)
+            g, text = ((d.gamma1, d.gamma1_decimal) if k == "gamma1"
+                       else (d.gamma2, d.gamma2_decimal))
             s = floor_text(text if text is not None else repr(g), col.decimals)
             out.append(Cell(s, float(s)))
         else:
