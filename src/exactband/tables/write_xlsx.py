@@ -121,24 +121,39 @@ def _cover(wb, tset, sections, blocks) -> None:
     _page(ws, tset.spec, False, "Cover")
 
 
-def _width(col, cells) -> float:
-    longest = max([len(col.label)] + [len(c.text) for c in cells[:2000]])
-    return max(6.0, longest + 2.5)
+def _widths(s) -> list:
+    """Column widths (characters): the longest cell, and each group label on two lines."""
+    out = [max(6.0, max([len(c.label)] + [len(r[i].text) for r in s.rows[:2000]]) + 2.5)
+           for i, c in enumerate(s.columns)]
+    start = 0
+    for i in range(1, len(s.columns) + 1):
+        if i == len(s.columns) or s.columns[i].group != s.columns[start].group:
+            label = s.columns[start].group
+            if label:
+                need = max(max(len(w) for w in label.split()), len(label) / 2 + 2) + 3
+                have = sum(out[start:i])
+                if have < need:
+                    out[start:i] = [w + (need - have) / (i - start) for w in out[start:i]]
+            start = i
+    return out
 
 
 def _section(wb, tset, s) -> None:
     ws = wb.create_sheet(s.sheet)
     ncol = len(s.columns)
     last = get_column_letter(ncol)
-    ws["A1"] = safe_cell_text(tset.spec.title)
-    ws["A1"].font = Font(name=FONT, bold=True, size=12)
-    ws["A2"] = f"{s.heading}.  {s.hypothesis}"
-    ws["A2"].font = BOLD
-    ws["A3"] = s.rule
-    ws["A3"].alignment = WRAP
-    ws.merge_cells(f"A3:{last}3")
-    widths = [_width(c, [row[i] for row in s.rows]) for i, c in enumerate(s.columns)]
-    ws.row_dimensions[3].height = 15 * _lines(s.rule, int(sum(widths)))
+    widths = _widths(s)
+    # title, heading with H0, rule: each merged across the table so nothing spills past it
+    for r, text, font, size in ((1, safe_cell_text(tset.spec.title),
+                                 Font(name=FONT, bold=True, size=12), 17),
+                                (2, f"{s.heading}.  {s.hypothesis}", BOLD, 15),
+                                (3, s.rule, None, 15)):
+        cell = ws.cell(row=r, column=1, value=text)
+        cell.alignment = WRAP
+        if font is not None:
+            cell.font = font
+        ws.merge_cells(f"A{r}:{last}{r}")
+        ws.row_dimensions[r].height = size * _lines(text, sum(widths) * (0.85 if font else 1))
     # group header (row 4, merged over each group) and labels (row 5)
     start = 0
     for i in range(1, ncol + 1):
