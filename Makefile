@@ -18,7 +18,7 @@ $(STAMP): pyproject.toml
 	@touch $(STAMP)
 
 demo: install
-	$(PY) -m exactband.demo
+	$(PY) -m exactband.demo tables/demo.toml output/demo
 
 test: install
 	$(PY) -m pytest

@@ -14,7 +14,7 @@ import sys
 
 from ..errors import ExactbandError, VerificationError
 
-COMMANDS = ["design", "power", "plan", "decide", "audit", "challenge"]  # in --help order
+COMMANDS = ["design", "table", "audit", "challenge", "power", "plan", "decide"]  # --help order
 
 
 class UsageError(ExactbandError):

@@ -1,0 +1,123 @@
+"""The build: every design of the grid solved fast, verified in high precision, derived.
+
+Data flow: spec -> grid.expand -> api.fast_solve (whole grid, vectorised) ->
+api.verify_many (precise solver + cross-check on all cores, in chunks saved to
+the resumable cache) -> per row the digit thresholds, the sizes of the digit
+rule and of the conservative rule (Design.thresholds / digit_rule /
+nonrandomized).  A disagreement between the solvers raises VerificationError
+naming the design, before anything is written.  Writers only format a TableSet.
+"""
+
+from __future__ import annotations
+
+import random
+from dataclasses import dataclass
+
+from .. import api
+from ..design import Design
+from ..errors import DesignError, VerificationError
+from . import grid
+from .cache import VerifyCache
+from .spec import SpecError, TableSpec
+
+CHUNK = 1024  # designs verified between two saves of the cache
+DIGITS_PER_PAGE = 2500  # 50 lines of 10 groups of 5
+
+
+@dataclass(frozen=True)
+class Row:
+    """One design of the table and the numbers derived from it for printing."""
+
+    design: Design
+    thresholds: tuple  # (t1, t2) = floor(gamma * 10**d); None where the kind has no cutoff
+    digit_sizes: tuple  # sizes of the rule with gammas t / 10**d, at design.points
+    conservative_sizes: tuple | None  # sizes with the randomisation dropped (None: not asked)
+
+
+@dataclass(frozen=True)
+class Verification:
+    """The cross-check summary of a table set."""
+
+    rows: int
+    digits: int
+    max_phi_diff: float
+    max_fast_size_error: float
+    max_precise_size_error: float
+
+
+@dataclass(frozen=True)
+class TableSet:
+    """Everything the writers print: the spec, the rows, the summary, the random digits."""
+
+    spec: TableSpec
+    rows: tuple
+    verification: Verification
+    random_digits: str  # spec.random_digit_pages * DIGITS_PER_PAGE digits from spec.seed
+
+    def section_rows(self, kind: str, alpha: float) -> list:
+        return [r for r in self.rows if r.design.kind == kind and r.design.alpha == alpha]
+
+
+def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) -> TableSet:
+    """Compute and verify every design of ``spec``; resume from the cache in ``out_dir``.
+
+    ``progress(k, total=None)`` is called first with the designs already verified and
+    the total, then with k = 1 as designs are verified; ``log(text)`` receives
+    one-line notes (e.g. how many designs were resumed from the cache).
+    Raises VerificationError (and drops the cache) if the solvers disagree, SpecError
+    if the high-precision solver declines a design (too spread out to tabulate).
+    """
+    problems = grid.expand(spec)
+    cache = VerifyCache(out_dir, spec)
+    done = cache.load(problems)
+    todo = [i for i in range(len(problems)) if i not in done]
+    if done and log:
+        log(f"resumed {len(done)} of {len(problems)} verified designs from the cache")
+    if progress:
+        progress(len(done), total=len(problems))
+    sols = api.fast_solve([problems[i] for i in todo]) if todo else []
+    try:
+        for start in range(0, len(todo), CHUNK):
+            idx = todo[start:start + CHUNK]
+            ds = api.verify_many([problems[i] for i in idx], sols[start:start + CHUNK],
+                                 spec.digits, workers=workers, progress=progress)
+            cache.save(ds)
+            done.update(zip(idx, ds))
+    except VerificationError:
+        cache.clear()
+        raise
+    except DesignError as e:  # e.g. a law too spread out for the high-precision tables
+        cache.clear()
+        raise SpecError(f"{spec.where or spec.source}: a design of the grid cannot be "
+                        f"verified: {e}") from None
+    designs = [done[i] for i in range(len(problems))]
+    rows = tuple(derive(d, spec) for d in designs)
+    return TableSet(spec, rows, summarise(designs, spec.digits),
+                    random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE))
+
+
+def derive(d: Design, spec: TableSpec) -> Row:
+    """Thresholds and the sizes of the digit rule and of the conservative rule."""
+    t = d.thresholds(spec.random_digits)
+    digit = d.digit_rule(spec.random_digits).sizes
+    cons = d.nonrandomized().sizes if spec.conservative else None
+    return Row(d, t, digit, cons)
+
+
+def summarise(designs, digits: int) -> Verification:
+    checks = [d.check for d in designs]
+    return Verification(
+        rows=len(designs), digits=digits,
+        max_phi_diff=max((c.max_phi_diff for c in checks), default=0.0),
+        max_fast_size_error=max((c.fast_size_error for c in checks), default=0.0),
+        max_precise_size_error=max((c.precise_size_error for c in checks), default=0.0))
+
+
+def random_digits(seed: int, count: int) -> str:
+    """``count`` decimal digits from Python's random.Random(seed).
+
+    Only ``random()`` is used, whose sequence for a given integer seed Python
+    keeps stable across versions; each call gives one digit, floor(10 * u).
+    """
+    rng = random.Random(seed)
+    return "".join(str(int(rng.random() * 10)) for _ in range(count))

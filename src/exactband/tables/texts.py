@@ -1,0 +1,181 @@
+"""The words of a table set: caution, how to use it, the rules, the randomisation.
+
+The spreadsheet cover sheet and the PDF cover page print the same blocks, so
+the two never say different things.  A block is (style, text) with style one
+of title, subtitle, heading, para, caution, step, example, note.
+"""
+
+from __future__ import annotations
+
+from .layout import KIND_TITLE, WORDS, plain
+
+CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
+           "sampling plans and the consequences of a decision come from the governing "
+           "standard, local regulation and qualified professionals, not from these tables.")
+
+_HYP = {"band": "H0: low <= {t} <= high", "point": "H0: {t} = value",
+        "upper": "H0: {t} <= value", "lower": "H0: {t} >= value",
+        "equivalence": "H0: {t} <= low or {t} >= high"}
+
+
+def hypothesis_text(kind: str, family: str) -> str:
+    symbol, what, _ = WORDS[family]
+    return _HYP[kind].format(t=symbol) + f", where {symbol} is {what}"
+
+
+def y_text(family: str) -> str:
+    if family == "binomial":
+        return "Y = the number of units with the attribute among the n inspected"
+    if family == "poisson":
+        return "Y = the total count over the inspected exposure n"
+    return "Y = the total count over the n inspected units"
+
+
+def _digits(d: int) -> str:
+    return f"read {d} random digits as a number (0 to {10 ** d - 1})"
+
+
+def rule_text(kind: str, d: int) -> str:
+    """The rule of one section in words, with the random-digit procedure."""
+    read = _digits(d)
+    if kind in ("band", "point"):
+        return (f"Reject H0 if Y < c1 or Y > c2. If Y = c1, {read}: reject if it is below t1. "
+                f"If Y = c2, the same with t2. Otherwise (c1 < Y < c2) do not reject. "
+                f"If c1 = c2, read the digits once and reject if the number is below t1 + t2.")
+    if kind == "upper":
+        return (f"Reject H0 if Y > c2. If Y = c2, {read}: reject if it is below t2. "
+                f"Otherwise (Y < c2) do not reject.")
+    if kind == "lower":
+        return (f"Reject H0 if Y < c1. If Y = c1, {read}: reject if it is below t1. "
+                f"Otherwise (Y > c1) do not reject.")
+    return (f"Reject H0 (conclude it lies inside the band) if c1 < Y < c2. If Y = c1, {read}: "
+            f"reject if it is below t1. If Y = c2, the same with t2. "
+            f"Otherwise (Y < c1 or Y > c2) do not reject.")
+
+
+def conservative_text(kind: str) -> str:
+    if kind in ("band", "point"):
+        return "reject H0 only if Y < c1 or Y > c2"
+    if kind == "upper":
+        return "reject H0 only if Y > c2"
+    if kind == "lower":
+        return "reject H0 only if Y < c1"
+    return "reject H0 only if c1 < Y < c2"
+
+
+def _pad(x: int, d: int) -> str:
+    return str(x).zfill(d)
+
+
+def example_lines(section, d: int) -> list:
+    """A worked example on the first row of a section (real numbers of the table)."""
+    if not section.rows:
+        return []
+    cells = {c.key: cell.text for c, cell in zip(section.columns, section.rows[0])}
+    where = (f"band {cells['low']} to {cells['high']}" if "low" in cells
+             else f"value {cells['value']}")
+    parts = [f"{k} = {cells[k]}" for k in ("c1", "t1", "c2", "t2") if k in cells]
+    lines = [f"Example: {section.heading}, {where}, n = {cells['n']}: " + ", ".join(parts) + "."]
+    top = 10 ** d
+    if "c1" in cells and "c2" in cells and cells["c1"] == cells["c2"]:
+        tv = int(cells["t1"]) + int(cells["t2"])
+        return lines + [f"Here c1 = c2: if Y = {cells['c1']}, read {d} digits once and reject "
+                        f"if the number is below t1 + t2 = {tv}."]
+    for c, t in (("c1", "t1"), ("c2", "t2")):
+        if c not in cells:
+            continue
+        tv = int(cells[t])
+        if tv == 0:
+            lines.append(f"If Y = {cells[c]}: {t} = 0, no number is below 0: do not reject "
+                         f"(the randomisation probability is below 1/{top}).")
+            continue
+        low, high = _pad(tv // 2, d), _pad(tv + (top - tv) // 2, d)
+        lines.append(f"If Y = {cells[c]}: read {d} digits, say {low}; {int(low)} is below "
+                     f"{tv}: reject. Had they been {high}: {int(high)} is not below {tv}: "
+                     f"do not reject.")
+    return lines
+
+
+def cover_blocks(tset, sections_) -> list:
+    """The cover: title, scenario, caution, how to use, rules, randomisation, legend."""
+    spec = tset.spec
+    d = spec.random_digits
+    kinds = list(dict.fromkeys(s.kind for s in sections_))
+    b = [("title", spec.title)]
+    if spec.scenario:
+        b += [("para", p.strip()) for p in spec.scenario.split("\n\n") if p.strip()]
+    b += [("caution", CAUTION), ("heading", "How to use these tables")]
+    b += [("step", "1. Find the table for your kind of hypothesis and your alpha (the size: "
+                   "the largest probability of rejecting H0 when it is true), then the row for "
+                   "your band or value and your sample size n."),
+          ("step", f"2. Inspect the sample and count {y_text(spec.family)}."),
+          ("step", "3. Apply the rule of the table (below, and at the top of every page). "
+                   "At a cutoff, decide with random digits as described below."),
+          ("step", "4. Record n, Y, the random digits read (if any) and the decision.")]
+    b.append(("heading", "The rules"))
+    for k in kinds:
+        b.append(("para", f"{KIND_TITLE[k]}, {hypothesis_text(k, spec.family)}: "
+                          f"{rule_text(k, d)}"))
+    b.append(("heading", f"Randomisation at a cutoff with {d} random digits"))
+    b.append(("para", f"Each gamma in the tables is the probability of rejecting H0 when Y "
+                      f"falls exactly on its cutoff. In the field it is applied with random "
+                      f"digits: if Y equals c1, {_digits(d)} and reject if the number is below "
+                      f"the threshold t1 = floor(gamma1 x {10 ** d}); if Y equals c2, the same "
+                      f"with t2. Take the digits from the random-digit page in order, starting "
+                      f"where your supervisor says, cross them out as you use them and never "
+                      f"use them twice. Flooring makes the rejection chance t/{10 ** d}, never "
+                      f"above gamma, so the size stays at or below alpha; the columns 'Size "
+                      f"with random digits' give the sizes attained this way."))
+    b += [("example", line) for line in example_lines(sections_[0], d)]
+    if spec.conservative:
+        b.append(("heading", "Without random digits: the conservative rule"))
+        rules = "; ".join(f"{k}: {conservative_text(k)}" for k in kinds)
+        b.append(("para", f"A rule that never randomises ignores the thresholds and never "
+                          f"rejects at a cutoff ({rules}). Its sizes, in the columns 'Size, "
+                          f"no randomisation', never exceed alpha and can be much smaller: "
+                          f"it rejects less often when H0 is false."))
+    b.append(("heading", "Columns"))
+    b += [("note", text) for text in legend(spec)]
+    return b
+
+
+def legend(spec) -> list:
+    symbol, what, n_is = WORDS[spec.family]
+    return [
+        f"low, high / value: the null hypothesis H0 about {symbol}, {what}. "
+        f"n: {n_is}." + (f" Dispersion k = {plain(spec.dispersion)} throughout."
+                                   if spec.dispersion is not None else ""),
+        f"c1, c2: the cutoffs for Y. gamma1, gamma2: the randomisation probabilities at the "
+        f"cutoffs, truncated to {spec.gamma_decimals} decimals (full precision in "
+        f"{spec.name}.csv). t1, t2: the thresholds for {spec.random_digits} random digits.",
+        "Sizes: the probability of rejecting H0 at the ends of the null hypothesis (at low and "
+        "high, or at value), truncated; 'random digits' for the rule with thresholds, "
+        "'no randomisation' for the conservative rule.",
+        f"Every row was computed by the fast solver and confirmed by an independent "
+        f"{spec.digits}-digit solver before anything was written (see the provenance page).",
+    ]
+
+
+def provenance_rows(tset, csv_sha256: str) -> list:
+    """(label, value) pairs of the provenance page and sheet."""
+    from .build import DIGITS_PER_PAGE
+    from .versions import versions
+    from ..crosscheck import PHI_TOL, SIZE_TOL
+
+    spec, v = tset.spec, tset.verification
+    rows = [("Title", spec.title), ("Spec file", spec.source), ("Spec SHA-256", spec.sha256)]
+    rows += [(name, ver) for name, ver in versions().items()]
+    rows += [
+        ("Verifying solver", f"mpmath, {v.digits} significant digits, independent of the fast "
+                             f"(scipy) solver"),
+        ("Designs verified", f"{v.rows} of {v.rows}"),
+        ("Largest |phi difference|", f"{v.max_phi_diff:.3g} (tolerance {PHI_TOL:g})"),
+        ("Largest size error, fast solver", f"{v.max_fast_size_error:.3g} "
+                                            f"(tolerance {SIZE_TOL:g})"),
+        ("Largest size error, precise solver", f"{v.max_precise_size_error:.3g}"),
+        ("Random digits", f"{spec.random_digit_pages} page(s) of {DIGITS_PER_PAGE} from "
+                          f"Python random.Random({spec.seed})"),
+        ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),
+        ("Hashes of all files", f"{spec.name}.manifest.json"),
+    ]
+    return rows

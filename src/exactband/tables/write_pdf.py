@@ -1,0 +1,358 @@
+"""NAME.pdf (reportlab): cover with caution box, the tables, random digits, provenance.
+
+Every table page carries the section heading, the null hypothesis and the
+rule in words above a header that repeats on every page; each page has the
+title, 'Page x of y' and the spec's hash.  A section is portrait when it fits
+the page width at 9 pt, else landscape (smaller type only if even that is too
+narrow).  Deterministic: reportlab's invariant mode (fixed dates and document
+id) and the 14 standard fonts (nothing embedded).  Formats only.
+"""
+
+from __future__ import annotations
+
+import io
+from xml.sax.saxutils import escape
+
+from reportlab.lib import colors
+from reportlab.lib.pagesizes import A4, landscape, letter
+from reportlab.lib.styles import ParagraphStyle
+from reportlab.lib.units import mm
+from reportlab.pdfbase.pdfmetrics import stringWidth
+from reportlab.pdfgen import canvas as rl_canvas
+from reportlab.platypus import (BaseDocTemplate, CondPageBreak, Flowable, Frame,
+                                NextPageTemplate, PageBreak, PageTemplate, Paragraph, Spacer,
+                                Table, TableStyle)
+
+PAGES = {"A4": A4, "Letter": letter}
+MARGIN = 15 * mm
+PAD = 3.0  # pt, cell padding each side
+GREY = colors.Color(0.93, 0.93, 0.93)
+
+_S = {
+    "title": ParagraphStyle("title", fontName="Helvetica-Bold", fontSize=18, leading=22,
+                            spaceAfter=8),
+    "heading": ParagraphStyle("heading", fontName="Helvetica-Bold", fontSize=12, leading=15,
+                              spaceBefore=8, spaceAfter=3),
+    "para": ParagraphStyle("para", fontName="Helvetica", fontSize=10, leading=13, spaceAfter=4),
+    "step": ParagraphStyle("step", fontName="Helvetica", fontSize=10, leading=13, spaceAfter=2,
+                           leftIndent=12, firstLineIndent=-12),
+    "example": ParagraphStyle("example", fontName="Helvetica-Oblique", fontSize=10, leading=13,
+                              leftIndent=12, spaceAfter=2),
+    "note": ParagraphStyle("note", fontName="Helvetica", fontSize=9, leading=11.5, spaceAfter=2),
+    "caution": ParagraphStyle("caution", fontName="Helvetica-Bold", fontSize=10.5, leading=14),
+    "sec": ParagraphStyle("sec", fontName="Helvetica-Bold", fontSize=11, leading=14),
+    "rule": ParagraphStyle("rule", fontName="Helvetica", fontSize=9, leading=11.5, spaceAfter=4),
+    "mono": ParagraphStyle("mono", fontName="Courier", fontSize=10, leading=12),
+}
+
+
+def _p(text: str, style: str) -> Paragraph:
+    return Paragraph(escape(text), _S[style])
+
+
+class _Mark(Flowable):
+    """Zero-size flowable that records the page it lands on (for the contents)."""
+
+    def __init__(self, key, pages: dict):
+        super().__init__()
+        self.key, self.pages = key, pages
+
+    def wrap(self, aw, ah):
+        return 0, 0
+
+    def draw(self):
+        self.pages[self.key] = self.canv.getPageNumber()
+
+
+def _canvas_class(footer_left: str):
+    class NumberedCanvas(rl_canvas.Canvas):
+        """Defers pages so each footer can say 'Page x of y'."""
+
+        def __init__(self, *args, **kwargs):
+            super().__init__(*args, **kwargs)
+            self._pages = []
+
+        def showPage(self):
+            self._pages.append(dict(self.__dict__))
+            self._startPage()
+
+        def save(self):
+            total = len(self._pages)
+            for state in self._pages:
+                self.__dict__.update(state)
+                w, _ = self._pagesize
+                self.setFont("Helvetica", 8)
+                self.drawString(MARGIN, MARGIN - 9 * mm, footer_left)
+                self.drawRightString(w - MARGIN, MARGIN - 9 * mm,
+                                     f"Page {self._pageNumber} of {total}")
+                super().showPage()
+            super().save()
+
+    return NumberedCanvas
+
+
+def _on_page(title: str):
+    def draw(canv, doc):
+        w, h = canv._pagesize
+        canv.saveState()
+        canv.setFont("Helvetica", 8)
+        room = w - 2 * MARGIN - 60 * mm
+        text = title
+        while stringWidth(text, "Helvetica", 8) > room and len(text) > 4:
+            text = text[:-4] + "..."
+        canv.drawString(MARGIN, h - MARGIN + 5 * mm, text)
+        canv.setLineWidth(0.5)
+        canv.line(MARGIN, h - MARGIN + 3.5 * mm, w - MARGIN, h - MARGIN + 3.5 * mm)
+        canv.line(MARGIN, MARGIN - 6 * mm, w - MARGIN, MARGIN - 6 * mm)
+        canv.restoreState()
+    return draw
+
+
+class _Geometry:
+    def __init__(self, paper: str):
+        self.portrait = PAGES[paper]
+        self.landscape = landscape(PAGES[paper])
+
+    def frame(self, land: bool) -> tuple:
+        w, h = self.landscape if land else self.portrait
+        return w - 2 * MARGIN, h - 2 * MARGIN
+
+
+def _groups(section) -> list:
+    """(label, first column, end column) of each run of columns with one group label."""
+    out, start, cols = [], 0, section.columns
+    for i in range(1, len(cols) + 1):
+        if i == len(cols) or cols[i].group != cols[start].group:
+            out.append((cols[start].group, start, i))
+            start = i
+    return out
+
+
+def _group_style(size: float) -> ParagraphStyle:
+    return ParagraphStyle(f"group{size}", fontName="Helvetica-Bold", fontSize=size,
+                          leading=size * 1.15, alignment=1)
+
+
+def _col_widths(section, size: float) -> list:
+    """Column widths that fit every cell on one line and each group label on two."""
+    out = []
+    for i, col in enumerate(section.columns):
+        wmax = max(stringWidth(r[i].text, "Helvetica", size) for r in section.rows) \
+            if section.rows else 0.0
+        wmax = max(wmax, stringWidth(col.label, "Helvetica-Bold", size))
+        out.append(wmax + 2 * PAD + 2)
+    for label, a, b in _groups(section):
+        if not label:
+            continue
+        words = max(stringWidth(w, "Helvetica-Bold", size) for w in label.split())
+        need = max(words, stringWidth(label, "Helvetica-Bold", size) / 2 + size) + 2 * PAD + 2
+        have = sum(out[a:b])
+        if have < need:
+            out[a:b] = [w + (need - have) / (b - a) for w in out[a:b]]
+    return out
+
+
+SIZES = ((False, 10.0), (False, 9.0), (True, 10.0), (True, 9.0), (True, 8.0), (True, 7.0),
+         (True, 6.0))
+
+
+def _fit(section, geo: _Geometry) -> tuple:
+    """(landscape?, type size, column widths): portrait at 10 or 9 pt if the section
+    fits, else landscape, smaller type only if even that is too narrow."""
+    for land, size in SIZES:
+        fw, _ = geo.frame(land)
+        widths = _col_widths(section, size)
+        if sum(widths) <= fw:
+            break
+    return land, size, _spread(widths, fw)
+
+
+def _spread(widths, room) -> list:
+    """Widen the columns up to 25% so the table reads evenly, never past the frame."""
+    total = sum(widths)
+    factor = min(1.25, room / total) if total < room else 1.0
+    return [w * factor for w in widths]
+
+
+def _header_rows(section, size, widths) -> tuple:
+    """The two header rows (group labels as wrapping paragraphs, column labels), height."""
+    style = _group_style(size)
+    groups = [""] * len(section.columns)
+    height = 0.0
+    for label, a, b in _groups(section):
+        if label:
+            para = Paragraph(escape(label), style)
+            height = max(height, para.wrap(sum(widths[a:b]) - 2 * PAD, 1000)[1])
+            groups[a] = para
+    return [groups, [c.label for c in section.columns]], height + 4.0
+
+
+def _group_spans(section) -> list:
+    return [("SPAN", (a, 0), (b - 1, 0)) for _, a, b in _groups(section) if b - a > 1]
+
+
+def _table_style(section, size, chunk_starts, nrows) -> TableStyle:
+    cmds = [
+        ("FONT", (0, 0), (-1, 1), "Helvetica-Bold", size),
+        ("FONT", (0, 2), (-1, -1), "Helvetica", size),
+        ("ALIGN", (0, 0), (-1, 1), "CENTER"),
+        ("ALIGN", (0, 2), (-1, -1), "RIGHT"),
+        ("VALIGN", (0, 0), (-1, -1), "MIDDLE"),
+        ("LEFTPADDING", (0, 0), (-1, -1), PAD),
+        ("RIGHTPADDING", (0, 0), (-1, -1), PAD),
+        ("TOPPADDING", (0, 0), (-1, -1), 1.2),
+        ("BOTTOMPADDING", (0, 0), (-1, -1), 1.8),
+        ("LINEBELOW", (0, 1), (-1, 1), 1.0, colors.black),
+        ("LINEABOVE", (0, 0), (-1, 0), 1.0, colors.black),
+        ("LINEBELOW", (0, -1), (-1, -1), 1.0, colors.black),
+    ] + _group_spans(section)
+    # vertical rules between column groups
+    cols = section.columns
+    for i in range(1, len(cols)):
+        if cols[i].group != cols[i - 1].group:
+            cmds.append(("LINEBEFORE", (i, 0), (i, -1), 0.5, colors.black))
+    # shade every other block of 5 rows, to help the eye across
+    for start in range(0, nrows, 10):
+        if start + 5 < nrows:
+            cmds.append(("BACKGROUND", (0, 2 + start + 5), (-1, 2 + min(nrows, start + 10) - 1),
+                         GREY))
+    for r in chunk_starts:
+        cmds.append(("LINEABOVE", (0, 2 + r), (-1, 2 + r), 0.8, colors.black))
+    return TableStyle(cmds)
+
+
+def _section_flowables(section, geo, pages, spec) -> list:
+    land, size, widths = _fit(section, geo)
+    fw, fh = geo.frame(land)
+    row_h = size * 1.2 + 3.0
+    header, head0 = _header_rows(section, size, widths)
+    out = [NextPageTemplate("landscape" if land else "portrait"), PageBreak()]
+
+    def heading(text):
+        return [_p(text, "sec"), _p(section.hypothesis, "rule"), _p(section.rule, "rule")]
+
+    head_h = sum(p.wrap(fw, fh)[1] + p.getSpaceAfter() for p in heading(section.heading)) + 4
+    per_page = max(5, int((fh - head_h - head0 - row_h - 8) // row_h))
+    starts = set(section.group_starts)
+    rows = section.rows
+    for first in range(0, max(1, len(rows)), per_page):
+        chunk = rows[first:first + per_page]
+        if first:
+            out += [PageBreak()] + heading(f"{section.heading} (continued)")
+        else:
+            out += [_Mark(section.number, pages)] + heading(section.heading)
+        body = [[c.text for c in r] for r in chunk]
+        tab = Table(header + body, colWidths=widths, rowHeights=[head0, row_h]
+                    + [row_h] * len(body), hAlign="LEFT")
+        seps = [i - first for i in range(first + 1, first + len(chunk)) if i in starts]
+        tab.setStyle(_table_style(section, size, seps, len(body)))
+        out.append(tab)
+    return out
+
+
+def _cover(blocks, sections, pages, geo) -> list:
+    fw, _ = geo.frame(False)
+    out = []
+    for style, text in blocks:
+        if style == "caution":
+            box = Table([[_p(text, "caution")]], colWidths=[fw])
+            box.setStyle(TableStyle([("BOX", (0, 0), (-1, -1), 2.0, colors.black),
+                                     ("BACKGROUND", (0, 0), (-1, -1), GREY),
+                                     ("LEFTPADDING", (0, 0), (-1, -1), 8),
+                                     ("RIGHTPADDING", (0, 0), (-1, -1), 8),
+                                     ("TOPPADDING", (0, 0), (-1, -1), 6),
+                                     ("BOTTOMPADDING", (0, 0), (-1, -1), 8)]))
+            out += [Spacer(1, 4), box, Spacer(1, 6)]
+        elif style == "heading":
+            out += [CondPageBreak(40 * mm), _p(text, "heading")]
+        else:
+            out.append(_p(text, style))
+    out += [CondPageBreak(60 * mm), _p("Contents", "heading")]
+    rows = [[s.heading, f"{len(s.rows)} rows", str(pages.get(s.number, "000"))]
+            for s in sections]
+    if pages.get("_has_digits"):
+        rows.append(["Random digits", "", str(pages.get("digits", "000"))])
+    rows += [["Provenance", "", str(pages.get("provenance", "000"))]]
+    tab = Table(rows, colWidths=[fw - 45 * mm, 25 * mm, 20 * mm], hAlign="LEFT")
+    tab.setStyle(TableStyle([("FONT", (0, 0), (-1, -1), "Helvetica", 10),
+                             ("ALIGN", (1, 0), (-1, -1), "RIGHT"),
+                             ("LINEBELOW", (0, 0), (-1, -1), 0.25, colors.grey)]))
+    out.append(tab)
+    return out
+
+
+def _digit_pages(tset, pages, geo) -> list:
+    spec, digits = tset.spec, tset.random_digits
+    out = []
+    fw, _ = geo.frame(False)
+    for page in range(len(digits) // 2500):
+        out += [NextPageTemplate("portrait"), PageBreak()]
+        if page == 0:
+            out.append(_Mark("digits", pages))
+        out.append(_p(f"Random digits, page {page + 1} of {len(digits) // 2500}", "sec"))
+        out.append(_p(f"From Python random.Random({spec.seed}). Read them in order from where "
+                      f"your supervisor says, {spec.random_digits} at a time; cross them out as "
+                      f"you use them and never use them twice.", "rule"))
+        lines = []
+        for line in range(50):
+            at = page * 2500 + line * 50
+            chunk = digits[at:at + 50]
+            lines.append([str(page * 50 + line + 1)] + [chunk[g * 5:g * 5 + 5] for g in range(10)])
+        tab = Table(lines, colWidths=[12 * mm] + [(fw - 14 * mm) / 10] * 10, hAlign="LEFT",
+                    rowHeights=[12.2] * 50)
+        tab.setStyle(TableStyle([("FONT", (0, 0), (-1, -1), "Courier", 10),
+                                 ("FONT", (0, 0), (0, -1), "Helvetica", 8),
+                                 ("ALIGN", (0, 0), (0, -1), "RIGHT"),
+                                 ("TOPPADDING", (0, 0), (-1, -1), 0),
+                                 ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
+                                 *[("LINEBELOW", (0, r), (-1, r), 0.4, colors.grey)
+                                   for r in range(4, 50, 5)]]))
+        out.append(tab)
+    return out
+
+
+def _provenance(rows, pages, geo) -> list:
+    fw, _ = geo.frame(False)
+    out = [NextPageTemplate("portrait"), PageBreak(), _Mark("provenance", pages),
+           _p("Provenance", "sec"), Spacer(1, 4)]
+    data = [[_p(k, "note"), _p(str(v), "note")] for k, v in rows]
+    tab = Table(data, colWidths=[55 * mm, fw - 55 * mm], hAlign="LEFT")
+    tab.setStyle(TableStyle([("VALIGN", (0, 0), (-1, -1), "TOP"),
+                             ("LINEBELOW", (0, 0), (-1, -1), 0.25, colors.grey)]))
+    out.append(tab)
+    return out
+
+
+def _build(tset, sections, blocks, provenance, pages) -> bytes:
+    spec = tset.spec
+    geo = _Geometry(spec.paper)
+    buf = io.BytesIO()
+    from .. import __version__
+
+    doc = BaseDocTemplate(buf, pagesize=geo.portrait, leftMargin=MARGIN, rightMargin=MARGIN,
+                          topMargin=MARGIN, bottomMargin=MARGIN, title=spec.title,
+                          author="exactband", subject=f"{spec.name}: exact decision rules",
+                          creator=f"exactband {__version__}", invariant=1)
+    templates = []
+    for name, size in (("portrait", geo.portrait), ("landscape", geo.landscape)):
+        w, h = size
+        frame = Frame(MARGIN, MARGIN, w - 2 * MARGIN, h - 2 * MARGIN, id=name,
+                      leftPadding=0, rightPadding=0, topPadding=0, bottomPadding=0)
+        templates.append(PageTemplate(id=name, frames=[frame], onPage=_on_page(spec.title),
+                                      pagesize=size))
+    doc.addPageTemplates(templates)
+    story = _cover(blocks, sections, pages, geo)
+    for s in sections:
+        story += _section_flowables(s, geo, pages, spec)
+    story += _digit_pages(tset, pages, geo)
+    story += _provenance(provenance, pages, geo)
+    footer = f"{spec.name}  |  spec SHA-256 {spec.sha256[:16]}  |  exactband {__version__}"
+    doc.build(story, canvasmaker=_canvas_class(footer))
+    return buf.getvalue()
+
+
+def pdf_bytes(tset, sections, blocks, provenance) -> bytes:
+    """The PDF as bytes; built twice so the contents can give page numbers."""
+    pages = {"_has_digits": bool(tset.random_digits)}
+    _build(tset, sections, blocks, provenance, pages)  # first pass: where sections land
+    return _build(tset, sections, blocks, provenance, dict(pages))

@@ -1,0 +1,258 @@
+"""NAME.xlsx (openpyxl): cover, one sheet per section, data, random digits, provenance.
+
+Print-ready: title rows repeated on every printed page, fit to page width,
+landscape where a section is wide, frozen header, number formats as printed,
+header and footer with the title, 'page x of y' and the spec's hash.
+Deterministic: fixed document timestamps and fixed zip entry dates, so the
+same table set gives the same bytes.  Formats only; computes nothing.
+"""
+
+from __future__ import annotations
+
+import datetime
+import io
+import math
+import zipfile
+
+from openpyxl import Workbook
+from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.utils import get_column_letter
+from openpyxl.writer.excel import ExcelWriter
+
+from ..fileio import safe_cell_text
+from .write_csv import COLUMNS, csv_row
+
+FIXED_TIME = datetime.datetime(2000, 1, 1, 0, 0, 0)
+ZIP_TIME = (2000, 1, 1, 0, 0, 0)
+PAPER = {"A4": "9", "Letter": "1"}  # OOXML paperSize codes
+COVER_WIDTH = 78  # characters: fits A4 and Letter portrait unscaled (LibreOffice does not
+# scale a one-column sheet to the page width)
+FONT = "Calibri"
+BOLD = Font(name=FONT, bold=True)
+THIN = Side(style="thin")
+MEDIUM = Side(style="medium")
+WRAP = Alignment(wrap_text=True, vertical="top")
+CENTER = Alignment(horizontal="center", vertical="center", wrap_text=True)
+SHADE = PatternFill("solid", fgColor="EEEEEE")
+
+
+class _FixedZip(zipfile.ZipFile):
+    """ZipFile whose entries all carry one fixed date (reproducible archives)."""
+
+    def writestr(self, zinfo_or_arcname, data, compress_type=None, compresslevel=None):
+        if not isinstance(zinfo_or_arcname, zipfile.ZipInfo):
+            zinfo_or_arcname = zipfile.ZipInfo(zinfo_or_arcname, date_time=ZIP_TIME)
+            zinfo_or_arcname.compress_type = zipfile.ZIP_DEFLATED
+            zinfo_or_arcname.external_attr = 0o644 << 16
+        super().writestr(zinfo_or_arcname, data, compress_type, compresslevel)
+
+    def write(self, filename, arcname=None, compress_type=None, compresslevel=None):
+        """openpyxl adds worksheets from temporary files: use their bytes, not their mtime."""
+        with open(filename, "rb") as fh:
+            data = fh.read()
+        self.writestr(arcname if arcname is not None else str(filename), data)
+
+
+def _hf(text: str) -> str:
+    """Text for a header/footer field ('&' is a control character there)."""
+    text = text if len(text) <= 90 else text[:87] + "..."
+    return text.replace("&", "&&")
+
+
+def _page(ws, spec, landscape: bool, heading: str) -> None:
+    ws.page_setup.paperSize = PAPER[spec.paper]
+    ws.page_setup.orientation = "landscape" if landscape else "portrait"
+    ws.page_setup.fitToWidth = 1
+    ws.page_setup.fitToHeight = 0
+    ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.print_options.horizontalCentered = True
+    ws.page_margins.left = ws.page_margins.right = 0.5
+    ws.page_margins.top = ws.page_margins.bottom = 0.75
+    ws.oddHeader.left.text = _hf(spec.title)
+    ws.oddHeader.right.text = _hf(heading)
+    ws.oddFooter.left.text = f"spec SHA-256 {spec.sha256[:16]}"
+    ws.oddFooter.center.text = "Page &P of &N"
+    ws.oddFooter.right.text = _hf(f"{spec.name}.xlsx")
+    for part in (ws.oddHeader.left, ws.oddHeader.right, ws.oddFooter.left, ws.oddFooter.center,
+                 ws.oddFooter.right):
+        part.size = 8
+
+
+def _lines(text: str, width: float, fill: float = 0.8) -> int:
+    """Lines a wrapped text needs in a cell ``width`` characters wide (an estimate that
+    errs on the high side: a cut line is worse than a blank one)."""
+    return sum(max(1, math.ceil(len(p) / (width * fill))) for p in text.split("\n"))
+
+
+def _cover(wb, tset, sections, blocks) -> None:
+    ws = wb.active
+    ws.title = "Cover"
+    ws.column_dimensions["A"].width = COVER_WIDTH
+    styles = {"title": Font(name=FONT, bold=True, size=16),
+              "heading": Font(name=FONT, bold=True, size=12),
+              "caution": Font(name=FONT, bold=True, size=11),
+              "example": Font(name=FONT, italic=True)}
+    r = 0
+    for style, text in blocks:
+        r += 1
+        if style == "heading":
+            r += 1  # a blank row before each heading
+        c = ws.cell(row=r, column=1, value=safe_cell_text(text))
+        c.alignment = WRAP
+        if style in styles:
+            c.font = styles[style]
+        if style == "caution":
+            c.border = Border(left=MEDIUM, right=MEDIUM, top=MEDIUM, bottom=MEDIUM)
+            c.fill = SHADE
+        size = 20 if style == "title" else 15
+        ws.row_dimensions[r].height = size * _lines(text, COVER_WIDTH * (0.7 if style == "title"
+                                                                          else 1), fill=1.0)
+    r += 2
+    ws.cell(row=r, column=1, value="Contents").font = Font(name=FONT, bold=True, size=12)
+    for s in sections:
+        r += 1
+        ws.cell(row=r, column=1, value=f"Sheet '{s.sheet}': {s.heading} ({len(s.rows)} rows)")
+    for name, what in (("Data", "every design at full precision (the columns of "
+                                f"{tset.spec.name}.csv)"),
+                       ("Random digits", "digits for the randomisation at a cutoff"),
+                       ("Provenance", "spec hash, versions, cross-check summary")):
+        r += 1
+        ws.cell(row=r, column=1, value=f"Sheet '{name}': {what}")
+    _page(ws, tset.spec, False, "Cover")
+
+
+def _widths(s) -> list:
+    """Column widths (characters): the longest cell, and each group label on two lines."""
+    out = [max(6.0, max([len(c.label)] + [len(r[i].text) for r in s.rows[:2000]]) + 2.5)
+           for i, c in enumerate(s.columns)]
+    start = 0
+    for i in range(1, len(s.columns) + 1):
+        if i == len(s.columns) or s.columns[i].group != s.columns[start].group:
+            label = s.columns[start].group
+            if label:
+                need = max(max(len(w) for w in label.split()), len(label) / 2 + 2) + 3
+                have = sum(out[start:i])
+                if have < need:
+                    out[start:i] = [w + (need - have) / (i - start) for w in out[start:i]]
+            start = i
+    return out
+
+
+def _section(wb, tset, s) -> None:
+    ws = wb.create_sheet(s.sheet)
+    ncol = len(s.columns)
+    last = get_column_letter(ncol)
+    widths = _widths(s)
+    # title, heading with H0, rule: each merged across the table so nothing spills past it
+    for r, text, font, size in ((1, safe_cell_text(tset.spec.title),
+                                 Font(name=FONT, bold=True, size=12), 17),
+                                (2, f"{s.heading}.  {s.hypothesis}", BOLD, 15),
+                                (3, s.rule, None, 15)):
+        cell = ws.cell(row=r, column=1, value=text)
+        cell.alignment = WRAP
+        if font is not None:
+            cell.font = font
+        ws.merge_cells(f"A{r}:{last}{r}")
+        ws.row_dimensions[r].height = size * _lines(text, sum(widths) * (0.85 if font else 1))
+    # group header (row 4, merged over each group) and labels (row 5)
+    start = 0
+    for i in range(1, ncol + 1):
+        if i == ncol or s.columns[i].group != s.columns[start].group:
+            cell = ws.cell(row=4, column=start + 1, value=s.columns[start].group or None)
+            if i - start > 1:
+                ws.merge_cells(start_row=4, start_column=start + 1, end_row=4, end_column=i)
+            cell.font, cell.alignment = BOLD, CENTER
+            start = i
+    for j, col in enumerate(s.columns, start=1):
+        cell = ws.cell(row=5, column=j, value=col.label)
+        cell.font, cell.alignment = BOLD, CENTER
+        cell.border = Border(bottom=THIN)
+        ws.column_dimensions[get_column_letter(j)].width = widths[j - 1]
+    ws.row_dimensions[4].height = 30
+    formats = [("0." + "0" * c.decimals) if c.decimals else "0" if c.key in (
+        "c1", "c2", "t1", "t2") else "General" for c in s.columns]
+    starts = set(s.group_starts)
+    for i, cells in enumerate(s.rows):
+        r = 6 + i
+        for j, cell in enumerate(cells, start=1):
+            x = ws.cell(row=r, column=j, value=cell.value)
+            x.number_format = formats[j - 1]
+            if i in starts and i > 0:
+                x.border = Border(top=THIN)
+    ws.freeze_panes = "A6"
+    ws.print_title_rows = "1:5"
+    ws.print_options.gridLines = True
+    _page(ws, tset.spec, sum(widths) > 100, s.heading)
+
+
+def _data(wb, tset) -> None:
+    ws = wb.create_sheet("Data")
+    ws.append(list(COLUMNS))
+    for c in ws[1]:
+        c.font = BOLD
+    numeric = {i for i, k in enumerate(COLUMNS) if k not in ("family", "kind", "gamma1_decimal",
+                                                             "gamma2_decimal")}
+    for row in tset.rows:
+        vals = csv_row(row, tset.spec.random_digits)
+        ws.append([None if v == "" else (float(v) if "." in v or "e" in v else int(v))
+                   if i in numeric else v for i, v in enumerate(vals)])
+    for j, k in enumerate(COLUMNS, start=1):
+        ws.column_dimensions[get_column_letter(j)].width = max(10, len(k) + 2)
+    ws.freeze_panes = "A2"
+    ws.print_title_rows = "1:1"
+    _page(ws, tset.spec, True, "Data (full precision)")
+
+
+def _digits(wb, tset) -> None:
+    ws = wb.create_sheet("Random digits")
+    spec = tset.spec
+    ws["A1"] = f"Random digits, {len(tset.random_digits)} from Python random.Random({spec.seed})"
+    ws["A1"].font = BOLD
+    ws["A2"] = ("Use in order from where your supervisor says; cross digits out as you use "
+                "them; never use them twice.")
+    mono = Font(name="Courier New", size=11)
+    digits = tset.random_digits
+    for line in range(len(digits) // 50):
+        r = 4 + line + 2 * (line // 50)  # a gap between pages of 50 lines
+        ws.cell(row=r, column=1, value=line + 1).font = mono
+        chunk = digits[line * 50:(line + 1) * 50]
+        for g in range(10):
+            cell = ws.cell(row=r, column=2 + g, value=chunk[g * 5:(g + 1) * 5])
+            cell.font, cell.alignment = mono, Alignment(horizontal="center")
+    ws.column_dimensions["A"].width = 6
+    for g in range(10):
+        ws.column_dimensions[get_column_letter(2 + g)].width = 8
+    ws.print_title_rows = "1:2"
+    _page(ws, spec, False, "Random digits")
+
+
+def _provenance(wb, tset, rows) -> None:
+    ws = wb.create_sheet("Provenance")
+    ws["A1"] = "Provenance"
+    ws["A1"].font = Font(name=FONT, bold=True, size=12)
+    for i, (label, value) in enumerate(rows, start=3):
+        ws.cell(row=i, column=1, value=label).font = BOLD
+        ws.cell(row=i, column=2, value=safe_cell_text(value)).alignment = WRAP
+    ws.column_dimensions["A"].width = 36
+    ws.column_dimensions["B"].width = 90
+    _page(ws, tset.spec, False, "Provenance")
+
+
+def xlsx_bytes(tset, sections, blocks, provenance) -> bytes:
+    """The workbook as bytes (deterministic for a given table set and library versions)."""
+    wb = Workbook()
+    wb.properties.creator = "exactband"
+    wb.properties.title = tset.spec.title
+    wb.properties.created = FIXED_TIME
+    wb.properties.modified = FIXED_TIME
+    _cover(wb, tset, sections, blocks)
+    for s in sections:
+        _section(wb, tset, s)
+    _data(wb, tset)
+    if tset.random_digits:
+        _digits(wb, tset)
+    _provenance(wb, tset, provenance)
+    buf = io.BytesIO()
+    archive = _FixedZip(buf, "w", zipfile.ZIP_DEFLATED, allowZip64=True)
+    ExcelWriter(wb, archive).save()
+    return buf.getvalue()
