@@ -132,3 +132,22 @@ def test_thresholds_use_the_exact_decimal():
     d = exactband.design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
     fake = dataclasses.replace(d, gamma1=0.123, gamma1_decimal="0.123000000000000000000000000000")
     assert fake.thresholds(3)[0] == 123
+
+
+def test_atomic_writes_leave_no_temp_and_normal_permissions(tmp_path):
+    import os
+
+    from exactband.fileio import atomic_open, atomic_write_text
+
+    target = tmp_path / "out.txt"
+    atomic_write_text(target, "one")
+    assert target.read_text() == "one"
+    mask = os.umask(0)
+    os.umask(mask)
+    assert (target.stat().st_mode & 0o777) == (0o666 & ~mask)
+    with pytest.raises(RuntimeError):
+        with atomic_open(target, "w") as fh:
+            fh.write("two, half written")
+            raise RuntimeError("interrupted")
+    assert target.read_text() == "one"  # the old file is untouched
+    assert [p.name for p in tmp_path.iterdir()] == ["out.txt"]  # no temp file left

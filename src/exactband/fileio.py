@@ -26,6 +26,7 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         with os.fdopen(fd, mode, **kwargs) as fh:
             yield fh
             fh.flush()
+            os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give a normal file's mode
             os.fsync(fh.fileno())
         os.replace(tmp, path)
         _fsync_dir(path.parent)
@@ -33,6 +34,12 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
         raise
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def _fsync_dir(folder: Path) -> None:
