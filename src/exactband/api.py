@@ -160,26 +160,11 @@ def _verify_task(args):
 
 
 def verify_many(problems, sols, digits, workers=None, progress=None) -> list:
-    """verify_one over many problems, on ``workers`` processes (None: all cores)."""
-    import os
-    from concurrent.futures import ProcessPoolExecutor
+    """verify_one over many problems, in order, on ``workers`` processes (None: all cores)."""
+    from .parallel import pmap
 
-    tasks = [(p, s, digits) for p, s in zip(problems, sols)]
-    workers = os.cpu_count() or 1 if workers is None else max(1, int(workers))
-    if workers == 1 or len(tasks) < 8:
-        out = []
-        for t in tasks:
-            out.append(_verify_task(t))
-            if progress:
-                progress(1)
-        return out
-    out = []
-    with ProcessPoolExecutor(max_workers=workers) as ex:
-        for d in ex.map(_verify_task, tasks, chunksize=max(1, min(64, len(tasks) // (4 * workers)))):
-            out.append(d)
-            if progress:
-                progress(1)
-    return out
+    return pmap(_verify_task, [(p, s, digits) for p, s in zip(problems, sols)], workers,
+                progress)
 
 
 from .batch import COLUMNS, designs  # noqa: E402,F401  (batch form re-exported)

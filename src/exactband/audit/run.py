@@ -45,23 +45,9 @@ def _task(args) -> Verdict:
 
 def judge_rows(rows, digits=50, workers=1, progress=None) -> list:
     """judge() over rows in order, on ``workers`` processes when there are many."""
-    tasks = [(r, digits) for r in rows]
-    if workers <= 1 or len(tasks) < 8:
-        out = []
-        for t in tasks:
-            out.append(_task(t))
-            if progress:
-                progress(1)
-        return out
-    from concurrent.futures import ProcessPoolExecutor
+    from ..parallel import pmap
 
-    out = []
-    with ProcessPoolExecutor(max_workers=workers) as ex:
-        for v in ex.map(_task, tasks, chunksize=max(1, min(32, len(tasks) // (4 * workers)))):
-            out.append(v)
-            if progress:
-                progress(1)
-    return out
+    return pmap(_task, [(r, digits) for r in rows], workers, progress, max_chunk=32)
 
 
 def _sha256(path: Path) -> str:
