@@ -148,16 +148,37 @@ def chart_pdf(spec, slot: Slot) -> bytes:
 
 
 def merge_charts(spec, document: bytes, slots) -> bytes:
-    """Place each slot's charts on its page of ``document`` (the reportlab PDF)."""
+    """Place each slot's charts on its page of ``document`` (the reportlab PDF).
+
+    Each figure becomes a form XObject drawn at its slot: pypdf copies its
+    content stream as it is (no parsing), so this takes milliseconds per page.
+    """
     if not slots:
         return document
-    from pypdf import PdfReader, PdfWriter, Transformation
+    from pypdf import PdfReader, PdfWriter
+    from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject,
+                               NameObject)
 
     writer = PdfWriter(clone_from=PdfReader(io.BytesIO(document)))
-    for slot in slots:
+    for k, slot in enumerate(slots, start=1):
         figure = PdfReader(io.BytesIO(chart_pdf(spec, slot))).pages[0]
-        writer.pages[slot.page - 1].merge_transformed_page(
-            figure, Transformation().translate(slot.x, slot.y))
+        form = DecodedStreamObject()
+        form.set_data(figure.get_contents().get_data())
+        form[NameObject("/Type")] = NameObject("/XObject")
+        form[NameObject("/Subtype")] = NameObject("/Form")
+        form[NameObject("/BBox")] = ArrayObject(FloatObject(x) for x in figure.mediabox)
+        form[NameObject("/Resources")] = figure["/Resources"].clone(writer)
+        ref = writer._add_object(form.flate_encode())
+        page = writer.pages[slot.page - 1]
+        resources = page["/Resources"].get_object()
+        if "/XObject" not in resources:
+            resources[NameObject("/XObject")] = DictionaryObject()
+        name = NameObject(f"/ExactbandOC{k}")
+        resources["/XObject"].get_object()[name] = ref
+        content = DecodedStreamObject()
+        content.set_data(page.get_contents().get_data()
+                         + f"\nq 1 0 0 1 {slot.x:.3f} {slot.y:.3f} cm {name} Do Q\n".encode())
+        page.replace_contents(content.flate_encode())
     buf = io.BytesIO()
     writer.write(buf)
     return buf.getvalue()

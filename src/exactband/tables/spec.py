@@ -185,6 +185,7 @@ def _check_curve_pages(v: Checker, spec: TableSpec) -> None:
         return
     pages = curve_pages(spec.kinds, len(spec.alpha), len(spec.bands), len(spec.values), spec.oc)
     if pages > MAX_PAGES:
-        raise v.fail(f"invalid oc.n = {show_value(list(spec.oc.n))}: the OC curves would take "
+        ns = [int(x) if float(x).is_integer() else x for x in spec.oc.n]  # 10.0 -> 10
+        raise v.fail(f"invalid oc.n = {show_value(ns)}: the OC curves would take "
                      f"{pages} pages; at most {MAX_PAGES}: draw fewer n (oc.n), more per chart "
                      "(oc.n_per_chart) or set oc.curves = false")
