@@ -164,10 +164,10 @@ def oc_blocks(spec) -> list:
                         f"outside, the larger the better. All values are exact sums of "
                         f"probabilities, not simulations."))
     if oc.curves:
-        rules = "; ".join(rule_label(r, d) for r in oc.rules)
+        rules = ", ".join(rule_label(r, d) for r in oc.rules)
         out.append(("para", f"The PDF has pages of OC curves for every kind and band (or value) "
                             f"after the tables: one row of charts per alpha with a few n each, "
-                            f"one column per rule ({rules}). The field rule with {d} random "
+                            f"one column per rule: {rules}. The field rule with {d} random "
                             f"digits rejects with a probability within {2 / 10 ** d:g} of the "
                             f"randomised rule's at every {symbol}."))
     if oc.thetas:
