@@ -366,8 +366,8 @@ def draw_oc_page(charts, *, rules, curve="oc", random_digits=3, size=PAGE_INCHES
             ax.tick_params(labelsize=7.5)
             if c == 0:
                 ax.set_ylabel(_y_label(col), fontsize=8)
-            if r == len(charts) - 1:
-                ax.set_xlabel(theta_axis_label(first), fontsize=8)
+            if r == len(charts) - 1 and (len(rules) < 3 or c == len(rules) // 2):
+                ax.set_xlabel(theta_axis_label(first), fontsize=8)  # 3 columns: once, mid
         # one legend per row, right of its charts: it never hides a curve
         grid[r, -1].legend(*grid[r, 0].get_legend_handles_labels(), fontsize=7.5,
                            loc="upper left", bbox_to_anchor=(1.03, 1.0), frameon=False,
