@@ -318,3 +318,19 @@ def test_check_accepts_an_oc_set(root, capsys):
     folder = built(root, "oc", OC)
     assert main(["table", "--check", str(folder), "--workers", "1"]) == 0
     assert "oc: OK" in capsys.readouterr().out
+
+
+def test_provenance_and_manifest_name_the_oc_libraries(root):
+    import json
+
+    folder = built(root, "oc", OC)
+    man = json.loads((folder / "oc.manifest.json").read_text("utf-8"))
+    assert {"matplotlib", "pypdf"} <= set(man["versions"])
+    assert man["spec"]["oc"]["thetas"] == [1.0, 2.0, 2.25, 2.5, 3.0]
+    prov = openpyxl.load_workbook(folder / "oc.xlsx")["Provenance"]
+    cells = {r[0].value: r[1].value for r in prov.iter_rows(min_row=3) if r[0].value}
+    assert cells["Operating characteristics"].startswith("sheet 'Power': 12 designs x 5 values")
+    assert "matplotlib" in cells
+    plain = built(root, "plain", SMALL)
+    man = json.loads((plain / "plain.manifest.json").read_text("utf-8"))
+    assert "matplotlib" not in man["versions"] and "oc" not in man["spec"]

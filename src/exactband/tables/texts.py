@@ -204,7 +204,7 @@ def provenance_rows(tset, csv_sha256: str) -> list:
 
     spec, v = tset.spec, tset.verification
     rows = [("Title", spec.title), ("Spec file", spec.source), ("Spec SHA-256", spec.sha256)]
-    rows += [(name, ver) for name, ver in versions().items()]
+    rows += [(name, ver) for name, ver in versions(tset.oc is not None).items()]
     rows += [
         ("Verifying solver", f"mpmath, {v.digits} significant digits, independent of the fast "
                              f"(scipy) solver"),
@@ -218,4 +218,23 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),
         ("Hashes of all files", f"{spec.name}.manifest.json"),
     ]
+    if tset.oc is not None:
+        rows.insert(-2, ("Operating characteristics", oc_provenance(tset)))
     return rows
+
+
+def oc_provenance(tset) -> str:
+    """How the power values and OC curves were obtained (provenance page and sheet)."""
+    from .oc_build import CURVE_POINTS
+
+    oc, spec = tset.oc, tset.spec
+    parts = []
+    if oc.thetas:
+        parts.append(f"sheet 'Power': {len(oc.powers)} designs x {len(oc.thetas)} values x 3 "
+                     f"rules")
+    if oc.groups:
+        charts = sum(len(g.charts) for g in oc.groups)
+        parts.append(f"OC curves: {charts} charts, {CURVE_POINTS} values of "
+                     f"{WORDS[spec.family][0]} per curve, the designs verified above")
+    return ("; ".join(parts) + ". Exact sums of probabilities over the law of Y (float "
+            "laws of the fast solver), no simulation.")
