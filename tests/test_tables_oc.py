@@ -77,6 +77,10 @@ BAD = [
     ("rules-repeat", spec_text('rules = ["conservative", "Conservative"]'),
      ["invalid oc.rules[1] = Conservative", "repeats oc.rules[0]"]),
     ("rules-empty", spec_text("rules = []"), ["invalid oc.rules = []", "a list of rules"]),
+    ("oc-not-last", BASE.replace('title = "T"\n', "") + '[oc]\nthetas = [1.0]\ntitle = "T"\n',
+     ["the key 'title' is inside the [oc] table", "put [oc] at the end"]),
+    ("oc-not-last-n", BASE.replace("n = [10, 20]\n", "") + "[oc]\nn = [10, 20]\n",
+     ["the key 'n' is inside the [oc] table"]),
     ("too-many-pages", spec_text("n_per_chart = 1", MANY_N),
      ["invalid oc.n = [1, 2, 3", "125 pages; at most 120", "oc.n_per_chart"]),
 ]

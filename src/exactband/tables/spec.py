@@ -25,7 +25,7 @@ from ..families import FAMILIES, get_family
 from ..kinds import KINDS
 from .spec_keys import (LARGE_LIMIT, TWO_POINT, Checker, SpecError, alpha_check,
                         dispersion_of, hypotheses, n_values, show_value)
-from .spec_oc import MAX_PAGES, OcSpec, curve_pages, parse_oc
+from .spec_oc import MAX_PAGES, OC_KEYS, OcSpec, curve_pages, parse_oc
 
 GRID_LIMIT = 20_000  # designs in one set without --allow-large
 MAX_SPEC_BYTES = 1_000_000
@@ -139,6 +139,11 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
     unknown = [k for k in data if k not in KEYS]
     if unknown:
         raise v.fail(f"unknown key {show(unknown[0])}: allowed keys are {', '.join(KEYS)}")
+    inside = data["oc"] if isinstance(data.get("oc"), dict) else {}
+    misplaced = [k for k in inside if k in KEYS and (k not in OC_KEYS or k not in data)]
+    if misplaced:
+        raise v.fail(f"the key {misplaced[0]!r} is inside the [oc] table: put [oc] at the end "
+                     "of the spec (in TOML every key after a [table] line belongs to it)")
     for key in REQUIRED:
         if key not in data:
             raise v.fail(f"missing key {key!r}: a spec needs {', '.join(REQUIRED)}")
