@@ -32,7 +32,7 @@ from exactband.cli import main
 from exactband.oc import rule_designs
 from exactband.tables.build import build
 from exactband.tables.spec import load_spec
-from exactband.tables.spec_oc import chart_rows
+from exactband.tables.spec_oc import chart_rows, curve_pages
 from .tables_support import BINOMIAL_OC, OC, SMALL, built, write_spec
 
 SETS = {"oc": OC, "binoc": BINOMIAL_OC}
@@ -291,6 +291,9 @@ def test_pdf_has_oc_pages_listed_in_contents(root):
         assert "n = 25" not in text
         assert "Probability of not rejecting H0 (OC)" in text
     assert sum("OC curves, Tables" in t for t in pages) == 2 + 1  # two pages + contents
+    spec = load_spec(folder.parent.parent / "oc.toml")  # the count the spec check uses
+    assert curve_pages(spec.kinds, len(spec.alpha), len(spec.bands), len(spec.values),
+                       spec.oc) == 2
 
 
 def test_pdf_without_curves_and_cover_words(root):
