@@ -78,8 +78,8 @@ def explanation(spec) -> str:
     field = ("" if "digits" in oc.rules else
              f" The field rule with {d} random digits is within {2 / 10 ** d:g} of the "
              f"randomised rule everywhere.")
-    return (f"Probability of not rejecting H0 (OC) against {_symbol(spec)}, a few n per chart, "
-            f"one row of charts per alpha; {cols}. Shaded: H0. Dotted line: 1 - alpha. "
+    return (f"Probability of not rejecting H0 (OC) against {_symbol(spec)}; each row of charts "
+            f"holds one alpha and a few n; {cols}. Shaded: H0. Dotted line: 1 - alpha. "
             f"Exact sums of probabilities.{field}")
 
 

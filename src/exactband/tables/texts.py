@@ -166,7 +166,7 @@ def oc_blocks(spec) -> list:
     if oc.curves:
         rules = ", ".join(rule_label(r, d) for r in oc.rules)
         out.append(("para", f"The PDF has pages of OC curves for every kind and band (or value) "
-                            f"after the tables: one row of charts per alpha with a few n each, "
+                            f"after the tables: each row of charts holds one alpha and a few n, "
                             f"one column per rule: {rules}. The field rule with {d} random "
                             f"digits rejects with a probability within {2 / 10 ** d:g} of the "
                             f"randomised rule's at every {symbol}."))
