@@ -36,7 +36,6 @@ from exactband.tables.spec_oc import chart_rows, curve_pages
 from .tables_support import BINOMIAL_OC, OC, SMALL, built, write_spec
 
 SETS = {"oc": OC, "binoc": BINOMIAL_OC}
-RULE_OF_LABEL = {"randomised": "randomized", "conservative": "conservative"}
 
 BASE = ('title = "T"\nfamily = "poisson"\nkinds = ["band"]\nalpha = [0.05]\nn = [10, 20]\n'
         'bands = [[2.0, 2.5]]\n')
