@@ -45,6 +45,41 @@ NEGBIN = textwrap.dedent("""\
     random_digits = 2
     """)
 
+# With the [oc] table: a Power sheet at unsorted thetas and two pages of OC curves.
+OC = textwrap.dedent("""\
+    title = "Test table: what the flaw-rate rules catch"
+    family = "poisson"
+    kinds = ["band", "upper"]
+    alpha = [0.05, 0.01]
+    n = [10, 25, 40]
+    bands = [[2.0, 2.5]]
+    values = [2.5]
+    random_seed = 11
+
+    [oc]
+    thetas = [3.0, 1.0, 2.0, 2.25, 2.5]
+    n = [40, 10]
+    n_per_chart = 2
+    """)
+
+# [oc] with power values only (no curves): the other kinds, a proportion, 2 random digits.
+BINOMIAL_OC = textwrap.dedent("""\
+    title = "Test table: colour faults, power"
+    family = "binomial"
+    kinds = ["equivalence", "lower", "point"]
+    alpha = [0.05]
+    n = [30, 60]
+    bands = [[0.1, 0.2]]
+    values = [0.15]
+    random_digits = 2
+    conservative = false
+    random_digit_pages = 0
+
+    [oc]
+    thetas = [0.05, 0.1, 0.15, 0.3]
+    curves = false
+    """)
+
 
 def write_spec(folder: Path, name: str, text: str) -> Path:
     path = Path(folder) / f"{name}.toml"

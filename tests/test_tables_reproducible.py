@@ -20,7 +20,7 @@ from exactband.errors import VerificationError
 from exactband.tables import build as build_mod
 from exactband.tables import cache as cache_mod
 from exactband.tables import generate
-from .tables_support import SMALL, built, write_spec
+from .tables_support import OC, SMALL, built, write_spec
 
 FINAL = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")
 
@@ -47,14 +47,16 @@ def _sheet_values(path) -> dict:
 
 
 def test_same_spec_same_bytes(root, ref):
+    oc_ref = built(str(root), "oc", OC)  # with the [oc] table: Power sheet, OC pages
     time.sleep(2.1)  # zip entry times have a 2-second resolution: make a clock leak visible
-    again = root / "again"
-    generate(root / "small.toml", again, workers=1)
-    a, b = _files(ref), _files(again)
-    assert sorted(a) == sorted(f"small{s}" for s in FINAL)
-    for name in a:  # CSVs, PDF, manifest and even the xlsx archive: byte for byte
-        assert a[name] == b[name], name
-    assert _sheet_values(ref / "small.xlsx") == _sheet_values(again / "small.xlsx")
+    for name, first in (("small", ref), ("oc", oc_ref)):
+        again = root / f"again-{name}"
+        generate(root / f"{name}.toml", again, workers=1)
+        a, b = _files(first), _files(again)
+        assert sorted(a) == sorted(f"{name}{s}" for s in FINAL)
+        for fname in a:  # CSVs, PDF, manifest and even the xlsx archive: byte for byte
+            assert a[fname] == b[fname], fname
+        assert _sheet_values(first / f"{name}.xlsx") == _sheet_values(again / f"{name}.xlsx")
 
 
 def test_check_ok_and_tampering(root, ref, capsys):

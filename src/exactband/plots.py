@@ -33,7 +33,11 @@ N_STYLES = [dict(linestyle="-", marker=None, color="black", linewidth=1.8),
             dict(linestyle=(0, (6, 3)), marker="o", color="#0072B2", markerfacecolor="white"),
             dict(linestyle=(0, (6, 2, 1.5, 2)), marker="^", color="#E69F00"),
             dict(linestyle=(0, (1.5, 1.5)), marker="s", color="#555555", markerfacecolor="white"),
-            dict(linestyle=(0, (10, 2)), marker="D", color="#009E73")]
+            dict(linestyle=(0, (10, 2)), marker="D", color="#009E73"),
+            dict(linestyle=(0, (3, 1, 1, 1, 1, 1)), marker="v", color="#CC79A7",
+                 markerfacecolor="white")]
+SHORT_RULE = {"randomized": "randomised rule", "conservative": "conservative rule",
+              "digits": "field rule ({d} digits)"}  # chart titles; the page explains them
 NULL_SHADE = dict(color="0.88", zorder=0, linewidth=0)
 
 
@@ -315,48 +319,71 @@ def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", rando
             rows.append(group[i:i + n_per_chart])
     pages = []
     for p in range(0, len(rows), charts_per_page):
-        pages.append(_oc_page(rows[p:p + charts_per_page], rules, col, random_digits, theta,
-                              PAGE_INCHES[paper], title, len(pages) + 1))
+        charts = [(group, [operating_characteristics(x, theta, random_digits=random_digits)
+                           for x in group]) for group in rows[p:p + charts_per_page]]
+        first = rows[p][0]
+        fam = first.problem.family
+        disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
+        head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
+                         f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
+        pages.append(draw_oc_page(charts, rules=rules, curve=col, random_digits=random_digits,
+                                  size=PAGE_INCHES[paper],
+                                  heading=f"{head} (page {len(pages) + 1})"))
     return pages
 
 
-def _oc_page(rows, rules, col, d, theta, size, title, number):
+def draw_oc_page(charts, *, rules, curve="oc", random_digits=3, size=PAGE_INCHES["A4"],
+                 heading=None, note=True):
+    """One figure of OC (or power) curves drawn from data computed elsewhere.
+
+    ``charts`` is a list of (designs, frames): each one row of charts (one alpha,
+    a few n), ``frames[i]`` being ``oc.operating_characteristics(designs[i], theta)``
+    on one theta grid per row; one column of charts per rule of ``rules``.
+    ``heading`` (if given) is the figure's title; ``note`` adds the line that
+    explains the curves under the charts.  Draws only: computes nothing.
+    """
+    col = _curve_col(curve)
     fig = _new_figure(size)
-    grid = fig.subplots(len(rows), len(rules), squeeze=False)
-    first = rows[0][0]
-    x0, x1 = float(theta.min()), float(theta.max())
-    for r, group in enumerate(rows):
-        frames = [operating_characteristics(x, theta, random_digits=d) for x in group]
+    grid = fig.subplots(len(charts), len(rules), squeeze=False)
+    first = charts[0][0][0]
+    for r, (group, frames) in enumerate(charts):
+        theta = frames[0]["theta"].to_numpy(float)
+        x0, x1 = float(theta.min()), float(theta.max())
         for c, rule in enumerate(rules):
             ax = grid[r, c]
-            _shade_null(ax, first, x0, x1, label=(r == 0 and c == 0))
-            _alpha_line(ax, group[0].alpha, "power" if col == "power" else "oc")
+            _shade_null(ax, first, x0, x1, label=(c == 0))
+            _alpha_line(ax, group[0].alpha, col)
             for i, (x, f) in enumerate(zip(group, frames)):
                 st = dict(N_STYLES[i % len(N_STYLES)])
-                ax.plot(theta, f[f"{col}_{rule}"].to_numpy(float), label=f"n = {_num(x.n)}",
-                        markevery=(0.02 * i, 0.1), markersize=4, **st)
+                ax.plot(f["theta"].to_numpy(float), f[f"{col}_{rule}"].to_numpy(float),
+                        label=f"n = {_num(x.n)}", markevery=(0.02 * i, 0.1), markersize=4, **st)
             ax.set_xlim(x0, x1)
             ax.set_ylim(-0.02, 1.02)
             ax.grid(True, color="0.85", linewidth=0.5)
-            ax.set_title(f"{rule_label(rule, d)}, alpha = {_num(group[0].alpha)}", fontsize=8.5)
+            sep = ", " if len(rules) < 3 else "\n"  # three columns: too narrow for one line
+            ax.set_title(f"{SHORT_RULE[rule].format(d=random_digits)}{sep}"
+                         f"alpha = {_num(group[0].alpha)}", fontsize=8.5)
             ax.tick_params(labelsize=7.5)
             if c == 0:
-                ax.set_ylabel(_y_label("power" if col == "power" else "oc"), fontsize=8)
-            if r == len(rows) - 1:
-                ax.set_xlabel(theta_axis_label(first), fontsize=8)
-            ax.legend(fontsize=7, loc="best", framealpha=0.9)
-    fam = first.problem.family
-    disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
-    head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
-                     f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
-    fig.suptitle(f"{head} (page {number})", fontsize=11)
-    what = ("OC = probability of not rejecting H0" if col == "oc"
-            else "power = probability of rejecting H0")
-    fig.supxlabel(f"{what}, exact sums of probabilities for each {fam.n_word}; the shaded "
-                  "region is H0.  The dotted line marks " + ("1 - alpha." if col == "oc"
-                                                             else "alpha."), fontsize=7.5)
+                ax.set_ylabel(_y_label(col), fontsize=8)
+            if r == len(charts) - 1 and (len(rules) < 3 or c == len(rules) // 2):
+                ax.set_xlabel(theta_axis_label(first), fontsize=8)  # 3 columns: once, mid
+        # one legend per row, right of its charts: it never hides a curve
+        grid[r, -1].legend(*grid[r, 0].get_legend_handles_labels(), fontsize=7.5,
+                           loc="upper left", bbox_to_anchor=(1.03, 1.0), frameon=False,
+                           handlelength=3.2, borderaxespad=0.0)
+    if heading:
+        fig.suptitle(heading, fontsize=11)
+    if note:
+        fam = first.problem.family
+        what = ("OC = probability of not rejecting H0" if col == "oc"
+                else "power = probability of rejecting H0")
+        fig.supxlabel(f"{what}, exact sums of probabilities for each {fam.n_word}; the shaded "
+                      "region is H0.  The dotted line marks " + ("1 - alpha." if col == "oc"
+                                                                 else "alpha."), fontsize=7.5)
     return fig
 
 
-__all__ = ["check_plot_path", "design_caption", "figure_bytes", "oc_figure", "oc_pages",
+__all__ = ["check_plot_path", "design_caption", "draw_oc_page", "figure_bytes", "oc_figure",
+           "oc_pages",
            "plan_figure", "save_figure", "theta_axis_label"]

@@ -4,7 +4,8 @@ Data flow: spec -> grid.expand -> api.fast_solve (whole grid, vectorised) ->
 api.verify_many (precise solver + cross-check on all cores, in chunks saved to
 the resumable cache) -> per row the digit thresholds, the sizes of the digit
 rule and of the conservative rule (Design.thresholds / digit_rule /
-nonrandomized).  A disagreement between the solvers raises VerificationError
+nonrandomized); then, if the spec has an [oc] table, the power values and OC
+curves it asks for (oc_build).  A disagreement between the solvers raises VerificationError
 naming the design, before anything is written.  Writers only format a TableSet.
 """
 
@@ -16,7 +17,7 @@ from dataclasses import dataclass
 from .. import api
 from ..design import Design
 from ..errors import DesignError, VerificationError
-from . import grid
+from . import grid, oc_build
 from .cache import VerifyCache
 from .spec import SpecError, TableSpec
 
@@ -53,6 +54,7 @@ class TableSet:
     rows: tuple
     verification: Verification
     random_digits: str  # spec.random_digit_pages * DIGITS_PER_PAGE digits from spec.seed
+    oc: oc_build.OcData | None = None  # power values and OC curves (spec.oc), else None
 
     def section_rows(self, kind: str, alpha: float) -> list:
         return [r for r in self.rows if r.design.kind == kind and r.design.alpha == alpha]
@@ -93,7 +95,8 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     designs = [done[i] for i in range(len(problems))]
     rows = tuple(derive(d, spec) for d in designs)
     return TableSet(spec, rows, summarise(designs, spec.digits),
-                    random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE))
+                    random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE),
+                    oc_build.compute(spec, rows))
 
 
 def derive(d: Design, spec: TableSpec) -> Row:

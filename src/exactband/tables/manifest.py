@@ -24,7 +24,7 @@ def manifest_bytes(tset, files: dict) -> bytes:
         "spec_file": spec.source,
         "spec_sha256": spec.sha256,
         "spec": spec.to_dict(),
-        "versions": versions(),
+        "versions": versions(tset.oc is not None),
         "solver": {"fast": "vectorised float solver (scipy laws)",
                    "precise": "mpmath solver (own mpmath laws)", "digits": v.digits},
         "cross_check": {"rows": len(tset.rows), "rows_verified": v.rows,

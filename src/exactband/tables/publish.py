@@ -19,6 +19,7 @@ from .cache import VerifyCache
 from .layout import build_sections
 from .manifest import manifest_bytes, sha256
 from .spec import SpecError, load_spec
+from .spec_oc import curve_pages
 from .texts import cover_blocks, provenance_rows
 from .write_csv import csv_bytes, print_csv_bytes
 from .write_pdf import pdf_bytes
@@ -67,7 +68,10 @@ def generate(spec_path, out_dir, *, allow_large=False, workers=None, progress=No
                 out.rmdir()
         raise
     if progress and log:  # on a terminal: say what the pause after the bar is
-        log(f"{len(tset.rows)} designs verified; writing the table set")
+        pages = curve_pages(spec.kinds, len(spec.alpha), len(spec.bands), len(spec.values),
+                            spec.oc) if spec.oc is not None else 0
+        extra = f" with {pages} pages of OC curves (about a second each)" if pages else ""
+        log(f"{len(tset.rows)} designs verified; writing the table set{extra}")
     files = render(tset)
     mode = _file_mode()
     paths = []

@@ -8,7 +8,8 @@ and its grid have passed.
 
 Keys (see README): title, scenario, family, dispersion, kinds, alpha, n (list
 or ``{from, to, step}``), bands, values, gamma_decimals, random_digits,
-conservative, paper, digits, random_seed, random_digit_pages.
+conservative, paper, digits, random_seed, random_digit_pages, and the optional
+``[oc]`` table (spec_oc: power values and OC curves in the set).
 """
 
 from __future__ import annotations
@@ -23,14 +24,15 @@ from ..errors import show
 from ..families import FAMILIES, get_family
 from ..kinds import KINDS
 from .spec_keys import (LARGE_LIMIT, TWO_POINT, Checker, SpecError, alpha_check,
-                        dispersion_of, hypotheses, n_values)
+                        dispersion_of, hypotheses, n_values, show_value)
+from .spec_oc import MAX_PAGES, OC_KEYS, OcSpec, curve_pages, parse_oc
 
 GRID_LIMIT = 20_000  # designs in one set without --allow-large
 MAX_SPEC_BYTES = 1_000_000
 
 KEYS = ("title", "scenario", "family", "dispersion", "kinds", "alpha", "n", "bands", "values",
         "gamma_decimals", "random_digits", "conservative", "paper", "digits", "random_seed",
-        "random_digit_pages")
+        "random_digit_pages", "oc")
 REQUIRED = ("title", "family", "kinds", "alpha", "n")
 PAPERS = {"a4": "A4", "letter": "Letter"}
 _NAME_RE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]*")
@@ -63,6 +65,7 @@ class TableSpec:
     digits: int = 50
     random_seed: int | None = None
     random_digit_pages: int = 1
+    oc: OcSpec | None = None  # the optional [oc] table (power values, OC curves)
     where: str = field(default="", compare=False)  # the path as the user gave it (messages)
 
     @property
@@ -85,6 +88,8 @@ class TableSpec:
             "conservative": self.conservative, "paper": self.paper, "digits": self.digits,
             "random_seed": self.seed, "random_digit_pages": self.random_digit_pages,
         }
+        if self.oc is not None:
+            out["oc"] = self.oc.to_dict()
         return {k: v for k, v in out.items() if v is not None and (v != [] or k == "n")}
 
 
@@ -134,6 +139,11 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
     unknown = [k for k in data if k not in KEYS]
     if unknown:
         raise v.fail(f"unknown key {show(unknown[0])}: allowed keys are {', '.join(KEYS)}")
+    inside = data["oc"] if isinstance(data.get("oc"), dict) else {}
+    misplaced = [k for k in inside if k in KEYS and (k not in OC_KEYS or k not in data)]
+    if misplaced:
+        raise v.fail(f"the key {misplaced[0]!r} is inside the [oc] table: put [oc] at the end "
+                     "of the spec (in TOML every key after a [table] line belongs to it)")
     for key in REQUIRED:
         if key not in data:
             raise v.fail(f"missing key {key!r}: a spec needs {', '.join(REQUIRED)}")
@@ -157,10 +167,12 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
     if seed is not None:
         seed = v.integer("random_seed", seed, 0, 2**63 - 1)
     pages = v.integer("random_digit_pages", data.get("random_digit_pages", 1), 0, 20)
+    oc = parse_oc(v, fam, data["oc"], ns, conservative) if "oc" in data else None
     spec = TableSpec(name, source, sha256, title, scenario, fam.name, dispersion, kinds,
                      alphas, ns, bands, values, gd, rd, conservative, paper, digits, seed, pages,
-                     where=where)
+                     oc, where=where)
     _check_size(v, spec, allow_large)
+    _check_curve_pages(v, spec)
     return spec
 
 
@@ -171,3 +183,14 @@ def _check_size(v: Checker, spec: TableSpec, allow_large: bool) -> None:
         shrink = "shrink kinds, alpha, n, bands or values"
         hint = shrink if allow_large else f"pass --allow-large (up to {LARGE_LIMIT}) or {shrink}"
         raise v.fail(f"invalid grid size = {total} designs: at most {limit}; {hint}")
+
+
+def _check_curve_pages(v: Checker, spec: TableSpec) -> None:
+    if spec.oc is None:
+        return
+    pages = curve_pages(spec.kinds, len(spec.alpha), len(spec.bands), len(spec.values), spec.oc)
+    if pages > MAX_PAGES:
+        ns = [int(x) if float(x).is_integer() else x for x in spec.oc.n]  # 10.0 -> 10
+        raise v.fail(f"invalid oc.n = {show_value(ns)}: the OC curves would take "
+                     f"{pages} pages; at most {MAX_PAGES}: draw fewer n (oc.n), more per chart "
+                     "(oc.n_per_chart) or set oc.curves = false")

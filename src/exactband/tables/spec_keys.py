@@ -37,7 +37,7 @@ class Checker:
     def rekey(self, key: str, err: DesignError) -> SpecError:
         """A core DesignError ('invalid <field> = ...') re-labelled with the spec key."""
         msg = str(err)
-        m = re.match(r"invalid [A-Za-z_]+ = ", msg)
+        m = re.match(r"invalid [^\s=]+ = ", msg)
         if m:
             return self.fail(f"invalid {key} = " + msg[m.end():])
         return self.fail(f"{key}: {msg}")

@@ -17,10 +17,20 @@ _HYP = {"band": "H0: low <= {t} <= high", "point": "H0: {t} = value",
         "upper": "H0: {t} <= value", "lower": "H0: {t} >= value",
         "equivalence": "H0: {t} <= low or {t} >= high"}
 
+_HYP_AT = {"band": "H0: {low} <= {t} <= {high}", "point": "H0: {t} = {value}",
+           "upper": "H0: {t} <= {value}", "lower": "H0: {t} >= {value}",
+           "equivalence": "H0: {t} <= {low} or {t} >= {high}"}
+
 
 def hypothesis_text(kind: str, family: str) -> str:
     symbol, what, _ = WORDS[family]
     return _HYP[kind].format(t=symbol) + f", where {symbol} is {what}"
+
+
+def hypothesis_at(kind: str, family: str, points) -> str:
+    """H0 with its numbers, e.g. 'H0: 2 <= rate <= 2.5' (points: (low, high) or (value,))."""
+    names = ("low", "high") if len(points) == 2 else ("value",)
+    return _HYP_AT[kind].format(t=WORDS[family][0], **{k: plain(x) for k, x in zip(names, points)})
 
 
 def y_text(family: str) -> str:
@@ -134,9 +144,39 @@ def cover_blocks(tset, sections_) -> list:
                           f"rejects at a cutoff ({rules}). Its sizes, in the columns 'Size, "
                           f"no randomisation', never exceed alpha and can be much smaller: "
                           f"it rejects less often when H0 is false."))
+    if spec.oc is not None:
+        b += oc_blocks(spec)
     b.append(("heading", "Columns"))
     b += [("note", text) for text in legend(spec)]
     return b
+
+
+def oc_blocks(spec) -> list:
+    """The cover's words on the operating characteristics ([oc] in the spec)."""
+    from ..oc import rule_label
+
+    oc, d = spec.oc, spec.random_digits
+    symbol = WORDS[spec.family][0]
+    out = [("heading", "Operating characteristics: what the rules catch")]
+    out.append(("para", f"The power of a rule at a value of {symbol} is the probability that it "
+                        f"rejects H0 there; the OC (operating characteristic) is the probability "
+                        f"that it does not, 1 - power. Inside H0 the power is at most alpha; "
+                        f"outside, the larger the better. All values are exact sums of "
+                        f"probabilities, not simulations."))
+    if oc.curves:
+        rules = ", ".join(rule_label(r, d) for r in oc.rules)
+        out.append(("para", f"The PDF has pages of OC curves for every kind and band (or value) "
+                            f"after the tables: each row of charts holds one alpha and a few n, "
+                            f"one column per rule: {rules}. The field rule with {d} random "
+                            f"digits rejects with a probability within {2 / 10 ** d:g} of the "
+                            f"randomised rule's at every {symbol}."))
+    if oc.thetas:
+        at = ", ".join(plain(t) for t in oc.thetas)
+        out.append(("para", f"The spreadsheet's sheet 'Power' gives, for every row of the "
+                            f"tables, the power at {symbol} = {at} of the randomised rule, the "
+                            f"field rule with {d} random digits and the conservative rule; "
+                            f"values where {symbol} lies inside H0 are shaded."))
+    return out
 
 
 def legend(spec) -> list:
@@ -164,7 +204,7 @@ def provenance_rows(tset, csv_sha256: str) -> list:
 
     spec, v = tset.spec, tset.verification
     rows = [("Title", spec.title), ("Spec file", spec.source), ("Spec SHA-256", spec.sha256)]
-    rows += [(name, ver) for name, ver in versions().items()]
+    rows += [(name, ver) for name, ver in versions(tset.oc is not None).items()]
     rows += [
         ("Verifying solver", f"mpmath, {v.digits} significant digits, independent of the fast "
                              f"(scipy) solver"),
@@ -178,4 +218,23 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),
         ("Hashes of all files", f"{spec.name}.manifest.json"),
     ]
+    if tset.oc is not None:
+        rows.insert(-2, ("Operating characteristics", oc_provenance(tset)))
     return rows
+
+
+def oc_provenance(tset) -> str:
+    """How the power values and OC curves were obtained (provenance page and sheet)."""
+    from .oc_build import CURVE_POINTS
+
+    oc, spec = tset.oc, tset.spec
+    parts = []
+    if oc.thetas:
+        parts.append(f"sheet 'Power': {len(oc.powers)} designs x {len(oc.thetas)} values x 3 "
+                     f"rules")
+    if oc.groups:
+        charts = sum(len(g.charts) for g in oc.groups)
+        parts.append(f"OC curves: {charts} charts, {CURVE_POINTS} values of "
+                     f"{WORDS[spec.family][0]} per curve, the designs verified above")
+    return ("; ".join(parts) + ". Exact sums of probabilities over the law of Y (float "
+            "laws of the fast solver), no simulation.")

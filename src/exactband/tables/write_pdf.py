@@ -1,11 +1,13 @@
-"""NAME.pdf (reportlab): cover with caution box, the tables, random digits, provenance.
+"""NAME.pdf (reportlab): cover with caution box, the tables, OC curves, random digits,
+provenance.
 
 Every table page carries the section heading, the null hypothesis and the
 rule in words above a header that repeats on every page; each page has the
 title, 'Page x of y' and the spec's hash.  A section is portrait when it fits
 the page width at 9 pt, else landscape (smaller type only if even that is too
 narrow).  Deterministic: reportlab's invariant mode (fixed dates and document
-id) and the 14 standard fonts (nothing embedded).  Formats only.
+id) and the 14 standard fonts (nothing embedded); the pages of OC curves, when
+the spec asks for them, are placed by pdf_oc.  Formats only.
 """
 
 from __future__ import annotations
@@ -22,6 +24,9 @@ from reportlab.pdfgen import canvas as rl_canvas
 from reportlab.platypus import (BaseDocTemplate, CondPageBreak, Flowable, Frame,
                                 NextPageTemplate, PageBreak, PageTemplate, Paragraph, Spacer,
                                 Table, TableStyle)
+
+from .pdf_oc import contents_rows as oc_contents_rows
+from .pdf_oc import merge_charts, oc_flowables
 
 PAGES = {"A4": A4, "Letter": letter}
 MARGIN = 15 * mm
@@ -250,7 +255,7 @@ def _section_flowables(section, geo, pages, spec) -> list:
     return out
 
 
-def _cover(blocks, sections, pages, geo) -> list:
+def _cover(tset, blocks, sections, pages, geo) -> list:
     fw, _ = geo.frame(False)
     out = []
     for style, text in blocks:
@@ -270,6 +275,7 @@ def _cover(blocks, sections, pages, geo) -> list:
     out += [CondPageBreak(60 * mm), _p("Contents", "heading")]
     rows = [[s.heading, f"{len(s.rows)} rows", str(pages.get(s.number, "000"))]
             for s in sections]
+    rows += oc_contents_rows(tset, pages)
     if pages.get("_has_digits"):
         rows.append(["Random digits", "", str(pages.get("digits", "000"))])
     rows += [["Provenance", "", str(pages.get("provenance", "000"))]]
@@ -341,18 +347,21 @@ def _build(tset, sections, blocks, provenance, pages) -> bytes:
         templates.append(PageTemplate(id=name, frames=[frame], onPage=_on_page(spec.title),
                                       pagesize=size))
     doc.addPageTemplates(templates)
-    story = _cover(blocks, sections, pages, geo)
+    story = _cover(tset, blocks, sections, pages, geo)
     for s in sections:
         story += _section_flowables(s, geo, pages, spec)
+    slots = []
+    story += oc_flowables(tset, pages, slots)
     story += _digit_pages(tset, pages, geo)
     story += _provenance(provenance, pages, geo)
     footer = f"{spec.name}  |  spec SHA-256 {spec.sha256[:16]}  |  exactband {__version__}"
     doc.build(story, canvasmaker=_canvas_class(footer))
-    return buf.getvalue()
+    return buf.getvalue(), slots
 
 
 def pdf_bytes(tset, sections, blocks, provenance) -> bytes:
     """The PDF as bytes; built twice so the contents can give page numbers."""
     pages = {"_has_digits": bool(tset.random_digits)}
     _build(tset, sections, blocks, provenance, pages)  # first pass: where sections land
-    return _build(tset, sections, blocks, provenance, dict(pages))
+    document, slots = _build(tset, sections, blocks, provenance, dict(pages))
+    return merge_charts(tset.spec, document, slots)  # the OC charts, if any

@@ -1,4 +1,5 @@
-"""NAME.xlsx (openpyxl): cover, one sheet per section, data, random digits, provenance.
+"""NAME.xlsx (openpyxl): cover, one sheet per section, power (spec [oc]), data, random
+digits, provenance.
 
 Print-ready: title rows repeated on every printed page, fit to page width,
 landscape where a section is wide, frozen header, number formats as printed,
@@ -112,8 +113,11 @@ def _cover(wb, tset, sections, blocks) -> None:
     for s in sections:
         r += 1
         ws.cell(row=r, column=1, value=f"Sheet '{s.sheet}': {s.heading} ({len(s.rows)} rows)")
-    for name, what in (("Data", "every design at full precision (the columns of "
-                                f"{tset.spec.name}.csv)"),
+    extra = []
+    if tset.oc is not None and tset.oc.thetas:
+        extra.append(("Power", "the power of every design's rules at the stated values"))
+    for name, what in (*extra, ("Data", "every design at full precision (the columns of "
+                                        f"{tset.spec.name}.csv)"),
                        ("Random digits", "digits for the randomisation at a cutoff"),
                        ("Provenance", "spec hash, versions, cross-check summary")):
         r += 1
@@ -248,6 +252,9 @@ def xlsx_bytes(tset, sections, blocks, provenance) -> bytes:
     _cover(wb, tset, sections, blocks)
     for s in sections:
         _section(wb, tset, s)
+    from .xlsx_power import power_sheet
+
+    power_sheet(wb, tset)  # only when the spec states thetas ([oc])
     _data(wb, tset)
     if tset.random_digits:
         _digits(wb, tset)
