@@ -151,3 +151,22 @@ def test_atomic_writes_leave_no_temp_and_normal_permissions(tmp_path):
             raise RuntimeError("interrupted")
     assert target.read_text() == "one"  # the old file is untouched
     assert [p.name for p in tmp_path.iterdir()] == ["out.txt"]  # no temp file left
+
+
+def test_expectation_matches_phi_when_cutoffs_meet():
+    # a third party may write an equivalence or band rule whose cutoffs meet (c1 == c2):
+    # E phi from the contract's phi summed over the support equals kinds.expectation
+    from scipy import stats
+
+    from exactband import kinds as K
+
+    mu = 7.0
+    y = np.arange(0, 80)
+    f = stats.poisson.pmf(y, mu)  # scipy.stats.poisson (general-purpose library)
+    for kind in ("equivalence", "band", "point"):
+        for c1, c2 in ((6, 6), (6, 7), (5, 9)):
+            direct = float(np.sum(K.phi(kind, c1, 0.3, c2, 0.2, y) * f))
+            got = K.expectation(kind, c1, 0.3, c2, 0.2,
+                                lambda c: stats.poisson.cdf(c, mu), lambda c: stats.poisson.sf(c, mu),
+                                lambda c: stats.poisson.pmf(c, mu))
+            assert got == pytest.approx(direct, abs=1e-14), (kind, c1, c2)

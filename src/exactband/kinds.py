@@ -87,8 +87,9 @@ def expectation(kind: str, c1, g1, c2, g2, cdf, sf, pmf):
     if kind in ("band", "point"):
         return cdf(c1 - 1) + g1 * pmf(c1) + g2 * pmf(c2) + sf(c2)
     if kind == "equivalence":
-        # P(c1 < Y < c2) from whichever tail keeps the difference small
-        return (sf(c1) - sf(c2 - 1)) + g1 * pmf(c1) + g2 * pmf(c2)
+        # P(c1 < Y < c2) (empty unless c2 > c1 + 1; with c1 == c2 phi(c) = gamma1 + gamma2)
+        middle = (sf(c1) - sf(c2 - 1)) * (c2 > c1 + 1)
+        return middle + g1 * pmf(c1) + g2 * pmf(c2)
     raise ValueError(f"unknown kind {kind!r}")
 
 
