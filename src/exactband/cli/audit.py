@@ -2,12 +2,11 @@
 
 from __future__ import annotations
 
-import argparse
 import math
 import os
 import sys
 
-from .common import check_precision
+from .common import add_command, check_precision
 
 EXAMPLE = """\
 examples:
@@ -30,12 +29,12 @@ Reports in DIR: audit-report.csv, audit-report.xlsx, audit-summary.json.
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "audit", help="verify a third party's table (CSV or XLSX) row by row",
-        description="Recompute every row of a third party's table with both solvers, judge their "
+    p = add_command(
+        sub, "audit", "verify a third party's table (CSV or XLSX) row by row",
+        "Recompute every row of a third party's table with both solvers, judge their "
                     "cutoffs and gammas, the sizes their numbers attain and the unbiasedness of "
                     "their rule, and diagnose which construction they used instead.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     p.add_argument("file", metavar="THEIR_FILE", help="their table: .csv or .xlsx")
     p.add_argument("--report", metavar="DIR", help="write the CSV, XLSX and JSON reports here")
     g = p.add_argument_group("reading their file")

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-import argparse
+from .common import add_command
 
 EXAMPLE = """\
 examples:
@@ -18,12 +18,12 @@ alpha down to 1e-6, large n, p near 0 or 1.  Same seed and version -> same bytes
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "challenge", help="write a challenge set of hard designs for a vendor",
-        description="Write a deterministic grid of hard designs with empty answer columns "
+    p = add_command(
+        sub, "challenge", "write a challenge set of hard designs for a vendor",
+        "Write a deterministic grid of hard designs with empty answer columns "
                     "(c1, gamma1, c2, gamma2) for a vendor to fill in; grade the returned file "
                     "with 'exactband audit'.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     p.add_argument("--out", required=True, metavar="FILE", help="output file: .csv or .xlsx")
     p.add_argument("--seed", default="0", metavar="S",
                    help="whole number >= 0 that jitters the grid (default 0)")

@@ -10,6 +10,12 @@ KIND_HELP = ("hypothesis: band (low <= theta <= high), point (theta = value), "
              "equivalence (theta <= low or theta >= high)")
 
 
+def add_command(sub, name: str, summary: str, description: str, example: str):
+    """A subcommand parser: one-line summary for 'exactband --help', description, examples."""
+    return sub.add_parser(name, help=summary, description=description, epilog=example,
+                          formatter_class=argparse.RawDescriptionHelpFormatter)
+
+
 def add_design_options(p: argparse.ArgumentParser, required: bool = True,
                        include_n: bool = True) -> None:
     """The design options; the solver precision is --precision (--digits is left free

@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import argparse
-
-from .common import add_design_options, check_precision
+from .common import add_command, add_design_options, check_precision
 from .output import emit, json_text, require
 
 EXAMPLE = """\
@@ -25,13 +23,13 @@ The digits used are always printed, so the decision can be checked later.
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "decide", help="decision for an observed count (randomisation by digits)",
-        description="Apply a design (given by its parameters or by a row of a generated "
+    p = add_command(
+        sub, "decide", "decision for an observed count (randomisation by digits)",
+        "Apply a design (given by its parameters or by a row of a generated "
                     "table CSV) to an observed total count Y and state the decision. "
                     "Required: --y and either --table or --family, --kind, --n, --alpha and "
                     "the hypothesis values.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     add_design_options(p, required=False)
     g = p.add_argument_group("observation and randomisation")
     g.add_argument("--y", "--count", dest="y", metavar="Y", help="the observed total count "

@@ -2,10 +2,9 @@
 
 from __future__ import annotations
 
-import argparse
 import json
 
-from .common import add_design_options, design_kwargs
+from .common import add_command, add_design_options, design_kwargs
 
 EXAMPLE = """\
 examples:
@@ -20,11 +19,11 @@ probability (the randomisation gamma1 at c1, gamma2 at c2).
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "design", help="compute one exact test and print the rule",
-        description="Compute the exact optimal test for one design with the fast solver,\n"
+    p = add_command(
+        sub, "design", "compute one exact test and print the rule",
+        "Compute the exact optimal test for one design with the fast solver,\n"
                     "verify it with the high-precision solver, and print the decision rule.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     add_design_options(p)
     p.add_argument("--json", action="store_true", help="print one JSON object instead of text")
     p.add_argument("--no-verify", action="store_true",

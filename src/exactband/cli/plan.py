@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import argparse
-
-from .common import add_design_options, check_precision
+from .common import add_command, add_design_options, check_precision
 from .output import emit, json_text, require
 
 EXAMPLE = """\
@@ -21,13 +19,13 @@ examples:
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "plan", help="sample size: smallest n reaching a target power",
-        description="Find the smallest n (on the grid step, 2*step, ...) at which the chosen "
+    p = add_command(
+        sub, "plan", "sample size: smallest n reaching a target power",
+        "Find the smallest n (on the grid step, 2*step, ...) at which the chosen "
                     "rule's power is at least the target at every alternative. Required: "
                     "--family, --kind, --alpha, the hypothesis values, --alternatives, "
                     "--target.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     add_design_options(p, required=False, include_n=False)
     g = p.add_argument_group("planning")
     g.add_argument("--alternatives", metavar="LIST",

@@ -2,9 +2,7 @@
 
 from __future__ import annotations
 
-import argparse
-
-from .common import add_design_options, design_kwargs
+from .common import add_command, add_design_options, design_kwargs
 from .output import emit, frame_csv, frame_records, json_text
 
 EXAMPLE = """\
@@ -23,11 +21,11 @@ Every number is an exact sum of probabilities, not a simulation.
 
 
 def add_parser(sub) -> None:
-    p = sub.add_parser(
-        "power", help="power and OC curves of a design's three rules",
-        description="Power (probability of rejecting H0) and OC (1 - power) of the randomised, "
+    p = add_command(
+        sub, "power", "power and OC curves of a design's three rules",
+        "Power (probability of rejecting H0) and OC (1 - power) of the randomised, "
                     "the conservative and the digit-rounded rule of one design, over theta.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     add_design_options(p)
     g = p.add_argument_group("theta values (default: a range showing the whole curve)")
     g.add_argument("--theta", metavar="LIST", help="comma-separated values, e.g. 1.6,2,3")

@@ -2,9 +2,10 @@
 
 from __future__ import annotations
 
-import argparse
 import contextlib
 import sys
+
+from .common import add_command
 
 EXAMPLE = """\
 examples:
@@ -39,11 +40,11 @@ interrupted run resumes from the verification cache kept in the output folder.
 def add_parser(sub) -> None:
     from ..tables.spec import GRID_LIMIT, LARGE_LIMIT
 
-    p = sub.add_parser(
-        "table", help="write verified, print-ready tables (CSV, spreadsheet, PDF) from a spec",
-        description="Compute every design of a table spec, verify each with the "
+    p = add_command(
+        sub, "table", "write verified, print-ready tables (CSV, spreadsheet, PDF) from a spec",
+        "Compute every design of a table spec, verify each with the "
                     "high-precision solver, and write the table set into a folder.",
-        epilog=EXAMPLE, formatter_class=argparse.RawDescriptionHelpFormatter)
+        EXAMPLE)
     p.add_argument("spec", nargs="?", metavar="SPEC", help="the table spec (a .toml file)")
     p.add_argument("--out", metavar="DIR", help="folder to write the table set into")
     p.add_argument("--check", metavar="DIR",

@@ -142,22 +142,26 @@ def _widths(s) -> list:
     return out
 
 
-def _section(wb, tset, s) -> None:
-    ws = wb.create_sheet(s.sheet)
-    ncol = len(s.columns)
-    last = get_column_letter(ncol)
-    widths = _widths(s)
-    # title, heading with H0, rule: each merged across the table so nothing spills past it
-    for r, text, font, size in ((1, safe_cell_text(tset.spec.title),
-                                 Font(name=FONT, bold=True, size=12), 17),
-                                (2, f"{s.heading}.  {s.hypothesis}", BOLD, 15),
-                                (3, s.rule, None, 15)):
+def heading_rows(ws, rows, last: str, widths) -> None:
+    """Rows 1, 2, ... of (text, font, line height): wrapped, merged across columns A..last."""
+    for r, (text, font, size) in enumerate(rows, start=1):
         cell = ws.cell(row=r, column=1, value=text)
         cell.alignment = WRAP
         if font is not None:
             cell.font = font
         ws.merge_cells(f"A{r}:{last}{r}")
         ws.row_dimensions[r].height = size * _lines(text, sum(widths) * (0.85 if font else 1))
+
+
+def _section(wb, tset, s) -> None:
+    ws = wb.create_sheet(s.sheet)
+    ncol = len(s.columns)
+    last = get_column_letter(ncol)
+    widths = _widths(s)
+    # title, heading with H0, rule: each merged across the table so nothing spills past it
+    heading_rows(ws, [(safe_cell_text(tset.spec.title), Font(name=FONT, bold=True, size=12), 17),
+                      (f"{s.heading}.  {s.hypothesis}", BOLD, 15),
+                      (s.rule, None, 15)], last, widths)
     # group header (row 4, merged over each group) and labels (row 5)
     start = 0
     for i in range(1, ncol + 1):

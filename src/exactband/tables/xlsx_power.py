@@ -19,7 +19,7 @@ from openpyxl.utils import get_column_letter
 from ..fileio import safe_cell_text
 from .layout import WORDS, plain
 from .texts import hypothesis_at
-from .write_xlsx import BOLD, CENTER, FONT, MEDIUM, THIN, WRAP, _lines, _page
+from .write_xlsx import BOLD, CENTER, FONT, MEDIUM, THIN, _page, heading_rows
 
 SHEET = "Power"
 RULE_ORDER = ("randomized", "digits", "conservative")  # exact, as applied, without digits
@@ -71,13 +71,7 @@ def power_sheet(wb, tset) -> None:
              f"with {d} random digits and the thresholds t; conservative = no randomisation. "
              f"Shaded, in italics: {symbol} lies inside H0 there, so the value is the chance "
              f"of a wrong rejection (at most alpha).", None, 15)]
-    for r, (text, font, size) in enumerate(head, start=1):
-        cell = ws.cell(row=r, column=1, value=text)
-        cell.alignment = WRAP
-        if font is not None:
-            cell.font = font
-        ws.merge_cells(f"A{r}:{last}{r}")
-        ws.row_dimensions[r].height = size * _lines(text, sum(widths) * (0.85 if font else 1))
+    heading_rows(ws, head, last, widths)
     first_theta = len(ID_COLUMNS) + 1
     cell = ws.cell(row=4, column=first_theta, value=f"Power at {symbol} =")
     cell.font, cell.alignment = BOLD, CENTER
