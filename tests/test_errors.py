@@ -58,7 +58,9 @@ def test_bad_input_gives_one_clear_line(change, field, text):
         exactband.design(kw.pop("family"), kw.pop("kind"), **kw)
     msg = str(info.value)
     assert "\n" not in msg
-    assert msg.startswith(f"invalid {field} = "), msg
+    assert msg.startswith(f"invalid {field} = " if dict(BASE, **change).get(field) is not None
+                          else f"missing {field}: "), msg
+    assert "None" not in msg, msg  # an absent value is "missing", never "= None"
     assert text in msg, msg
 
 
@@ -105,7 +107,8 @@ def test_batch_message_is_the_single_design_message(change, field):
     frame = pd.DataFrame([good, good, bad, good], dtype=object)
     with pytest.raises(DesignError) as info:
         exactband.designs(frame, verify=False)
-    assert str(info.value).startswith(f"row 2: invalid {field} = "), str(info.value)
+    assert str(info.value).startswith((f"row 2: invalid {field} = ", f"row 2: missing {field}: ")), \
+        str(info.value)
 
 
 values = st.one_of(st.none(), st.just(np.nan), st.floats(allow_nan=True, allow_infinity=True),

@@ -118,6 +118,16 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     if missing:
         raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
                           f"expected columns {', '.join(COLUMNS)}")
+    import numbers
+
+    from .parallel import check_workers
+
+    if not isinstance(frame, pd.DataFrame):
+        raise DesignError(f"invalid frame = {type(frame).__name__}: a pandas DataFrame with "
+                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))")
+    if not isinstance(verify, (bool, numbers.Integral)):
+        raise DesignError(f"invalid verify = {verify!r}: True or False")
+    check_workers(workers)
     precision = api.precision_alias(precision, digits, "designs")
     d = api.check_precision(api.DEFAULT_PRECISION if precision is None else precision)
     size = len(frame)

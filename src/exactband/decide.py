@@ -11,7 +11,6 @@ rejects at a cutoff (no digits needed).
 
 from __future__ import annotations
 
-import math
 import secrets
 from dataclasses import dataclass
 
@@ -101,15 +100,15 @@ def check_count(design: Design, y) -> int:
     top = design.n if design.family == "binomial" else None
     allowed = ("a whole number from 0 to " + str(top) if top is not None
                else "a whole number >= 0")
-    if isinstance(y, bool) or y is None:
-        raise _error("y", y, allowed)
+    from .strict import whole
+
     try:
-        x = float(y.strip()) if isinstance(y, str) else float(y)
-    except (TypeError, ValueError):
-        raise _error("y", y, allowed) from None
-    if not math.isfinite(x) or x != math.floor(x) or x < 0 or (top is not None and x > top):
+        x = whole("y", y, allowed)
+    except ExactbandError as e:
+        raise DecideError(str(e)) from None
+    if x < 0 or (top is not None and x > top):
         raise _error("y", y, allowed)
-    return int(x)
+    return x
 
 
 def check_digits_text(digits, need: int | None) -> str:
@@ -188,11 +187,13 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
     yy = check_count(design, y)
     need = None
     if random_digits is not None:
+        from .strict import whole
+
         try:
-            need = int(random_digits)
-        except (TypeError, ValueError):
-            raise _error("random-digits", random_digits, "a whole number from 1 to 9") from None
-        if str(need) != str(random_digits).strip() or not 1 <= need <= 9:
+            need = whole("random-digits", random_digits, "a whole number from 1 to 9")
+        except ExactbandError as e:
+            raise DecideError(str(e)) from None
+        if not 1 <= need <= 9:
             raise _error("random-digits", random_digits, "a whole number from 1 to 9")
     text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)

@@ -38,5 +38,9 @@ def show(value) -> str:
 
 
 def invalid(field: str, value, allowed: str) -> DesignError:
-    """Build the standard one-line message: field, value given, what is allowed."""
+    """Build the standard one-line message: field, value given, what is allowed.
+
+    A value that is absent (None) is reported as missing, never as "= None"."""
+    if value is None:
+        return DesignError(f"missing {field}: {allowed}")
     return DesignError(f"invalid {field} = {show(value)}: {allowed}")

@@ -21,7 +21,6 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .errors import invalid
 
 
 @dataclass(frozen=True)
@@ -51,10 +50,9 @@ KINDS: dict[str, Kind] = {
 
 
 def get_kind(name) -> Kind:
-    key = name.strip().lower() if isinstance(name, str) else name
-    if key not in KINDS:
-        raise invalid("kind", name, "allowed: " + ", ".join(KINDS))
-    return KINDS[key]
+    from .strict import name as check_name
+
+    return KINDS[check_name("kind", name, tuple(KINDS))]
 
 
 def phi(kind: str, c1, g1, c2, g2, y):

@@ -39,15 +39,19 @@ def _error(field, value, allowed) -> PlanningError:
 def check_random_digits(d) -> int:
     """Number of random digits of the field rule: a whole number from 1 to 9."""
     allowed = "a whole number of random digits from 1 to 9"
-    if isinstance(d, bool) or d is None:
+    x = _whole("random-digits", d, allowed)
+    if not 1 <= x <= 9:
         raise _error("random-digits", d, allowed)
+    return x
+
+
+def _whole(field, value, allowed) -> int:
+    from .strict import whole
+
     try:
-        x = float(d)
-    except (TypeError, ValueError):
-        raise _error("random-digits", d, allowed) from None
-    if not math.isfinite(x) or x != int(x) or not 1 <= x <= 9:
-        raise _error("random-digits", d, allowed)
-    return int(x)
+        return whole(field, value, allowed)
+    except ExactbandError as e:
+        raise PlanningError(str(e)) from None
 
 
 def check_rule(rule) -> str:
@@ -60,13 +64,10 @@ def check_rule(rule) -> str:
 
 def check_points(points) -> int:
     allowed = "a whole number of points from 2 to 100000"
-    try:
-        x = float(points)
-    except (TypeError, ValueError):
-        raise _error("points", points, allowed) from None
-    if isinstance(points, bool) or not math.isfinite(x) or x != int(x) or not 2 <= x <= 100000:
+    x = _whole("points", points, allowed)
+    if not 2 <= x <= 100000:
         raise _error("points", points, allowed)
-    return int(x)
+    return x
 
 
 def check_thetas(design: Design, thetas, field: str = "theta") -> np.ndarray:

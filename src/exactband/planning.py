@@ -127,13 +127,15 @@ def _check_step(fam, step):
         return 1 if fam.integer_n else 1.0
     if fam.integer_n:
         allowed = f"a whole number >= 1 for the {fam.name} family ({fam.n_word} is whole)"
+        from .strict import whole
+
         try:
-            x = as_real("step", step)
-        except ExactbandError:
-            raise _error("step", step, allowed) from None
-        if x < 1 or x != int(x):
+            x = whole("step", step, allowed)
+        except ExactbandError as e:
+            raise PlanningError(str(e)) from None
+        if x < 1:
             raise _error("step", step, allowed)
-        return int(x)
+        return x
     try:
         x = as_real("step", step)
     except ExactbandError:

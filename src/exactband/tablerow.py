@@ -97,10 +97,12 @@ def select_row(path, row=None, **filters) -> tuple:
     rows = read_rows(path)
     given = {k: v for k, v in filters.items() if k in FILTERS and v is not None}
     if row is not None:
+        from .strict import whole
+
         try:
-            k = int(str(row).strip())
-        except ValueError:
-            raise _error("row", row, f"a whole number from 1 to {len(rows)}") from None
+            k = whole("row", row, f"a whole number from 1 to {len(rows)}")
+        except ExactbandError as e:
+            raise DecideError(str(e)) from None
         if not 1 <= k <= len(rows):
             raise _error("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)")
         if given and not _matches(rows[k - 1], given):

@@ -3,12 +3,12 @@
 from __future__ import annotations
 
 import hashlib
-import os
 from collections import Counter
 from dataclasses import dataclass
 from pathlib import Path
 
 from ..api import DEFAULT_PRECISION, check_precision
+from ..parallel import check_workers
 from .table import Options, Table, load
 from .verdicts import Verdict, judge
 
@@ -58,7 +58,8 @@ def _sha256(path: Path) -> str:
     return h.hexdigest()
 
 
-def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=1, progress=None) -> AuditResult:
+def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=None,
+          progress=None) -> AuditResult:
     """Read ``path`` (CSV or XLSX) and judge every row; raises AuditInputError if unusable.
 
     ``progress(total)`` may return a callback that is called as rows finish.
@@ -66,7 +67,7 @@ def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, wor
     opts = opts or Options()
     d = check_precision(precision)
     table = load(path, opts)
-    workers = (os.cpu_count() or 1) if workers is None else max(1, int(workers))
+    workers = check_workers(workers)  # None: every usable core (pmap caps it at the rows)
     tick = progress(len(table.rows)) if progress else None
     verdicts = judge_rows(table.rows, d, workers, tick)
     return AuditResult(Path(path), _sha256(Path(path)), table, verdicts, d)

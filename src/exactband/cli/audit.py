@@ -3,10 +3,9 @@
 from __future__ import annotations
 
 import math
-import os
 import sys
 
-from .common import add_command, check_precision
+from .common import add_command, add_workers_option, check_precision, check_workers
 
 EXAMPLE = """\
 examples:
@@ -57,18 +56,19 @@ def add_parser(sub) -> None:
                         "decimal they printed, inferred per column)")
     j.add_argument("--precision", metavar="D", default="50",
                    help="significant digits of the high-precision solver (default 50)")
-    j.add_argument("--workers", metavar="N",
-                   help="processes for the recomputation (default: the CPU count, at most 4)")
+    add_workers_option(j)
     p.set_defaults(run=run)
 
 
 def _int(name, text, lo):
     from ..audit import AuditInputError
+    from ..errors import ExactbandError
+    from ..strict import whole
 
     try:
-        v = int(str(text))
-    except ValueError:
-        raise AuditInputError(f"invalid --{name} = {text!r}: a whole number >= {lo}") from None
+        v = whole(f"--{name}", text, f"a whole number >= {lo}")
+    except ExactbandError as e:
+        raise AuditInputError(str(e)) from None
     if v < lo:
         raise AuditInputError(f"invalid --{name} = {text!r}: a whole number >= {lo}")
     return v
@@ -87,9 +87,12 @@ def options(args):
             consts[k] = getattr(args, k)
     tol = None
     if args.gamma_tol is not None:
+        from ..errors import ExactbandError
+        from ..strict import real
+
         try:
-            tol = float(args.gamma_tol)
-        except ValueError:
+            tol = real("--gamma-tol", args.gamma_tol)
+        except ExactbandError:
             tol = math.nan
         if not (math.isfinite(tol) and 0 <= tol < 0.5):
             raise AuditInputError(f"invalid --gamma-tol = {args.gamma_tol!r}: a number with "
@@ -120,8 +123,7 @@ def run(args) -> int:
     from ..audit import AuditInputError, audit, reports
 
     opts = options(args)
-    workers = (min(4, os.cpu_count() or 1) if args.workers is None
-               else _int("workers", args.workers, 1))
+    workers = check_workers(args.workers)
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
         raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
     result = audit(args.file, opts, precision=check_precision(args.precision), workers=workers,

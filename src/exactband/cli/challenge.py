@@ -37,9 +37,12 @@ def run(args) -> int:
     from ..audit import challenge as ch
     from ..fileio import atomic_write_bytes
 
+    from ..errors import ExactbandError
+    from ..strict import whole
+
     try:
-        seed = int(args.seed)
-    except ValueError:
+        seed = whole("--seed", args.seed, "a whole number >= 0")
+    except ExactbandError:
         seed = -1
     if seed < 0:
         raise AuditInputError(f"invalid --seed = {args.seed!r}: a whole number >= 0")

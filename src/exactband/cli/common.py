@@ -38,6 +38,22 @@ def add_design_options(p: argparse.ArgumentParser, required: bool = True,
                    help="significant digits of the verifying high-precision solver (default 50)")
 
 
+WORKERS_HELP = ("worker processes for the high-precision checks (default: every usable core; "
+                "never more than the cores or the rows / designs to check)")
+
+
+def add_workers_option(group) -> None:
+    """--workers: one parser and one default for every command."""
+    group.add_argument("--workers", metavar="N", help=WORKERS_HELP)
+
+
+def check_workers(value):
+    """--workers as given: None (the default: every usable core) or a whole number."""
+    from ..parallel import check_workers as check
+
+    return check(value, "--workers")
+
+
 def check_precision(value) -> int:
     """--precision as the solvers' digits; the message names the option the user typed."""
     from ..api import check_precision as check

@@ -5,7 +5,7 @@ from __future__ import annotations
 import contextlib
 import sys
 
-from .common import add_command
+from .common import add_command, add_workers_option, check_workers
 
 EXAMPLE = """\
 examples:
@@ -51,23 +51,8 @@ def add_parser(sub) -> None:
                    help="re-verify the generated set(s) in DIR instead of generating")
     p.add_argument("--allow-large", action="store_true",
                    help=f"allow a grid of more than {GRID_LIMIT} designs (up to {LARGE_LIMIT})")
-    p.add_argument("--workers", metavar="N",
-                   help="processes for the high-precision verification (default: all cores)")
+    add_workers_option(p)
     p.set_defaults(run=run)
-
-
-def _workers(text):
-    from ..errors import invalid
-
-    if text is None:
-        return None
-    try:
-        w = int(text)
-    except ValueError:
-        raise invalid("--workers", text, "a whole number from 1 to 256") from None
-    if not 1 <= w <= 256:
-        raise invalid("--workers", text, "a whole number from 1 to 256")
-    return w
 
 
 @contextlib.contextmanager
@@ -97,7 +82,7 @@ def _log(text: str) -> None:
 def run(args) -> int:
     from ..cli import UsageError
 
-    workers = _workers(args.workers)
+    workers = check_workers(args.workers)
     if args.check is not None:
         if args.spec is not None or args.out is not None:
             raise UsageError("exactband table: --check DIR takes no SPEC and no --out")

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-from ..errors import invalid
 from .base import Family
 from .binomial import BINOMIAL
 from .negbinomial import NEGBINOMIAL
@@ -13,10 +12,9 @@ FAMILIES: dict[str, Family] = {f.name: f for f in (POISSON, BINOMIAL, NEGBINOMIA
 
 def get_family(name) -> Family:
     """Look a family up by name (case and surrounding spaces ignored)."""
-    key = name.strip().lower() if isinstance(name, str) else name
-    if key not in FAMILIES:
-        raise invalid("family", name, "allowed: " + ", ".join(FAMILIES))
-    return FAMILIES[key]
+    from ..strict import name as check_name
+
+    return FAMILIES[check_name("family", name, tuple(FAMILIES))]
 
 
 __all__ = ["FAMILIES", "Family", "get_family"]

@@ -14,8 +14,6 @@ the probabilities as well as the search.
 
 from __future__ import annotations
 
-import math
-import numbers
 from dataclasses import dataclass
 
 from ..errors import invalid
@@ -23,19 +21,9 @@ from ..errors import invalid
 
 def as_real(field: str, value) -> float:
     """Return ``value`` as a finite float or raise a one-line DesignError."""
-    if isinstance(value, bool) or value is None:
-        raise invalid(field, value, "a finite number is required")
-    if isinstance(value, str):
-        try:
-            value = float(value)
-        except ValueError:
-            raise invalid(field, value, "a finite number is required") from None
-    if not isinstance(value, numbers.Real):
-        raise invalid(field, value, "a finite number is required")
-    out = float(value)
-    if not math.isfinite(out):
-        raise invalid(field, value, "a finite number is required")
-    return out
+    from ..strict import real
+
+    return real(field, value, "a finite number is required")
 
 
 @dataclass(frozen=True)
@@ -54,22 +42,18 @@ class Family:
         """Validate n: a positive real (exposure) or a positive integer count."""
         if self.integer_n:
             allowed = f"{self.n_word} must be a whole number >= 1 for the {self.name} family"
-            if isinstance(n, bool) or n is None:
-                raise invalid("n", n, allowed)
-            try:
-                x = float(n)
-            except (TypeError, ValueError):
-                raise invalid("n", n, allowed) from None
-            if not math.isfinite(x) or x < 1 or x != math.floor(x):
+            from ..strict import whole
+
+            x = whole("n", n, allowed)
+            if x < 1:
                 raise invalid("n", n, allowed)
             if x > 1e12:
                 raise invalid("n", n, "n must not exceed 1e12")
             return int(x)
         allowed = f"{self.n_word} must be a finite number > 0 for the {self.name} family"
-        try:
-            x = as_real("n", n)
-        except Exception:
-            raise invalid("n", n, allowed) from None
+        from ..strict import real
+
+        x = real("n", n, allowed)
         if x <= 0:
             raise invalid("n", n, allowed)
         if x > 1e12:
