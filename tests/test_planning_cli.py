@@ -88,7 +88,7 @@ def test_plan_text_json_and_plot(tmp_path, capsys):
     (["--alternatives", "3", "--target", "0.05"], "invalid target = 0.05"),
     (["--alternatives", "3", "--target", "1.5"], "invalid target = 1.5"),
     (["--alternatives", "3"], "--target"),
-    (["--alternatives", "3", "--target", "0.9", "--n", "10"], "unrecognized arguments: --n 10"),
+    (["--alternatives", "3", "--target", "0.9", "--n", "10"], "unknown option --n"),
     (["--alternatives", "3", "--target", "0.9", "--step", "-1"], "invalid step = -1"),
     (["--alternatives", "3", "--target", "0.9", "--plot", "p.jpg"], "invalid plot = p.jpg"),
     (["--alternatives", "3", "--target", "0.9", "--rule", "fast"], "invalid rule = fast"),

@@ -12,15 +12,26 @@ import os
 import tempfile
 from pathlib import Path
 
+from .errors import ExactbandError
+
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+
+class OutputError(ExactbandError, OSError):
+    """A file or folder cannot be written (one line naming the path; CLI exit 2)."""
 
 
 @contextlib.contextmanager
 def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: str | None = None):
     """Open a temporary file next to ``path``; on success fsync and rename it into place."""
     path = Path(path)
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
+    except OSError as e:
+        blocker = next((q for q in path.parents if q.exists() and not q.is_dir()), None)
+        why = f"{blocker} is not a folder" if blocker else (e.strerror or type(e).__name__)
+        raise OutputError(f"cannot write {path}: {why}") from None
     try:
         kwargs = {} if "b" in mode else {"encoding": encoding or "utf-8", "newline": newline}
         with os.fdopen(fd, mode, **kwargs) as fh:
@@ -28,7 +39,10 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
             fh.flush()
             os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give a normal file's mode
             os.fsync(fh.fileno())
-        os.replace(tmp, path)
+        try:
+            os.replace(tmp, path)
+        except OSError as e:
+            raise OutputError(f"cannot write {path}: {e.strerror or type(e).__name__}") from None
         _fsync_dir(path.parent)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):

@@ -36,7 +36,41 @@ def file_format(path: Path) -> str:
         raise AuditInputError(f"{path.name}: the old .xls format is not read; save the sheet as "
                               ".xlsx or CSV")
     with open(path, "rb") as fh:
-        return "xlsx" if fh.read(4) == b"PK\x03\x04" else "csv"
+        head = fh.read(4096)
+    if head.startswith(b"PK\x03\x04"):
+        return "xlsx"
+    _not_a_table(path, head)
+    return "csv"
+
+
+# first bytes of file types people send instead of a table
+_MAGIC = ((b"%PDF", "a PDF document"), (b"\xd0\xcf\x11\xe0", "an old Office (.xls/.doc) file"),
+          (b"\x89PNG", "a PNG image"), (b"\xff\xd8\xff", "a JPEG image"), (b"GIF8", "a GIF image"),
+          (b"\x1f\x8b", "a gzip archive"), (b"PK", "a ZIP archive"), (b"{\\rtf", "an RTF document"))
+
+
+def _not_a_table(path: Path, head: bytes) -> None:
+    """Refuse a file that is plainly not CSV text (a PDF, an image, binary data)."""
+    what = next((w for magic, w in _MAGIC if head.startswith(magic)), None)
+    if what is None and b"\x00" in head and not head.startswith((b"\xff\xfe", b"\xfe\xff")):
+        what = "binary data"
+    if what is not None:
+        raise AuditInputError(f"{path.name}: not a CSV or XLSX file (it is {what}); audit reads "
+                              "a table saved as CSV text or as an XLSX workbook")
+
+
+def sheet_names(path: Path) -> list:
+    """The sheet names of an XLSX workbook ([] if they cannot be read)."""
+    try:
+        import openpyxl
+
+        wb = openpyxl.load_workbook(path, read_only=True)
+        try:
+            return list(wb.sheetnames)
+        finally:
+            wb.close()
+    except Exception:  # only a hint for a message
+        return []
 
 
 def read(path, *, sheet=None, delimiter=None, encoding="utf-8"):
@@ -112,10 +146,12 @@ def _csv(p: Path, delimiter, encoding):
     import codecs
 
     try:
-        codecs.lookup(encoding)
-    except LookupError:
-        raise AuditInputError(f"invalid --encoding = {encoding!r}: not a known text encoding") \
-            from None
+        text_codec = getattr(codecs.lookup(encoding), "_is_text_encoding", True)
+    except (LookupError, TypeError, ValueError):
+        text_codec = False
+    if not text_codec:
+        raise AuditInputError(f"invalid --encoding = {encoding!r}: not a text encoding; "
+                              "e.g. utf-8, cp1252, latin-1")
     if delimiter is not None and (len(delimiter) != 1 or delimiter in "\"\r\n"):
         raise AuditInputError(f"invalid --delimiter = {delimiter!r}: one character such as , ; "
                               "or a tab")
@@ -248,6 +284,9 @@ def _xlsx(p: Path, sheet):
             raise AuditInputError(f"{p.name}: sheet {ws.title!r} is not readable "
                                   f"({type(e).__name__}: {msg})") from None
         if header is None:
-            raise AuditInputError(f"{p.name}: sheet {ws.title!r} is empty (no header row)")
+            others = [s for s in wb.sheetnames if s != ws.title]
+            hint = (f"; the workbook's other sheets: {', '.join(repr(s) for s in others)} "
+                    "(choose one with --sheet)") if others else ""
+            raise AuditInputError(f"{p.name}: sheet {ws.title!r} is empty (no header row){hint}")
     finally:
         wb.close()

@@ -98,7 +98,7 @@ def load(path, opts: Options) -> Table:
                                  for k in names)))
     if not rows:
         raise AuditInputError(f"{p.name}: the header has no data rows below it")
-    _check_required(p.name, pos, opts.constants, header)
+    _check_required(p.name, pos, opts.constants, header, _sheets_hint(p, opts))
     texts = [dict(zip(names, cells)) for _, cells in rows]
     if mark is None:
         mark, mixed = N.file_mark(t[k] for t in texts for k in NUMERIC if k in t)
@@ -108,10 +108,28 @@ def load(path, opts: Options) -> Table:
     notes = []
     if "gamma1" not in pos and "gamma2" not in pos:
         notes.append("no gamma columns: the table is read as non-randomised (every gamma 0)")
+    else:
+        for c, g in (("c1", "gamma1"), ("c2", "gamma2")):
+            if c in pos and g not in pos:
+                notes.append(f"no {g} column: {g} is read as 0 in every row (no randomisation "
+                             f"at {c}); map it with --map if the file has it under another name")
     return Table(p.name, out, {k: header[i] for k, i in pos.items()}, ignored, mark, notes)
 
 
-def _check_required(name, pos, consts, header):
+def _sheets_hint(p: Path, opts) -> str:
+    """For an XLSX read from its first sheet: the other sheets, where the data may be."""
+    from .readers import file_format, sheet_names
+
+    if opts.sheet is not None or file_format(p) != "xlsx":
+        return ""
+    names = sheet_names(p)
+    if len(names) < 2:
+        return ""
+    return (f"; this is sheet {names[0]!r} of {', '.join(repr(s) for s in names)}: if the table "
+            "is on another sheet, choose it with --sheet")
+
+
+def _check_required(name, pos, consts, header, hint=""):
     missing = [k for k in ("family", "kind", "n", "alpha") if k not in pos and k not in consts]
     if not any(k in pos for k in ("c1", "c2")):
         missing.append("c1 or c2")
@@ -119,7 +137,7 @@ def _check_required(name, pos, consts, header):
         have = ", ".join(repr(h) for h in header if h) or "none"
         raise AuditInputError(f"{name}: missing column(s) {', '.join(missing)} (columns found: "
                               f"{have}); map them with --map OURS=THEIRS or a mapping file, or "
-                              "give family / kind once with --family / --kind")
+                              f"give family / kind once with --family / --kind{hint}")
 
 
 def _kind_columns(name, rows, pos):

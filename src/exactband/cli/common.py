@@ -61,7 +61,25 @@ def check_precision(value) -> int:
     return check(value)
 
 
+def check_needed(args) -> None:
+    """The options the chosen kind and family need, named as options when absent:
+    'missing: the band kind needs --high'."""
+    from ..families import get_family
+    from ..kinds import get_kind
+    from . import UsageError
+
+    if args.family is None or args.kind is None:
+        return
+    fam, kind = get_family(args.family), get_kind(args.kind)
+    for name in kind.takes:
+        if getattr(args, name, None) is None:
+            raise UsageError(f"missing: the {kind.name} kind needs --{name}")
+    if fam.uses_dispersion and getattr(args, "dispersion", None) is None:
+        raise UsageError(f"missing: the {fam.name} family needs --dispersion")
+
+
 def design_kwargs(args) -> dict:
+    check_needed(args)
     args.precision = check_precision(args.precision)
     return dict(n=args.n, alpha=args.alpha, low=args.low, high=args.high, value=args.value,
                 dispersion=args.dispersion, precision=args.precision)

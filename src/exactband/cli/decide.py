@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from .common import add_command, add_design_options, check_precision
+from .common import add_command, add_design_options, check_needed, check_precision
 from .output import emit, json_text, require
 
 EXAMPLE = """\
@@ -73,6 +73,7 @@ def run(args) -> int:
         if args.row is not None:
             raise DecideError(f"invalid row = {args.row}: --row needs --table")
         require(args, ("family", "kind", "n", "alpha"), "decide")
+        check_needed(args)
         d = design(args.family, args.kind, n=args.n, alpha=args.alpha, low=args.low,
                    high=args.high, value=args.value, dispersion=args.dispersion,
                    precision=check_precision(args.precision))

@@ -69,5 +69,5 @@ def require(args, names, command: str) -> None:
 
     missing = [f"--{n}" for n in names if getattr(args, n, None) in (None, "")]
     if missing:
-        raise UsageError(f"exactband {command}: the following arguments are required: "
+        raise UsageError(f"{command}: the following arguments are required: "
                          + ", ".join(missing))

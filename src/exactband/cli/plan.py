@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from .common import add_command, add_design_options, check_precision
+from .common import add_command, add_design_options, check_needed, check_precision
 from .output import emit, json_text, require
 
 EXAMPLE = """\
@@ -94,6 +94,7 @@ def run(args) -> int:
     from .design import design_json
 
     require(args, ("family", "kind", "alpha", "alternatives", "target"), "plan")
+    check_needed(args)
     plot = None
     if args.plot:
         from ..plots import check_plot_path

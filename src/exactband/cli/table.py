@@ -11,7 +11,7 @@ EXAMPLE = """\
 examples:
   exactband table tables/demo.toml --out output/demo
       writes demo.csv, demo.print.csv, demo.xlsx, demo.pdf and demo.manifest.json
-  exactband table --check output/demo
+  exactband table --check output/demo     (or: exactband table --check --out output/demo)
       re-verifies every row of a generated set and the files' SHA-256 (exit 0 ok, 1 not)
 
 A spec (TOML; every key is described in README.md):
@@ -47,8 +47,9 @@ def add_parser(sub) -> None:
         EXAMPLE)
     p.add_argument("spec", nargs="?", metavar="SPEC", help="the table spec (a .toml file)")
     p.add_argument("--out", metavar="DIR", help="folder to write the table set into")
-    p.add_argument("--check", metavar="DIR",
-                   help="re-verify the generated set(s) in DIR instead of generating")
+    p.add_argument("--check", nargs="?", const=True, metavar="DIR",
+                   help="re-verify the generated set(s) in DIR (or in the --out DIR) instead "
+                        "of generating")
     p.add_argument("--allow-large", action="store_true",
                    help=f"allow a grid of more than {GRID_LIMIT} designs (up to {LARGE_LIMIT})")
     add_workers_option(p)
@@ -79,23 +80,37 @@ def _log(text: str) -> None:
     print(f"exactband: {text}", file=sys.stderr)
 
 
+def _check_folder(args) -> str:
+    """--check DIR, or --check with --out DIR: the same folder option as generating."""
+    from ..cli import UsageError
+
+    if args.spec is not None:
+        raise UsageError("table: --check re-verifies a generated folder and takes no SPEC")
+    folder = args.check if isinstance(args.check, str) else args.out
+    if folder is None:
+        raise UsageError("table: --check needs the folder: --check DIR or --check --out DIR")
+    if isinstance(args.check, str) and args.out is not None and args.out != args.check:
+        raise UsageError(f"table: two folders given (--check {args.check} and --out "
+                         f"{args.out}); give one")
+    return folder
+
+
 def run(args) -> int:
     from ..cli import UsageError
 
     workers = check_workers(args.workers)
     if args.check is not None:
-        if args.spec is not None or args.out is not None:
-            raise UsageError("exactband table: --check DIR takes no SPEC and no --out")
+        folder = _check_folder(args)
         from ..tables import check_set
 
         with _bar("re-verifying") as progress:
-            ok, lines = check_set(args.check, workers=workers, progress=progress)
+            ok, lines = check_set(folder, workers=workers, progress=progress)
         print("\n".join(lines))
         return 0 if ok else 1
     if args.spec is None:
-        raise UsageError("exactband table: give a SPEC and --out DIR, or --check DIR")
+        raise UsageError("table: give a SPEC and --out DIR, or --check DIR")
     if args.out is None:
-        raise UsageError("exactband table: --out DIR is required with a SPEC")
+        raise UsageError("table: --out DIR is required with a SPEC")
     from ..tables import generate
 
     with _bar("verifying") as progress:
