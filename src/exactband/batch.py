@@ -114,6 +114,9 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     from . import api
     from .solvers import fast
 
+    if not isinstance(frame, pd.DataFrame):
+        raise DesignError(f"invalid frame = {type(frame).__name__}: a pandas DataFrame with "
+                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))")
     missing = [c for c in ("family", "kind", "n", "alpha") if c not in frame.columns]
     if missing:
         raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
@@ -122,9 +125,6 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
 
     from .parallel import check_workers
 
-    if not isinstance(frame, pd.DataFrame):
-        raise DesignError(f"invalid frame = {type(frame).__name__}: a pandas DataFrame with "
-                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))")
     if not isinstance(verify, (bool, numbers.Integral)):
         raise DesignError(f"invalid verify = {verify!r}: True or False")
     check_workers(workers)

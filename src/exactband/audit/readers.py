@@ -31,6 +31,8 @@ def file_format(path: Path) -> str:
     if ext in (".xlsx", ".xlsm"):
         return "xlsx"
     if ext in (".csv", ".tsv", ".txt"):
+        with open(path, "rb") as fh:
+            _not_a_table(path, fh.read(4096))
         return "csv"
     if ext == ".xls":
         raise AuditInputError(f"{path.name}: the old .xls format is not read; save the sheet as "

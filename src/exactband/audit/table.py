@@ -97,7 +97,8 @@ def load(path, opts: Options) -> Table:
         rows.append((line, tuple(cells[pos[k]].strip() if pos[k] < len(cells) else ""
                                  for k in names)))
     if not rows:
-        raise AuditInputError(f"{p.name}: the header has no data rows below it")
+        raise AuditInputError(f"{p.name}: the header has no data rows below it"
+                              + _sheets_hint(p, opts))
     _check_required(p.name, pos, opts.constants, header, _sheets_hint(p, opts))
     texts = [dict(zip(names, cells)) for _, cells in rows]
     if mark is None:
