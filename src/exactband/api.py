@@ -6,7 +6,6 @@ solvers.precise -> crosscheck -> Design.  Nothing here formats output.
 
 from __future__ import annotations
 
-import math
 
 import mpmath as mp
 import numpy as np
@@ -26,15 +25,12 @@ DECIMALS = 30  # significant digits of the gammas given as decimal strings
 def check_precision(precision) -> int:
     """The verifying solver's significant digits: a whole number in [MIN, MAX]_PRECISION."""
     allowed = f"a whole number of significant digits from {MIN_PRECISION} to {MAX_PRECISION}"
-    if isinstance(precision, bool):
+    from .strict import whole
+
+    d = whole("precision", precision, allowed)
+    if not MIN_PRECISION <= d <= MAX_PRECISION:
         raise invalid("precision", precision, allowed)
-    try:
-        d = float(precision)
-    except (TypeError, ValueError, OverflowError):
-        raise invalid("precision", precision, allowed) from None
-    if not math.isfinite(d) or d != int(d) or not MIN_PRECISION <= d <= MAX_PRECISION:
-        raise invalid("precision", precision, allowed)
-    return int(d)
+    return d
 
 
 def precision_alias(precision, digits, where: str = "design"):
