@@ -365,6 +365,19 @@ def test_api_raises_its_own_errors(call, field):
     assert f"invalid {field} = " in msg, msg
 
 
+def test_decide_api_errors():
+    from exactband.decide import DecideError, decide
+
+    d = exactband.design(**GOOD)
+    for call, field in ((lambda: decide("d", 3), "design"), (lambda: decide(d, [3]), "y"),
+                        (lambda: decide(d, 3, rule=["x"]), "rule"),
+                        (lambda: decide(d, d.c1, digits_read=4.82), "digits-read"),
+                        (lambda: decide(d, 3, random_digits="3_"), "random-digits")):
+        with pytest.raises(DecideError, match=f"invalid {field} = "):
+            call()
+    assert decide(d, Decimal(d.c1), digits_read="000").y == d.c1
+
+
 def test_api_accepts_decimal_fraction_and_numpy():
     ref = exactband.design(**GOOD)
     for n in (Decimal("25"), np.int64(25), np.float64(25.0), Fraction(25)):
@@ -375,3 +388,16 @@ def test_api_accepts_decimal_fraction_and_numpy():
     assert b.n == 25 and isinstance(b.n, int)
     with pytest.raises(DesignError, match="invalid n = 25.5"):
         exactband.design("binomial", "upper", n=Decimal("25.5"), value=0.1, alpha=0.05)
+
+
+def test_spec_names_get_the_nearest(tmp_path):
+    from exactband.tables.spec import SpecError, load_spec
+
+    p = tmp_path / "s.toml"
+    p.write_text('title = "t"\nfamily = "poison"\nkinds = ["uper"]\nalpha = [0.05]\nn = [5]\n'
+                 'values = [2]\n')
+    with pytest.raises(SpecError, match="did you mean poisson"):
+        load_spec(p)
+    p.write_text(p.read_text().replace('"poison"', '"poisson"'))
+    with pytest.raises(SpecError, match="did you mean upper"):
+        load_spec(p)

@@ -180,8 +180,11 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         if digits_read is not None and digits_read != digits:
             raise _error("digits", digits, "give digits_read only (digits is its old name)")
         digits_read = digits
+    if not isinstance(design, Design):
+        raise DecideError(f"invalid design = {type(design).__name__}: a Design from "
+                          "exactband.design() or a table row")
     mode = rule.strip().lower() if isinstance(rule, str) else rule
-    mode = MODE_ALIASES.get(mode, mode)
+    mode = MODE_ALIASES.get(mode, mode) if isinstance(mode, str) else mode
     if mode not in MODES:
         raise _error("rule", rule, "randomised or conservative")
     yy = check_count(design, y)

@@ -66,7 +66,10 @@ class Checker:
         for a in allowed:
             if value.strip().lower() == a.lower():
                 return a
-        raise self.bad(key, value, "one of " + ", ".join(allowed))
+        from ..strict import suggest
+
+        raise self.bad(key, value, "one of " + ", ".join(allowed)
+                       + suggest(value.strip().lower(), [x.lower() for x in allowed]))
 
     def names(self, key, value, allowed: tuple) -> tuple:
         example = f'{key} = ["{allowed[0]}"]'
