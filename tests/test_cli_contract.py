@@ -170,6 +170,18 @@ def test_unwritable_outputs_exit_2_naming_the_path(cli, tmp_path, audit_files):
     assert afile.read_text() == "x" and sorted(os.listdir(tmp_path)) == ["afile"]
 
 
+def test_special_files_are_never_replaced(cli, tmp_path):
+    fifo = tmp_path / "pipe.csv"
+    os.mkfifo(fifo)
+    err = one_line(cli, "power", *BAND, "--out", str(fifo))
+    assert "not a regular file" in err and str(fifo) in err
+    assert fifo.is_fifo()
+    plot = tmp_path / "pipe.png"
+    os.mkfifo(plot)
+    assert "not a regular file" in one_line(cli, "power", *BAND, "--plot", str(plot))
+    assert plot.is_fifo()
+
+
 def test_text_codec_only_for_encoding(cli, audit_files):
     _, csv_path, _ = audit_files
     for enc in ("rot13", "base64", "zlib", "no-such-codec"):

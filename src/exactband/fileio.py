@@ -25,6 +25,9 @@ class OutputError(ExactbandError, OSError):
 def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: str | None = None):
     """Open a temporary file next to ``path``; on success fsync and rename it into place."""
     path = Path(path)
+    if (path.exists() or path.is_symlink()) and not path.is_file():
+        # a folder, device, pipe or socket: renaming over it would destroy it
+        raise OutputError(f"cannot write {path}: it exists and is not a regular file")
     try:
         path.parent.mkdir(parents=True, exist_ok=True)
         fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
