@@ -183,7 +183,8 @@ def main(argv=None) -> int:
         try:
             code = _run(argv)
         except BrokenPipeError:  # raised outside a write we guard: the result is unknown
-            guard and guard._closed()
+            if guard is not None:
+                guard._closed()
             code = 2
         if guard is not None:
             guard.flush()
