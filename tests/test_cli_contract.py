@@ -413,3 +413,37 @@ def test_spec_names_get_the_nearest(tmp_path):
     p.write_text(p.read_text().replace('"poison"', '"poisson"'))
     with pytest.raises(SpecError, match="did you mean upper"):
         load_spec(p)
+
+
+# -- strict readers, property form ---------------------------------------------------
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+from exactband import strict  # noqa: E402
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.integers(min_value=0, max_value=10 ** 40))
+def test_whole_reads_plain_digits_exactly(i):
+    assert strict.whole("y", str(i)) == i  # no float in between: exact for 40 digits
+    assert strict.whole("y", Decimal(i)) == i
+    with pytest.raises(DesignError):
+        strict.whole("y", f"{i}.5")
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.text(min_size=1, max_size=8))
+def test_text_with_any_non_ascii_or_underscore_is_refused(text):
+    bad = any(not c.isascii() or c == "_" for c in text)
+    if bad:
+        with pytest.raises(DesignError):
+            strict.real("x", text)
+        with pytest.raises(DesignError):
+            strict.whole("x", text)
+    else:  # what Python's float() reads, less inf/nan/underscores; refused cleanly otherwise
+        try:
+            value = strict.real("x", text)
+        except DesignError as e:
+            assert str(e).startswith(("invalid x = ", "missing x: "))
+        else:
+            assert value == float(text)

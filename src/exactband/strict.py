@@ -34,7 +34,7 @@ def real(field: str, value, allowed: str = "a finite number") -> float:
     if isinstance(value, bool) or value is None:
         raise invalid(field, value, allowed)
     if isinstance(value, str):
-        text = value.strip()
+        text = value.strip(" \t\r\n")
         if not _REAL.fullmatch(text):
             raise invalid(field, value, f"{allowed}, {TEXT_REAL}")
         out = float(text)
@@ -62,7 +62,7 @@ def whole(field: str, value, allowed: str = "a whole number") -> int:
     if isinstance(value, bool) or value is None:
         raise invalid(field, value, allowed)
     if isinstance(value, str):
-        text = value.strip()
+        text = value.strip(" \t\r\n")
         if not _WHOLE.fullmatch(text):
             raise invalid(field, value, f"{allowed}, {TEXT_WHOLE}")
         return int(text)
