@@ -55,6 +55,8 @@ def test_unknown_option_is_named_with_the_nearest(cli):
     assert "unknown option --familly" in err and "did you mean --family?" in err
     err = one_line(cli, "audit", "x.csv", "--worker", "2")
     assert "unknown option --worker" in err and "--workers" in err
+    err = one_line(cli, "--verbose", "design", *BAND)
+    assert "unknown option --verbose" in err
     err = one_line(cli, "desing", *BAND)
     assert "unknown command 'desing'" in err and "did you mean design?" in err
 

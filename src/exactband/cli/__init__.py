@@ -63,6 +63,10 @@ def check_options(parser, argv) -> None:
     at = next((i for i, a in enumerate(argv) if not a.startswith("-")), None)
     if at is None or any(a in ("-h", "--help", "--version") for a in argv[:at]):
         return
+    for arg in argv[:at]:
+        if arg.startswith("-"):
+            raise UsageError(f"unknown option {arg.split('=', 1)[0]} before the command "
+                             f"(options go after it: exactband COMMAND OPTIONS)")
     name = argv[at]
     if name not in commands:
         raise UsageError(f"unknown command {name!r}: choose from {', '.join(COMMANDS)}"
