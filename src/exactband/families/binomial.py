@@ -5,7 +5,7 @@ from __future__ import annotations
 import mpmath as mp
 import numpy as np
 
-from ..mpnum import dec
+from ..mpnum import dec, dec_complement
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -21,7 +21,7 @@ class BinomialMp:
     def __init__(self, theta, n, k):
         self.n = int(n)
         self.p = dec(theta)
-        self.q = 1 - self.p
+        self.q = dec_complement(theta)  # exact: keeps 1 - p accurate near p = 1
         self.supmax = self.n
         self.mode = int(mp.floor((self.n + 1) * self.p))
         if self.mode > self.n:

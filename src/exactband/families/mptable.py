@@ -61,15 +61,46 @@ def div_int(x, d: int, prec):
     return libmp.normalize(sign, q, exp - shift, q.bit_length(), prec, _RND)
 
 
-MAX_TABLE = 3_000_000  # terms per table; beyond this the precise solver declines
+MAX_TABLE = 2_000_000  # terms per table; beyond this the precise solver declines
+MAX_TABLE_BYTES = 400 * 2**20  # memory of one table (estimated before allocating)
+_K_MAX = 1.15  # window half-width in sd, per sqrt(2 ln(1/thr)) (Gaussian tail bound, with room)
 
 
 class TableTooLarge(OverflowError):
-    """The law is too spread out to tabulate within MAX_TABLE terms."""
+    """The law is too spread out to tabulate within the limits (MAX_TABLE, MAX_TABLE_BYTES)."""
+
+
+def table_estimate(sd: float, thr, prec: int) -> tuple:
+    """(terms, bytes) a window of +-K sd needs, K from the Gaussian tail bound at thr.
+
+    Every term is kept as a number of about ``prec`` + log2(1/thr) bits in up
+    to four lists (libmp masses, integer masses, prefix sums, first moments).
+    """
+    ln_thr = -float(mp.log(thr)) if thr > 0 else 1e4
+    k = _K_MAX * (2 * ln_thr) ** 0.5 if ln_thr > 0 else 10.0
+    terms = int(2 * k * sd) + 64
+    bits = prec + ln_thr / 0.693 + 64
+    return terms, int(terms * 4 * (bits / 8 + 40))
+
+
+def check_size(sd: float, thr, prec: int, max_len: int = MAX_TABLE):
+    """Raise TableTooLarge (naming the limit) before a table beyond the limits is built."""
+    terms, nbytes = table_estimate(sd, thr, prec)
+    if terms > max_len:
+        raise TableTooLarge(f"about {terms:,} terms per probability table, limit {max_len:,}")
+    if nbytes > MAX_TABLE_BYTES:
+        raise TableTooLarge(f"about {nbytes / 2**20:,.0f} MB per probability table, "
+                            f"limit {MAX_TABLE_BYTES // 2**20} MB")
 
 
 class MpTable:
-    """pmf / cdf / sf / first moments of one discrete law, at working precision."""
+    """pmf / cdf / sf / first moments of one discrete law, at working precision.
+
+    The window [lo, hi] holds the masses of the law's bulk only (outside it the
+    mass is provably below ``thr``); a wide band never tabulates the masses
+    between its two ends.  Values are stored as exact integer multiples of one
+    power of two, so prefix sums are exact and suffix sums are total - prefix.
+    """
 
     def __init__(self, law, thr, moments: bool = False, max_len: int = MAX_TABLE):
         self.law = law
@@ -80,8 +111,7 @@ class MpTable:
         self._prec = mp.mp.prec
         m0 = law.mode
         sd = float(mp.sqrt(law.variance))
-        if sd * 2 * float(mp.sqrt(2 * -mp.log(thr))) > max_len:  # the window needs ~ +-K sd
-            raise TableTooLarge(f"more than {max_len:,} terms")
+        check_size(sd, thr, self._prec, max_len)
         p0 = raw(mp.exp(law.log_pmf(m0)))
         self.lo = self.hi = m0
         self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
@@ -140,34 +170,36 @@ class MpTable:
                 self._sums = None
 
     @property
+    def nbytes(self) -> int:
+        """Rough memory of the table (for the bounded cache)."""
+        bits = self._prec + float(-mp.log(self.thr)) / 0.693 + 64 if self.thr > 0 else self._prec
+        return int((self.hi - self.lo + 1) * 4 * (bits / 8 + 40))
+
+    @property
     def truncated(self):
         """Upper bound on the probability outside the window."""
         return self._trunc_left + self._trunc_right
 
     def _build(self):
-        """Prefix and suffix sums, exact: every mass is an integer multiple of 2**e0.
+        """Prefix sums, exact: every mass is an integer multiple of 2**e0.
 
         Summing exactly in Python integers is much cheaper than rounding each
-        partial sum, and keeps full relative accuracy in both tails; values are
-        rounded to the working precision only when read.
+        partial sum, and keeps full relative accuracy in both tails (a suffix
+        sum is the exact integer total - prefix); values are rounded to the
+        working precision only when read.
         """
         vals = list(reversed(self._left)) + self._right
         e0 = min(v[2] for v in vals if v[1])
         span = max(v[2] + v[3] for v in vals) - e0
         if span > _MAX_EXACT_SPAN:  # astronomically spread table: drop what cannot matter
             e0 = max(v[2] + v[3] for v in vals) - _MAX_EXACT_SPAN
-        ints = [(v[1] << (v[2] - e0)) if v[2] >= e0 else (v[1] >> (e0 - v[2])) for v in vals]
+        ints = [((-1 if v[0] else 1) * ((v[1] << (v[2] - e0)) if v[2] >= e0 else (v[1] >> (e0 - v[2]))))
+                for v in vals]
         F = list(accumulate(ints))
-        S = list(accumulate(reversed(ints)))
-        S.reverse()
-        S = S[1:] + [0]
-        self._e0, self._p, self._F, self._S = e0, vals, F, S
+        self._e0, self._p, self._F, self._tot = e0, ints, F, F[-1]
         if self.moments:
-            yp = [(self.lo + i) * v for i, v in enumerate(ints)]
-            M = list(accumulate(yp))
-            MS = list(accumulate(reversed(yp)))
-            MS.reverse()
-            self._M, self._MS = M, MS[1:] + [0]
+            M = list(accumulate((self.lo + i) * v for i, v in enumerate(ints)))
+            self._M, self._Mtot = M, M[-1]
         self._sums = True
 
     def _num(self, k: int):
@@ -183,7 +215,7 @@ class MpTable:
         self._ready()
         if y < self.lo or y > self.hi:
             return _ZERO
-        return mp.make_mpf(self._p[y - self.lo])
+        return self._num(self._p[y - self.lo])
 
     def cdf(self, y):
         """P(Y <= y)."""
@@ -201,7 +233,7 @@ class MpTable:
             return _ONE
         if y >= self.hi:
             return _ZERO
-        return self._num(self._S[y - self.lo])
+        return self._num(self._tot - self._F[y - self.lo])
 
     def moment_below(self, y):
         """E[Y; Y <= y]."""
@@ -219,7 +251,7 @@ class MpTable:
             return self._num(self._M[-1])
         if y >= self.hi:
             return _ZERO
-        return self._num(self._MS[y - self.lo])
+        return self._num(self._Mtot - self._M[y - self.lo])
 
     # -- quantiles ------------------------------------------------------------
     def first_cdf_above(self, a):
@@ -230,5 +262,6 @@ class MpTable:
     def first_sf_at_most(self, r):
         """min{c : P(Y > c) <= r} (c2 of a right tail of mass r)."""
         self._ready()
-        # S is non-increasing; the first index with S[i] <= r
-        return self.lo + bisect_left(self._S, -r, key=lambda v: -self._num(v))
+        # S = tot - F is non-increasing; the first index with S[i] <= r
+        tot = self._tot
+        return self.lo + bisect_left(self._F, -r, key=lambda v: -self._num(tot - v))

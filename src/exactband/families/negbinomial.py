@@ -41,8 +41,12 @@ class NegBinomialMp:
 
     def log_pmf(self, y):
         r = self.r
-        return (mp.loggamma(y + r) - mp.loggamma(r) - mp.loggamma(y + 1)
-                + r * mp.log(self.q) + y * mp.log(self.qc))
+        # loggamma(y + r) - loggamma(r) cancels about log10(r log r) digits: add them
+        extra = int(mp.log10(r * abs(mp.log(r)) + 10)) + 5
+        with mp.workdps(mp.mp.dps + extra):
+            out = (mp.loggamma(y + r) - mp.loggamma(r) - mp.loggamma(y + 1)
+                   + r * mp.log1p(-self.qc) + y * mp.log(self.qc))
+        return +out
 
     def up(self, p, y, prec):
         # pmf(y+1) = pmf(y) * (y + r) (1 - q) / (y + 1)
