@@ -52,7 +52,7 @@ class PreciseDesign:
     tables: tuple = field(default=(), repr=False, compare=False)  # one per constraint point
 
 
-def working_dps(digits: int, kind: str, low=None, high=None, alpha=None) -> int:
+def working_dps(precision: int, kind: str, low=None, high=None, alpha=None) -> int:
     """Digits to work with: requested + guard + what a narrow band costs.
 
     An equivalence design works with its complement of size 1 - alpha, which
@@ -65,15 +65,15 @@ def working_dps(digits: int, kind: str, low=None, high=None, alpha=None) -> int:
         rel = (high - low) / high
         if rel < 1:
             extra += int(math.ceil(-math.log10(rel))) if rel > 0 else 0
-    return int(digits) + GUARD_DIGITS + extra
+    return int(precision) + GUARD_DIGITS + extra
 
 
 _CACHE: "OrderedDict" = None
 CACHE_BYTES = 64 * 2**20  # tables kept for reuse across designs (same law, other alpha/kind)
 
 
-def _table(family, theta, n, k, digits, alpha, moments=False):
-    """Table whose truncated mass is below alpha * 10**-(digits + 12).
+def _table(family, theta, n, k, precision, alpha, moments=False):
+    """Table whose truncated mass is below alpha * 10**-(precision + 12).
 
     Tables are kept in a bounded cache (least recently used first out): a grid
     of designs meets the same law at many alphas and kinds.  A cached table is
@@ -85,7 +85,7 @@ def _table(family, theta, n, k, digits, alpha, moments=False):
 
     if _CACHE is None:
         _CACHE = OrderedDict()
-    thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(digits + 12))
+    thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
     key = (family.name, repr(theta), repr(n), repr(k))
     prec = mp.mp.prec
     for kk in ((key, True), (key, moments)):
@@ -243,19 +243,19 @@ def equivalence_expectation(T, c1, g1, c2, g2):
 
 
 def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
-          digits: int = 50) -> PreciseDesign:
-    """Solve one design at ``digits`` significant digits (plus guard digits).
+          precision: int = 50) -> PreciseDesign:
+    """Solve one design at ``precision`` significant digits (plus guard digits).
 
     alpha, theta and the band ends are read as the decimals they print as;
     1 - alpha is formed from that decimal exactly.
     """
-    dps = working_dps(digits, kind, low, high, alpha)
+    dps = working_dps(precision, kind, low, high, alpha)
     with mp.workdps(dps):
         tol = mp.mpf(10) ** (-(dps - 8))
         A = dec(alpha)
         k = dispersion
         if kind in ("upper", "lower"):
-            T = _table(family, value, n, k, digits, alpha)
+            T = _table(family, value, n, k, precision, alpha)
             if kind == "upper":
                 c2 = T.first_sf_at_most(A)
                 g2 = (A - T.sf(c2)) / T.pmf(c2)
@@ -266,7 +266,7 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
             size = T.cdf(c1 - 1) + g1 * T.pmf(c1)
             return PreciseDesign(c1, g1, None, None, (size,), None, dps, T.truncated, (T,))
         if kind == "point":
-            T = _table(family, value, n, k, digits, alpha, moments=True)
+            T = _table(family, value, n, k, precision, alpha, moments=True)
             cond = _Moment(T, A)
             c1, g1, c2, g2 = _two_tailed(T, T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
@@ -274,8 +274,8 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
                                  T.truncated, (T,))
         if kind in ("band", "equivalence"):
             # each table holds its own law's bulk only (no masses between distant ends)
-            Tl = _table(family, low, n, k, digits, alpha)
-            Th = _table(family, high, n, k, digits, alpha)
+            Tl = _table(family, low, n, k, precision, alpha)
+            Th = _table(family, high, n, k, precision, alpha)
             s = A if kind == "band" else dec_complement(alpha)
             c1, g1, c2, g2 = _two_tailed(Tl, Th, _Band(Tl, s), s, tol)
             if kind == "band":
