@@ -58,6 +58,7 @@ class BinomialMp:
 
 class Binomial(Family):
     float_law = BinomialLaw
+    reflects = True  # Y -> n - Y, p -> 1 - p maps the family onto itself
 
     def theta_ok(self, theta):
         return 0.0 < theta < 1.0

@@ -27,6 +27,8 @@ from __future__ import annotations
 import numpy as np
 from numpy.polynomial.legendre import leggauss
 
+from ..mpnum import float_complements
+
 _GL_X, _GL_W = leggauss(20)
 _GL_NODES = (_GL_X + 1.0) / 2.0  # on [0, 1]
 _GL_WEIGHTS = _GL_W / 2.0  # sum to 1
@@ -89,21 +91,40 @@ def first_true(pred, guess, lo, hi):
 # ---------------------------------------------------------------------------
 # one-sided kinds
 # ---------------------------------------------------------------------------
-def _upper(L, P, alpha):
+# alpha above one half is handled through its exact complement ac = 1 - alpha
+# (from the decimal): sf(c) <= alpha is cdf(c) >= ac, and the gamma comes from
+# the short tail, so an alpha within 1e-12 of 1 keeps the gamma's digits.
+def _upper(L, P, alpha, ac):
     hi = np.minimum(L.supmax(P), _BIG)
     zero = np.zeros_like(alpha)
-    guess = L.quantile_guess(1.0 - alpha, P)
-    c2 = first_true(lambda c, j: L.sf(c, _sub(P, j)) <= alpha[j], guess, zero, hi)
-    g2 = (alpha - L.sf(c2, P)) / L.pmf(c2, P)
+    big = alpha > 0.5
+    guess = L.quantile_guess(np.where(big, ac, 1.0 - alpha), P)
+
+    def ok(c, j):
+        Pj = _sub(P, j)
+        return np.where(big[j], L.cdf(c, Pj) >= ac[j], L.sf(c, Pj) <= alpha[j])
+
+    c2 = first_true(ok, guess, zero, hi)
+    f = L.pmf(c2, P)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        g2 = np.where(big, (L.cdf(c2, P) - ac) / f, (alpha - L.sf(c2, P)) / f)
     return c2, g2
 
 
-def _lower(L, P, alpha):
+def _lower(L, P, alpha, ac):
     hi = np.minimum(L.supmax(P), _BIG)
     zero = np.zeros_like(alpha)
+    big = alpha > 0.5
     guess = L.quantile_guess(alpha, P)
-    c1 = first_true(lambda c, j: L.cdf(c, _sub(P, j)) > alpha[j], guess, zero, hi)
-    g1 = (alpha - L.cdf(c1 - 1.0, P)) / L.pmf(c1, P)
+
+    def ok(c, j):
+        Pj = _sub(P, j)
+        return np.where(big[j], L.sf(c, Pj) < ac[j], L.cdf(c, Pj) > alpha[j])
+
+    c1 = first_true(ok, guess, zero, hi)
+    f = L.pmf(c1, P)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        g1 = np.where(big, 1.0 + (L.sf(c1, P) - ac) / f, (alpha - L.cdf(c1 - 1.0, P)) / f)
     return c1, g1
 
 
@@ -397,27 +418,74 @@ def _refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
     return c1, g1, c2, g2
 
 
+_MIRROR = {"upper": "lower", "lower": "upper"}
+
+
 def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None):
     """Solve many designs of one family and kind at once.
 
     All parameters are arrays of equal length (already validated; ``None`` where
     a kind does not use them).  Returns float arrays (c1, gamma1, c2, gamma2)
     with NaN where the kind has no such cutoff.
+
+    A family whose law is symmetric under Y -> n - Y, theta -> 1 - theta
+    (``family.reflects``: the binomial) has its designs with theta above one
+    half solved in the mirror image, with 1 - theta formed exactly from the
+    decimal the user wrote: the double nearest to p = 0.99999997 carries a
+    relative error of about 1e-9 in 1 - p, the mirrored parameter none.
     """
+    alpha = np.asarray(alpha, dtype=float)
+    if not getattr(family, "reflects", False):
+        return _solve(family, kind, n, alpha, low, high, value, dispersion)
+    centre = np.asarray(value if value is not None else (np.asarray(low) + np.asarray(high)) / 2,
+                        dtype=float)
+    flip = centre > 0.5
+    if not np.any(flip):
+        return _solve(family, kind, n, alpha, low, high, value, dispersion)
+    keep = ~flip
+    out = [np.full(alpha.shape, np.nan) for _ in range(4)]
+
+    def part(x, m):
+        return None if x is None else np.asarray(x, dtype=float)[m]
+
+    if np.any(keep):
+        res = _solve(family, kind, part(n, keep), alpha[keep], part(low, keep), part(high, keep),
+                     part(value, keep), part(dispersion, keep))
+        for o, r in zip(out, res):
+            o[keep] = r
+    nf = np.asarray(n, dtype=float)[flip]
+    comp = float_complements
+    mlow = None if high is None else comp(part(high, flip))
+    mhigh = None if low is None else comp(part(low, flip))
+    mval = None if value is None else comp(part(value, flip))
+    res = _solve(family, _MIRROR.get(kind, kind), nf, alpha[flip], mlow, mhigh, mval,
+                 part(dispersion, flip))
+    c1m, g1m, c2m, g2m = res
+    for o, r in zip(out, (nf - c2m, g2m, nf - c1m, g1m)):
+        o[flip] = r
+    return tuple(out)
+
+
+def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None):
+    """solve() without the mirror image."""
     L = family.float_law
     alpha = np.asarray(alpha, dtype=float)
     size = alpha.shape[0]
     k = None if dispersion is None else np.asarray(dispersion, dtype=float)
     n = np.asarray(n, dtype=float)
     nan = np.full(size, np.nan)
+    ac = 1.0 - alpha
+    big = alpha > 0.5
+    if np.any(big):
+        ac[big] = float_complements(alpha[big])
     if kind == "upper":
         P = L.make(np.asarray(value, float), n, k)
-        c2, g2 = _upper(L, P, alpha)
+        c2, g2 = _upper(L, P, alpha, ac)
         c2, g2 = np.where(g2 >= 1.0, c2 - 1.0, c2), np.where(g2 >= 1.0, 0.0, g2)
         return nan, nan.copy(), c2, np.clip(g2, 0.0, 1.0)
     if kind == "lower":
         P = L.make(np.asarray(value, float), n, k)
-        c1, g1 = _lower(L, P, alpha)
+        c1, g1 = _lower(L, P, alpha, ac)
         c1, g1 = np.where(g1 >= 1.0, c1 + 1.0, c1), np.where(g1 >= 1.0, 0.0, g1)
         return c1, np.clip(g1, 0.0, 1.0), nan, nan.copy()
     if kind == "point":
@@ -431,7 +499,7 @@ def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersi
         Pl = L.make(lo, n, k)
         Ph = L.make(hi, n, k)
         dt = np.asarray(family.natural_delta(lo, hi, n, k), dtype=float)
-        s = alpha if kind == "band" else 1.0 - alpha
+        s = alpha if kind == "band" else float_complements(alpha)
         a0 = _initial_split(L, Pl, Ph, s)
         res = _two_tailed(L, Pl, Ph, _Difference(L, Pl, Ph, dt), s, a0)
         res = _canonical_band(*res)
