@@ -269,7 +269,20 @@ class NegBinomialLaw(FloatLaw):
         # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y   (y > 0), as in Loader's note
         with np.errstate(divide="ignore", invalid="ignore"):
             pos = _saddle.log_binom_raw(r + 0.0 * yy, yy + r, q, qc) + np.log(r / (r + yy))
-        return np.where(ok, np.where(yy == 0, at0, pos), -_INF)
+        out = np.where(yy == 0, at0, pos)
+        # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
+        #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
+        # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
+        big = (yy + 1.0) ** 2 < 1e-4 * r
+        if np.any(big):
+            x = m / r
+            small = x < 1e-4
+            g = np.where(small, x * x * (0.5 - x / 3.0 + x * x / 4.0), x - np.log1p(x))
+            corr = (r * g - yy * np.log1p(x) + yy * (yy - 1.0) / (2.0 * r)
+                    - yy * (yy - 1.0) * (2.0 * yy - 1.0) / (12.0 * r * r))
+            lim = _saddle.log_poisson_raw(yy, m + 0.0 * yy) + corr
+            out = np.where(big, lim, out)
+        return np.where(ok, out, -_INF)
 
     @staticmethod
     def weight(c, P):
@@ -280,7 +293,8 @@ class NegBinomialLaw(FloatLaw):
     def dlogw(c, P):
         r, m = P
         c = _f(c)
-        return c / m - (r + c + 1.0) / (r + m)
+        # c/m - (r + c + 1)/(r + m), without the cancellation of r against r + m
+        return c / m - 1.0 - (c + 1.0 - m) / (r + m)
 
     @staticmethod
     def dlogpmf(y, P):
