@@ -22,6 +22,7 @@ from scipy import special as sp
 from . import _saddle
 
 _INF = np.inf
+_SUM_TOP = 6000  # largest support point summed term by term (negative binomial, huge r)
 
 
 def _f(a):
@@ -284,6 +285,20 @@ class NegBinomialLaw(FloatLaw):
         use_q = q <= 0.5
         cdf = np.where(use_q, sp.betainc(r, a, q), sp.betaincc(a, r, qc))
         sf = np.where(use_q, sp.betaincc(r, a, q), sp.betainc(a, r, qc))
+        # scipy's incomplete beta loses ~1e-20 * r relative for a huge size r (2e-9 at
+        # r = 1e9); there, with a small mean, the masses are summed (all positive)
+        r_, m_, c_ = np.broadcast_arrays(r, m, c)
+        top = np.ceil(m_ + 40.0 * np.sqrt(m_) + 60.0)
+        summed = (r_ > 1e5) & (top <= _SUM_TOP)
+        if np.any(summed):
+            j = np.nonzero(summed.ravel())[0]
+            cdf, sf = (np.array(np.broadcast_to(x, r_.shape), dtype=float) for x in (cdf, sf))
+            rs, ms, cs = r_.ravel()[j], m_.ravel()[j], c_.ravel()[j]
+            y = np.arange(int(top.ravel()[j].max()) + 1, dtype=float)
+            f = np.exp(cls.logpmf(y[None, :], (rs[:, None], ms[:, None])))
+            below = y[None, :] <= cs[:, None]
+            cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
+            sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
         return cdf, sf
 
     @classmethod
