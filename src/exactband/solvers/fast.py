@@ -410,8 +410,10 @@ def _refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
         h1 = (r1 * d2 - f2 * r2) / det
         h2 = (f1 * r2 - d1 * r1) / det
     lo_ok, hi_ok = -_GAMMA_TOL, 1.0 + _GAMMA_TOL
+    # alpha near 1: the window holds almost all the mass; the complement's gammas
+    # (band form of size 1 - alpha, small) are then the accurate ones
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
-          & (h2 < 1.0) & (c2 > c1))
+          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5))
     del hi_ok
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)
     g2 = np.where(ok, np.clip(h2, 0.0, 1.0), g2)
@@ -493,6 +495,24 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
         a0 = _initial_split(L, P, None, alpha)
         res = _two_tailed(L, P, P, _Derivative(L, P), alpha, a0)
         return _canonical_band(*res)
+    if kind == "band" and np.any(big):
+        # a band of size alpha near 1 is 1 - (equivalence design of size 1 - alpha):
+        # the equivalence window's own equations keep the digits of 1 - alpha
+        out = [np.full(size, np.nan) for _ in range(4)]
+        lo_a, hi_a = np.asarray(low, float), np.asarray(high, float)
+        kk = None if k is None else k[big]
+        e1, h1, e2, h2 = _solve(family, "equivalence", n[big], ac[big], lo_a[big], hi_a[big],
+                                None, kk)
+        res = _canonical_band(e1, 1.0 - h1, e2, 1.0 - h2)
+        for o, r in zip(out, res):
+            o[big] = r
+        small = ~big
+        if np.any(small):
+            res = _solve(family, kind, n[small], alpha[small], lo_a[small], hi_a[small], None,
+                         None if k is None else k[small])
+            for o, r in zip(out, res):
+                o[small] = r
+        return tuple(out)
     if kind in ("band", "equivalence"):
         lo = np.asarray(low, float)
         hi = np.asarray(high, float)
