@@ -95,6 +95,25 @@ class NegBinomial(Family):
     def natural_delta(self, lo, hi, n, k):
         return n * (hi - lo)
 
+    @staticmethod
+    def poisson_limit(n, k, theta_max) -> bool:
+        """True when NB(n k, n theta) equals Poisson(n theta) to double precision.
+
+        log(pmf_NB / pmf_Poisson)(y) = m - r log1p(m/r) - y log1p(m/r) + sum_{i<y} log1p(i/r)
+        (m = n theta, r = n k) is at most (y + m)**2 / r in size; over the support
+        that matters (y <= 2 (m + 10 sqrt(m) + 10)) this is below 2**-53.
+        """
+        m = n * theta_max
+        y = 2.0 * (m + 10.0 * math.sqrt(m) + 10.0)
+        return (y + m) ** 2 / (n * k) < 2.0 ** -53
+
+    def law_note(self, problem):
+        top = max(t for t in problem.points if t is not None)
+        if problem.dispersion is not None and self.poisson_limit(problem.n, problem.dispersion, top):
+            return ("The dispersion is so large that the law of Y is Poisson(n x mean) to double "
+                    "precision (the Poisson limit); the design equals the Poisson design.")
+        return None
+
 
 NEGBINOMIAL = NegBinomial(
     name="negative-binomial", theta_word="mean per unit", theta_unit="per unit", n_word="number of units n",
