@@ -49,3 +49,10 @@ def float_complements(xs):
     a = np.asarray(xs, dtype=float)
     out = np.array([float_complement(v) if np.isfinite(v) else np.nan for v in a.ravel()])
     return out.reshape(a.shape)
+
+
+def frac(x):
+    """The exact rational value of the decimal a user number prints as."""
+    from fractions import Fraction
+
+    return Fraction(exact(x))

@@ -5,7 +5,7 @@ from __future__ import annotations
 import mpmath as mp
 import numpy as np
 
-from ..mpnum import dec, dec_complement
+from ..mpnum import dec, dec_complement, frac
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -31,6 +31,16 @@ class BinomialMp:
         self._odds = self.p / self.q
         self._o = mt.raw(self._odds)
         self._io = mt.raw(self.q / self.p)
+        f = frac(theta)  # p = a/b exactly, q = (b - a)/b
+        self._a, self._c = f.numerator, f.denominator - f.numerator
+
+    def up_int(self, y):
+        """pmf(y+1)/pmf(y) = (n - y) p / ((y + 1) q) exactly."""
+        return (self.n - y) * self._a, (y + 1) * self._c
+
+    def down_int(self, y):
+        """pmf(y-1)/pmf(y) = y q / ((n - y + 1) p) exactly."""
+        return y * self._c, (self.n - y + 1) * self._a
 
     def log_pmf(self, y):
         n = self.n

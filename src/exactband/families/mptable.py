@@ -112,45 +112,56 @@ class MpTable:
         m0 = law.mode
         sd = float(mp.sqrt(law.variance))
         check_size(sd, thr, self._prec, max_len)
-        p0 = raw(mp.exp(law.log_pmf(m0)))
+        # fixed point: every mass is an integer P = pmf * 2**S, filled by the exact
+        # rational ratios of the law with one floor division per term; S leaves
+        # 2 log2(max_len) + 32 guard bits below thr * 2**-prec, so the N <= max_len
+        # floor errors (at most one unit each) stay far below any digit wanted
+        thr_bits = int(-mp.log(thr, 2)) + 1 if thr > 0 else 0
+        self._S = S = self._prec + thr_bits + 2 * max_len.bit_length() + 32
+        with mp.workprec(self._prec + 20):
+            p0 = int(mp.floor(mp.exp(law.log_pmf(m0)) * mp.mpf(2) ** S))
+        self._thr_int = int(mp.floor(thr * mp.mpf(2) ** S)) + 1
         self.lo = self.hi = m0
-        self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
-        self._left = []  # pmf(m0-1), pmf(m0-2), ...
+        self._right = [p0]  # P(m0), P(m0+1), ...
+        self._left = []  # P(m0-1), P(m0-2), ...
         self._trunc_right = self._grow(True, None)
         self._trunc_left = self._grow(False, None)
         self._sums = None
 
     # -- building ----------------------------------------------------------
-    # The tables hold libmp values (mpmath's own number representation, without
-    # the mpf wrapper) so that filling them costs one or two roundings per term.
     def _grow(self, up: bool, until):
         """Extend the table to the right (up) or left until the rest is provably < thr.
 
-        Returns the bound on the mass left out on that side.
+        Returns the bound on the mass left out on that side: the tail beyond y is
+        at most pmf(y) * b / (1 - b), with b a bound on every later ratio.
         """
-        law, thr, prec = self.law, raw(self.thr), self._prec
-        lt = libmp.mpf_lt
+        law, thr_int, S = self.law, self._thr_int, self._S
         if up:
-            y, p, out, step, bound_at = self.hi, self._right[-1], self._right, law.up, law.right_bound
+            y, P, out, ratio, bound_at = self.hi, self._right[-1], self._right, law.up_int, \
+                law.right_bound
         else:
             y = self.lo
-            p = self._left[-1] if self._left else self._right[0]
-            out, step, bound_at = self._left, law.down, law.left_bound
+            P = self._left[-1] if self._left else self._right[0]
+            out, ratio, bound_at = self._left, law.down_int, law.left_bound
         rest = _ZERO
-        with mp.workprec(prec):
+        limit = self.max_len
+        target = thr_int  # below it, test the tail bound (the bounds only fall further out)
+        with mp.workprec(self._prec):
             while (y > 0) if not up else (self.supmax is None or y < self.supmax):
-                p = step(p, y, prec)
+                num, den = ratio(y)
+                P = (P * num) // den
                 y += 1 if up else -1
-                out.append(p)
-                far = until is None or (y >= until if up else y <= until)
-                if far and lt(p, thr):
+                out.append(P)
+                if P < target and (until is None or (y >= until if up else y <= until)):
                     bound = bound_at(y)
                     if bound < 1:
-                        rest = mp.make_mpf(p) * bound / (1 - bound)
+                        rest = mp.mpf(P) * mp.mpf(2) ** (-S) * bound / (1 - bound)
                         if rest < self.thr:
                             break
-                if len(out) > self.max_len:
-                    raise TableTooLarge(f"more than {self.max_len:,} terms")
+                        # P * b / (1 - b) < thr once P < thr (1 - b) / b (b only falls)
+                        target = min(target, int(thr_int * (1 - bound) / bound))
+                if len(out) > limit:
+                    raise TableTooLarge(f"more than {limit:,} terms")
             else:
                 rest = _ZERO
         if up:
@@ -172,8 +183,7 @@ class MpTable:
     @property
     def nbytes(self) -> int:
         """Rough memory of the table (for the bounded cache)."""
-        bits = self._prec + float(-mp.log(self.thr)) / 0.693 + 64 if self.thr > 0 else self._prec
-        return int((self.hi - self.lo + 1) * 4 * (bits / 8 + 40))
+        return int((self.hi - self.lo + 1) * 4 * (self._S / 8 + 40))
 
     @property
     def truncated(self):
@@ -188,13 +198,8 @@ class MpTable:
         sum is the exact integer total - prefix); values are rounded to the
         working precision only when read.
         """
-        vals = list(reversed(self._left)) + self._right
-        e0 = min(v[2] for v in vals if v[1])
-        span = max(v[2] + v[3] for v in vals) - e0
-        if span > _MAX_EXACT_SPAN:  # astronomically spread table: drop what cannot matter
-            e0 = max(v[2] + v[3] for v in vals) - _MAX_EXACT_SPAN
-        ints = [((-1 if v[0] else 1) * ((v[1] << (v[2] - e0)) if v[2] >= e0 else (v[1] >> (e0 - v[2]))))
-                for v in vals]
+        ints = list(reversed(self._left)) + self._right
+        e0 = -self._S
         F = list(accumulate(ints))
         self._e0, self._p, self._F, self._tot = e0, ints, F, F[-1]
         if self.moments:

@@ -12,7 +12,7 @@ import math
 import mpmath as mp
 import numpy as np
 
-from ..mpnum import dec
+from ..mpnum import dec, frac
 
 _ZERO = mp.mpf(0)
 
@@ -34,10 +34,22 @@ class NegBinomialMp:
         self.mean = self.m
         self.variance = self.m + self.m * self.m / self.r
         self._qc = mt.raw(self.qc)
+        r, m = frac(n) * frac(k), frac(n) * frac(theta)  # exact rationals
+        self._ra, self._rb = r.numerator, r.denominator
+        self._ma, self._mb = m.numerator, m.denominator
+        self._rm = self._ra * self._mb + self._ma * self._rb  # (r + m) rb mb
         if self.r > 1:
             self.mode = int(mp.floor((self.r - 1) * self.qc / self.q))
         else:
             self.mode = 0
+
+    def up_int(self, y):
+        """pmf(y+1)/pmf(y) = (y + r) m / ((r + m)(y + 1)) exactly."""
+        return (y * self._rb + self._ra) * self._ma, self._rm * (y + 1)
+
+    def down_int(self, y):
+        """pmf(y-1)/pmf(y) = y (r + m) / ((y - 1 + r) m) exactly."""
+        return y * self._rm, ((y - 1) * self._rb + self._ra) * self._ma
 
     def log_pmf(self, y):
         r = self.r
