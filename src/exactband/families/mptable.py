@@ -70,22 +70,23 @@ class TableTooLarge(OverflowError):
     """The law is too spread out to tabulate within the limits (MAX_TABLE, MAX_TABLE_BYTES)."""
 
 
-def table_estimate(sd: float, thr, prec: int) -> tuple:
+def table_estimate(sd: float, thr, prec: int, max_len: int = MAX_TABLE) -> tuple:
     """(terms, bytes) a window of +-K sd needs, K from the Gaussian tail bound at thr.
 
-    Every term is kept as a number of about ``prec`` + log2(1/thr) bits in up
-    to four lists (libmp masses, integer masses, prefix sums, first moments).
+    Every term is an integer of S = prec + log2(1/thr) + 2 log2(max_len) + 32 bits
+    (see MpTable), held twice (mass and prefix sum; a third time with moments),
+    plus the list slots.
     """
     ln_thr = -float(mp.log(thr)) if thr > 0 else 1e4
     k = _K_MAX * (2 * ln_thr) ** 0.5 if ln_thr > 0 else 10.0
     terms = int(2 * k * sd) + 64
-    bits = prec + ln_thr / 0.693 + 64
-    return terms, int(terms * 4 * (bits / 8 + 40))
+    bits = prec + ln_thr / 0.693 + 2 * max_len.bit_length() + 32
+    return terms, int(terms * (3 * (bits / 8 + 32) + 32))
 
 
 def check_size(sd: float, thr, prec: int, max_len: int = MAX_TABLE):
     """Raise TableTooLarge (naming the limit) before a table beyond the limits is built."""
-    terms, nbytes = table_estimate(sd, thr, prec)
+    terms, nbytes = table_estimate(sd, thr, prec, max_len)
     if terms > max_len:
         raise TableTooLarge(f"about {terms:,} terms per probability table, limit {max_len:,}")
     if nbytes > MAX_TABLE_BYTES:
@@ -183,7 +184,7 @@ class MpTable:
     @property
     def nbytes(self) -> int:
         """Rough memory of the table (for the bounded cache)."""
-        return int((self.hi - self.lo + 1) * 4 * (self._S / 8 + 40))
+        return int((self.hi - self.lo + 1) * (3 * (self._S / 8 + 32) + 32))
 
     @property
     def truncated(self):
