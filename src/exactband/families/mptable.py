@@ -260,14 +260,17 @@ class MpTable:
         return self._num(self._Mtot - self._M[y - self.lo])
 
     # -- quantiles ------------------------------------------------------------
+    def _floor_scaled(self, x) -> int:
+        """floor(x * 2**S), exact: compares with the integer sums need no rounding."""
+        return int(mp.floor(mp.ldexp(mp.mpf(x), self._S)))
+
     def first_cdf_above(self, a):
         """min{c : P(Y <= c) > a} (c1 of a left tail of mass a)."""
         self._ready()
-        return self.lo + bisect_right(self._F, a, key=self._num)
+        return self.lo + bisect_right(self._F, self._floor_scaled(a))
 
     def first_sf_at_most(self, r):
         """min{c : P(Y > c) <= r} (c2 of a right tail of mass r)."""
         self._ready()
-        # S = tot - F is non-increasing; the first index with S[i] <= r
-        tot = self._tot
-        return self.lo + bisect_left(self._F, -r, key=lambda v: -self._num(tot - v))
+        # tot - F[i] <= r 2**S  <=>  F[i] >= tot - floor(r 2**S)
+        return self.lo + bisect_left(self._F, self._tot - self._floor_scaled(r))
