@@ -147,11 +147,13 @@ class MpTable:
         rest = _ZERO
         limit = self.max_len
         target = thr_int  # below it, test the tail bound (the bounds only fall further out)
+        step = 1 if up else -1
+        end = 0 if not up else (self.supmax if self.supmax is not None else -1)
         with mp.workprec(self._prec):
-            while (y > 0) if not up else (self.supmax is None or y < self.supmax):
+            while y != end:
                 num, den = ratio(y)
                 P = (P * num) // den
-                y += 1 if up else -1
+                y += step
                 out.append(P)
                 if P < target and (until is None or (y >= until if up else y <= until)):
                     bound = bound_at(y)

@@ -69,6 +69,7 @@ def working_dps(precision: int, kind: str, low=None, high=None, alpha=None) -> i
 
 
 _CACHE: "OrderedDict" = None
+_SIZE = [0]  # bytes held by the cache
 CACHE_BYTES = 64 * 2**20  # tables kept for reuse across designs (same law, other alpha/kind)
 
 
@@ -94,11 +95,12 @@ def _table(family, theta, n, k, precision, alpha, moments=False):
             _CACHE.move_to_end(kk)
             return hit
     T = MpTable(family.mp_law(theta, n, k), thr, moments=moments)
+    old = _CACHE.pop((key, moments), None)
+    _SIZE[0] += T.nbytes - (old.nbytes if old is not None else 0)
     _CACHE[(key, moments)] = T
-    total = sum(t.nbytes for t in _CACHE.values())
-    while total > CACHE_BYTES and len(_CACHE) > 1:
+    while _SIZE[0] > CACHE_BYTES and len(_CACHE) > 1:
         _, old = _CACHE.popitem(last=False)
-        total -= old.nbytes
+        _SIZE[0] -= old.nbytes
     return T
 
 
@@ -106,6 +108,7 @@ def clear_cache():
     """Forget the cached tables (tests, memory bounds)."""
     global _CACHE
     _CACHE = None
+    _SIZE[0] = 0
 
 
 class _Band:
