@@ -28,6 +28,7 @@ import numpy as np
 from numpy.polynomial.legendre import leggauss
 
 from ..mpnum import float_complements
+from .search import BIG as _BIG, first_true, lower as _lower, sub, upper as _upper
 
 _GL_X, _GL_W = leggauss(20)
 _GL_NODES = (_GL_X + 1.0) / 2.0  # on [0, 1]
@@ -35,97 +36,10 @@ _GL_WEIGHTS = _GL_W / 2.0  # sum to 1
 _GL_MAX_SPREAD = 4.0  # quadrature used while |d log(-dF/dt)/dt| * dt <= this
 _GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
 _MAX_ITER = 200
-_BIG = 1e15
 
 
 class SolverFailure(RuntimeError):
     """The fast solver did not converge for some designs (never silent)."""
-
-
-def _sub(P, j):
-    return tuple(x[j] for x in P)
-
-
-def first_true(pred, guess, lo, hi):
-    """Smallest integer c in [lo, hi] with pred(c, sel) True, vectorised.
-
-    ``pred`` must be monotone in c (False ... False True ... True) and True at hi;
-    ``sel`` are the indices of the elements being evaluated.  The search gallops
-    out from ``guess`` to a bracket and then bisects.
-    """
-    size = guess.shape[0]
-    c = np.clip(guess, lo, hi)
-    low = c - 1.0  # candidate "false" end (lo - 1 counts as false)
-    high = c.copy()  # candidate "true" end (hi counts as true)
-    step = np.ones(size)
-    # make `high` a true point
-    todo = np.nonzero(high < hi)[0]
-    while todo.size:
-        ok = pred(high[todo], todo)
-        low[todo[~ok]] = np.maximum(low[todo[~ok]], high[todo[~ok]])
-        nxt = todo[~ok]
-        high[nxt] = np.minimum(high[nxt] + step[nxt], hi[nxt])
-        step[nxt] *= 2.0
-        todo = nxt[high[nxt] < hi[nxt]]
-    # make `low` a false point
-    step[:] = 1.0
-    todo = np.nonzero(low >= lo)[0]
-    while todo.size:
-        bad = pred(low[todo], todo)
-        moved = todo[bad]
-        high[moved] = np.minimum(high[moved], low[moved])
-        low[moved] = np.maximum(low[moved] - step[moved], lo[moved] - 1.0)
-        step[moved] *= 2.0
-        todo = moved[low[moved] >= lo[moved]]
-    # bisect
-    todo = np.nonzero(high - low > 1.0)[0]
-    while todo.size:
-        mid = np.floor((low[todo] + high[todo]) / 2.0)
-        ok = pred(mid, todo)
-        high[todo[ok]] = mid[ok]
-        low[todo[~ok]] = mid[~ok]
-        todo = todo[high[todo] - low[todo] > 1.0]
-    return high
-
-
-# ---------------------------------------------------------------------------
-# one-sided kinds
-# ---------------------------------------------------------------------------
-# alpha above one half is handled through its exact complement ac = 1 - alpha
-# (from the decimal): sf(c) <= alpha is cdf(c) >= ac, and the gamma comes from
-# the short tail, so an alpha within 1e-12 of 1 keeps the gamma's digits.
-def _upper(L, P, alpha, ac):
-    hi = np.minimum(L.supmax(P), _BIG)
-    zero = np.zeros_like(alpha)
-    big = alpha > 0.5
-    guess = L.quantile_guess(np.where(big, ac, 1.0 - alpha), P)
-
-    def ok(c, j):
-        Pj = _sub(P, j)
-        return np.where(big[j], L.cdf(c, Pj) >= ac[j], L.sf(c, Pj) <= alpha[j])
-
-    c2 = first_true(ok, guess, zero, hi)
-    f = L.pmf(c2, P)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        g2 = np.where(big, (L.cdf(c2, P) - ac) / f, (alpha - L.sf(c2, P)) / f)
-    return c2, g2
-
-
-def _lower(L, P, alpha, ac):
-    hi = np.minimum(L.supmax(P), _BIG)
-    zero = np.zeros_like(alpha)
-    big = alpha > 0.5
-    guess = L.quantile_guess(alpha, P)
-
-    def ok(c, j):
-        Pj = _sub(P, j)
-        return np.where(big[j], L.sf(c, Pj) < ac[j], L.cdf(c, Pj) > alpha[j])
-
-    c1 = first_true(ok, guess, zero, hi)
-    f = L.pmf(c1, P)
-    with np.errstate(divide="ignore", invalid="ignore"):
-        g1 = np.where(big, 1.0 + (L.sf(c1, P) - ac) / f, (alpha - L.cdf(c1 - 1.0, P)) / f)
-    return c1, g1
 
 
 # ---------------------------------------------------------------------------
@@ -138,7 +52,7 @@ class _Derivative:
         self.L, self.P = L, P
 
     def subset(self, j):
-        return _Derivative(self.L, _sub(self.P, j))
+        return _Derivative(self.L, sub(self.P, j))
 
     def dpmf(self, c, f):
         return f * self.L.dlogpmf(c, self.P)
@@ -154,7 +68,7 @@ class _Difference:
         self.L, self.Pl, self.Ph, self.dt = L, Pl, Ph, dt
 
     def subset(self, j):
-        return _Difference(self.L, _sub(self.Pl, j), _sub(self.Ph, j), self.dt[j])
+        return _Difference(self.L, sub(self.Pl, j), sub(self.Ph, j), self.dt[j])
 
     def dpmf(self, c, f):
         lr = self.L.logratio(c, self.Pl, self.dt)
@@ -181,7 +95,7 @@ class _Difference:
         direct = inside & ~quad
         if np.any(direct):
             j = np.nonzero(direct)[0]
-            Plj, Phj, cj = _sub(Pl, j), _sub(Ph, j), c[j]
+            Plj, Phj, cj = sub(Pl, j), sub(Ph, j), c[j]
             sl = L.sf(cj, Plj)
             right = sl < 0.5
             diff_sf = -(L.sf(cj, Phj) - sl)
@@ -189,7 +103,7 @@ class _Difference:
             out[j] = np.where(right, diff_sf, diff_cdf) / dt[j]
         if np.any(quad):
             j = np.nonzero(quad)[0]
-            Plj, cj, dtj = _sub(Pl, j), c[j], dt[j]
+            Plj, cj, dtj = sub(Pl, j), c[j], dt[j]
             t0 = L.t(Plj)
             acc = np.zeros(j.size)
             for x, w in zip(_GL_NODES, _GL_WEIGHTS):
@@ -257,7 +171,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
     for _ in range(_MAX_ITER):
         a, s_ = st["a"], st["s"]
         P, R = Pl, Pr
-        c1 = first_true(lambda c, j: L.cdf(c, _sub(P, j)) > a[j], st["c1"], st["zero"], st["top"])
+        c1 = first_true(lambda c, j: L.cdf(c, sub(P, j)) > a[j], st["c1"], st["zero"], st["top"])
         Fm, f1 = L.cdf(c1 - 1.0, P), L.pmf(c1, P)
         with np.errstate(divide="ignore", invalid="ignore"):
             g1 = (a - Fm) / f1
@@ -265,7 +179,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
             rh = s_ - a
         else:
             rh = s_ - (L.cdf(c1 - 1.0, R) + g1 * L.pmf(c1, R))
-        c2 = first_true(lambda c, j: L.sf(c, _sub(R, j)) <= rh[j], st["c2"], st["zero"], st["top"])
+        c2 = first_true(lambda c, j: L.sf(c, sub(R, j)) <= rh[j], st["c2"], st["zero"], st["top"])
         S2r, f2r = L.sf(c2, R), L.pmf(c2, R)
         S2, f2 = (S2r, f2r) if same else (L.sf(c2, P), L.pmf(c2, P))
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -311,8 +225,8 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
                   qprev=np.abs(Q), side=np.where(up, 1.0, -1.0), c1=c1, c2=c2)
         sel = np.nonzero(keep)[0]
         st = {key: val[sel] for key, val in st.items()}
-        Pl = _sub(Pl, sel)
-        Pr = Pl if same else _sub(Pr, sel)
+        Pl = sub(Pl, sel)
+        Pr = Pl if same else sub(Pr, sel)
         second = second.subset(sel)
     else:
         raise SolverFailure(f"fast solver did not converge for {st['idx'].size} design(s)")
