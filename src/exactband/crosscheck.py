@@ -109,7 +109,7 @@ def tolerances(kind: str, alpha, precise) -> tuple:
     """(phi_tol, size_tol) for one design from the fast path's error bound (module doc)."""
     T = precise.tables
     sd = max(float(mp.sqrt(t.law.variance)) for t in T)
-    eps = law_eps(sd)
+    eps = law_eps(sd) + max(getattr(t.law, "float_extra_eps", 0.0) for t in T)
     a = float(alpha)
     c1, c2 = precise.c1, precise.c2
     with mp.workdps(precise.dps):

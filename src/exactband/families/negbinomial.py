@@ -43,6 +43,15 @@ class NegBinomialMp:
         else:
             self.mode = 0
 
+    @property
+    def float_extra_eps(self) -> float:
+        """Relative error scipy's incomplete beta adds for a size r (~1e-20 r, measured).
+
+        Used by crosscheck.tolerances for the float side; below r = 1e5 it is nil,
+        above it (mean < ~5000) the float law sums masses instead.
+        """
+        return 3e-20 * float(self.r)
+
     def up_int(self, y):
         """pmf(y+1)/pmf(y) = (y + r) m / ((r + m)(y + 1)) exactly."""
         return (y * self._rb + self._ra) * self._ma, self._rm * (y + 1)
