@@ -108,8 +108,8 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
                            value=p.value, dispersion=p.dispersion, precision=precision)
     except TableTooLarge as e:
         raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
-                          f"high-precision check ({e} per probability table); use a smaller "
-                          "n or the unverified fast path") from None
+                          f"high-precision check at {precision} digits ({e}); use a smaller "
+                          "n, a lower precision, or the unverified fast path") from None
     cc = compare(p.kind.name, p.alpha, sol, pd, precision)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")

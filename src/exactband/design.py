@@ -208,6 +208,9 @@ class Design:
         lines.append(f"{knd.optimality} test, {fam.name} family, {fam.n_word} = {_num(self.n)}"
                      f"{disp}, size alpha = {_num(self.alpha)}.")
         lines.append(self.hypothesis() + ".")
+        note = fam.law_note(self.problem)
+        if note:
+            lines.append(note)
         lines.append("Y = the total count over the sample." if fam.name != "binomial"
                      else "Y = the number of units with the attribute among the n inspected.")
         lines.extend(_rule_lines(self))

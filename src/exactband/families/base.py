@@ -95,6 +95,10 @@ class Family:
             raise invalid("dispersion", k, allowed)
         return x
 
+    def law_note(self, problem) -> str | None:
+        """A sentence for describe() when the law is computed in a limiting form."""
+        return None
+
     # -- laws --------------------------------------------------------------
     def float_params(self, theta, n, k):  # pragma: no cover - overridden
         """Parameters of the float law as a tuple of numpy arrays."""

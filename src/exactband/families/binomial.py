@@ -5,7 +5,7 @@ from __future__ import annotations
 import mpmath as mp
 import numpy as np
 
-from ..mpnum import dec
+from ..mpnum import dec, dec_complement, frac
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -21,7 +21,7 @@ class BinomialMp:
     def __init__(self, theta, n, k):
         self.n = int(n)
         self.p = dec(theta)
-        self.q = 1 - self.p
+        self.q = dec_complement(theta)  # exact: keeps 1 - p accurate near p = 1
         self.supmax = self.n
         self.mode = int(mp.floor((self.n + 1) * self.p))
         if self.mode > self.n:
@@ -31,6 +31,16 @@ class BinomialMp:
         self._odds = self.p / self.q
         self._o = mt.raw(self._odds)
         self._io = mt.raw(self.q / self.p)
+        f = frac(theta)  # p = a/b exactly, q = (b - a)/b
+        self._a, self._c = f.numerator, f.denominator - f.numerator
+
+    def up_int(self, y):
+        """pmf(y+1)/pmf(y) = (n - y) p / ((y + 1) q) exactly."""
+        return (self.n - y) * self._a, (y + 1) * self._c
+
+    def down_int(self, y):
+        """pmf(y-1)/pmf(y) = y q / ((n - y + 1) p) exactly."""
+        return y * self._c, (self.n - y + 1) * self._a
 
     def log_pmf(self, y):
         n = self.n
@@ -58,6 +68,7 @@ class BinomialMp:
 
 class Binomial(Family):
     float_law = BinomialLaw
+    reflects = True  # Y -> n - Y, p -> 1 - p maps the family onto itself
 
     def theta_ok(self, theta):
         return 0.0 < theta < 1.0

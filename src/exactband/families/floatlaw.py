@@ -22,6 +22,7 @@ from scipy import special as sp
 from . import _saddle
 
 _INF = np.inf
+_SUM_TOP = 6000  # largest support point summed term by term (negative binomial, huge r)
 
 
 def _f(a):
@@ -62,6 +63,32 @@ class FloatLaw:
         return np.clip(g, 0.0, np.minimum(cls.supmax(P), 1e15))
 
 
+def _lower_gamma_cf(a, x, nmax: int = 300):
+    """T with gamma(a, x) = x^a e^-x / T, for x < a (DLMF 8.9.2, modified Lentz).
+
+    T = a - a x/(a+1 + x/(a+2 - (a+1) x/(a+3 + 2x/(a+4 - ...)))); four or more
+    standard deviations into the right tail it converges in under 60 terms, and
+    loses about log10(a / (a - x)) digits to the first subtraction.
+    """
+    tiny = 1e-300
+    f = a.astype(float).copy()
+    C = f.copy()
+    D = np.zeros_like(f)
+    for n in range(1, nmax):
+        k = (n - 1) // 2 if n % 2 else n // 2
+        an = -(a + k) * x if n % 2 else k * x
+        bn = a + n
+        D = bn + an * D
+        D = 1.0 / np.where(D == 0.0, tiny, D)
+        C = bn + an / C
+        C = np.where(C == 0.0, tiny, C)
+        delta = C * D
+        f = f * delta
+        if np.all(np.abs(delta - 1.0) < 1e-16):
+            break
+    return f
+
+
 class PoissonLaw(FloatLaw):
     """Y ~ Poisson(mu), P = (mu,), t = mu."""
 
@@ -86,15 +113,30 @@ class PoissonLaw(FloatLaw):
         mu = P[0]
         return mu, mu, 1.0 / np.sqrt(mu)
 
-    @staticmethod
-    def cdf(c, P):
+    @classmethod
+    def cdf(cls, c, P):
         c = _f(c)
-        return np.where(c < 0, 0.0, sp.gammaincc(np.maximum(c, 0.0) + 1.0, P[0]))
+        mu = P[0] + 0.0 * c
+        cc = np.maximum(c, 0.0) + 0.0 * mu
+        out = sp.gammaincc(cc + 1.0, mu)
+        far = (mu > 1e5) & (cc + 1.0 - mu >= 4.0 * np.sqrt(mu))  # see sf
+        if np.any(far):
+            out[far] = 1.0 - cls.sf(cc[far], (mu[far],))
+        return np.where(c < 0, 0.0, out)
 
-    @staticmethod
-    def sf(c, P):
+    @classmethod
+    def sf(cls, c, P):
         c = _f(c)
-        return np.where(c < 0, 1.0, sp.gammainc(np.maximum(c, 0.0) + 1.0, P[0]))
+        mu = P[0] + 0.0 * c
+        cc = np.maximum(c, 0.0) + 0.0 * mu
+        out = sp.gammainc(cc + 1.0, mu)
+        # scipy's P(a, x) loses up to 6 digits in the far right tail of a large mean
+        # (mu > 1e5, 4 or more sd above it); there the continued fraction is used
+        far = (mu > 1e5) & (cc + 1.0 - mu >= 4.0 * np.sqrt(mu))
+        if np.any(far):
+            a, x = cc[far] + 1.0, mu[far]
+            out[far] = np.exp(cls.logpmf(a, (x,))) * a / _lower_gamma_cf(a, x)
+        return np.where(c < 0, 1.0, out)
 
     @staticmethod
     def logpmf(y, P):
@@ -243,6 +285,20 @@ class NegBinomialLaw(FloatLaw):
         use_q = q <= 0.5
         cdf = np.where(use_q, sp.betainc(r, a, q), sp.betaincc(a, r, qc))
         sf = np.where(use_q, sp.betaincc(r, a, q), sp.betainc(a, r, qc))
+        # scipy's incomplete beta loses ~1e-20 * r relative for a huge size r (2e-9 at
+        # r = 1e9); there, with a small mean, the masses are summed (all positive)
+        r_, m_, c_ = np.broadcast_arrays(r, m, c)
+        top = np.ceil(m_ + 40.0 * np.sqrt(m_) + 60.0)
+        summed = (r_ > 1e5) & (top <= _SUM_TOP)
+        if np.any(summed):
+            j = np.nonzero(summed.ravel())[0]
+            cdf, sf = (np.array(np.broadcast_to(x, r_.shape), dtype=float) for x in (cdf, sf))
+            rs, ms, cs = r_.ravel()[j], m_.ravel()[j], c_.ravel()[j]
+            y = np.arange(int(top.ravel()[j].max()) + 1, dtype=float)
+            f = np.exp(cls.logpmf(y[None, :], (rs[:, None], ms[:, None])))
+            below = y[None, :] <= cs[:, None]
+            cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
+            sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
         return cdf, sf
 
     @classmethod
@@ -269,7 +325,20 @@ class NegBinomialLaw(FloatLaw):
         # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y   (y > 0), as in Loader's note
         with np.errstate(divide="ignore", invalid="ignore"):
             pos = _saddle.log_binom_raw(r + 0.0 * yy, yy + r, q, qc) + np.log(r / (r + yy))
-        return np.where(ok, np.where(yy == 0, at0, pos), -_INF)
+        out = np.where(yy == 0, at0, pos)
+        # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
+        #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
+        # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
+        big = (yy + 1.0) ** 2 < 1e-4 * r
+        if np.any(big):
+            x = m / r
+            small = x < 1e-4
+            g = np.where(small, x * x * (0.5 - x / 3.0 + x * x / 4.0), x - np.log1p(x))
+            corr = (r * g - yy * np.log1p(x) + yy * (yy - 1.0) / (2.0 * r)
+                    - yy * (yy - 1.0) * (2.0 * yy - 1.0) / (12.0 * r * r))
+            lim = _saddle.log_poisson_raw(yy, m + 0.0 * yy) + corr
+            out = np.where(big, lim, out)
+        return np.where(ok, out, -_INF)
 
     @staticmethod
     def weight(c, P):
@@ -280,7 +349,8 @@ class NegBinomialLaw(FloatLaw):
     def dlogw(c, P):
         r, m = P
         c = _f(c)
-        return c / m - (r + c + 1.0) / (r + m)
+        # c/m - (r + c + 1)/(r + m), without the cancellation of r against r + m
+        return c / m - 1.0 - (c + 1.0 - m) / (r + m)
 
     @staticmethod
     def dlogpmf(y, P):

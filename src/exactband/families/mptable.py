@@ -61,15 +61,47 @@ def div_int(x, d: int, prec):
     return libmp.normalize(sign, q, exp - shift, q.bit_length(), prec, _RND)
 
 
-MAX_TABLE = 3_000_000  # terms per table; beyond this the precise solver declines
+MAX_TABLE = 2_000_000  # terms per table; beyond this the precise solver declines
+MAX_TABLE_BYTES = 400 * 2**20  # memory of one table (estimated before allocating)
+_K_MAX = 1.15  # window half-width in sd, per sqrt(2 ln(1/thr)) (Gaussian tail bound, with room)
 
 
 class TableTooLarge(OverflowError):
-    """The law is too spread out to tabulate within MAX_TABLE terms."""
+    """The law is too spread out to tabulate within the limits (MAX_TABLE, MAX_TABLE_BYTES)."""
+
+
+def table_estimate(sd: float, thr, prec: int, max_len: int = MAX_TABLE) -> tuple:
+    """(terms, bytes) a window of +-K sd needs, K from the Gaussian tail bound at thr.
+
+    Every term is an integer of S = prec + log2(1/thr) + 2 log2(max_len) + 32 bits
+    (see MpTable), held twice (mass and prefix sum; a third time with moments),
+    plus the list slots.
+    """
+    ln_thr = -float(mp.log(thr)) if thr > 0 else 1e4
+    k = _K_MAX * (2 * ln_thr) ** 0.5 if ln_thr > 0 else 10.0
+    terms = int(2 * k * sd) + 64
+    bits = prec + ln_thr / 0.693 + 2 * max_len.bit_length() + 32
+    return terms, int(terms * (3 * (bits / 8 + 32) + 32))
+
+
+def check_size(sd: float, thr, prec: int, max_len: int = MAX_TABLE):
+    """Raise TableTooLarge (naming the limit) before a table beyond the limits is built."""
+    terms, nbytes = table_estimate(sd, thr, prec, max_len)
+    if terms > max_len:
+        raise TableTooLarge(f"about {terms:,} terms per probability table, limit {max_len:,}")
+    if nbytes > MAX_TABLE_BYTES:
+        raise TableTooLarge(f"about {nbytes / 2**20:,.0f} MB per probability table, "
+                            f"limit {MAX_TABLE_BYTES // 2**20} MB")
 
 
 class MpTable:
-    """pmf / cdf / sf / first moments of one discrete law, at working precision."""
+    """pmf / cdf / sf / first moments of one discrete law, at working precision.
+
+    The window [lo, hi] holds the masses of the law's bulk only (outside it the
+    mass is provably below ``thr``); a wide band never tabulates the masses
+    between its two ends.  Values are stored as exact integer multiples of one
+    power of two, so prefix sums are exact and suffix sums are total - prefix.
+    """
 
     def __init__(self, law, thr, moments: bool = False, max_len: int = MAX_TABLE):
         self.law = law
@@ -80,47 +112,59 @@ class MpTable:
         self._prec = mp.mp.prec
         m0 = law.mode
         sd = float(mp.sqrt(law.variance))
-        if sd * 2 * float(mp.sqrt(2 * -mp.log(thr))) > max_len:  # the window needs ~ +-K sd
-            raise TableTooLarge(f"more than {max_len:,} terms")
-        p0 = raw(mp.exp(law.log_pmf(m0)))
+        check_size(sd, thr, self._prec, max_len)
+        # fixed point: every mass is an integer P = pmf * 2**S, filled by the exact
+        # rational ratios of the law with one floor division per term; S leaves
+        # 2 log2(max_len) + 32 guard bits below thr * 2**-prec, so the N <= max_len
+        # floor errors (at most one unit each) stay far below any digit wanted
+        thr_bits = int(-mp.log(thr, 2)) + 1 if thr > 0 else 0
+        self._S = S = self._prec + thr_bits + 2 * max_len.bit_length() + 32
+        with mp.workprec(self._prec + 20):
+            p0 = int(mp.floor(mp.exp(law.log_pmf(m0)) * mp.mpf(2) ** S))
+        self._thr_int = int(mp.floor(thr * mp.mpf(2) ** S)) + 1
         self.lo = self.hi = m0
-        self._right = [p0]  # pmf(m0), pmf(m0+1), ... as libmp values
-        self._left = []  # pmf(m0-1), pmf(m0-2), ...
+        self._right = [p0]  # P(m0), P(m0+1), ...
+        self._left = []  # P(m0-1), P(m0-2), ...
         self._trunc_right = self._grow(True, None)
         self._trunc_left = self._grow(False, None)
         self._sums = None
 
     # -- building ----------------------------------------------------------
-    # The tables hold libmp values (mpmath's own number representation, without
-    # the mpf wrapper) so that filling them costs one or two roundings per term.
     def _grow(self, up: bool, until):
         """Extend the table to the right (up) or left until the rest is provably < thr.
 
-        Returns the bound on the mass left out on that side.
+        Returns the bound on the mass left out on that side: the tail beyond y is
+        at most pmf(y) * b / (1 - b), with b a bound on every later ratio.
         """
-        law, thr, prec = self.law, raw(self.thr), self._prec
-        lt = libmp.mpf_lt
+        law, thr_int, S = self.law, self._thr_int, self._S
         if up:
-            y, p, out, step, bound_at = self.hi, self._right[-1], self._right, law.up, law.right_bound
+            y, P, out, ratio, bound_at = self.hi, self._right[-1], self._right, law.up_int, \
+                law.right_bound
         else:
             y = self.lo
-            p = self._left[-1] if self._left else self._right[0]
-            out, step, bound_at = self._left, law.down, law.left_bound
+            P = self._left[-1] if self._left else self._right[0]
+            out, ratio, bound_at = self._left, law.down_int, law.left_bound
         rest = _ZERO
-        with mp.workprec(prec):
-            while (y > 0) if not up else (self.supmax is None or y < self.supmax):
-                p = step(p, y, prec)
-                y += 1 if up else -1
-                out.append(p)
-                far = until is None or (y >= until if up else y <= until)
-                if far and lt(p, thr):
+        limit = self.max_len
+        target = thr_int  # below it, test the tail bound (the bounds only fall further out)
+        step = 1 if up else -1
+        end = 0 if not up else (self.supmax if self.supmax is not None else -1)
+        with mp.workprec(self._prec):
+            while y != end:
+                num, den = ratio(y)
+                P = (P * num) // den
+                y += step
+                out.append(P)
+                if P < target and (until is None or (y >= until if up else y <= until)):
                     bound = bound_at(y)
                     if bound < 1:
-                        rest = mp.make_mpf(p) * bound / (1 - bound)
+                        rest = mp.mpf(P) * mp.mpf(2) ** (-S) * bound / (1 - bound)
                         if rest < self.thr:
                             break
-                if len(out) > self.max_len:
-                    raise TableTooLarge(f"more than {self.max_len:,} terms")
+                        # P * b / (1 - b) < thr once P < thr (1 - b) / b (b only falls)
+                        target = min(target, int(thr_int * (1 - bound) / bound))
+                if len(out) > limit:
+                    raise TableTooLarge(f"more than {limit:,} terms")
             else:
                 rest = _ZERO
         if up:
@@ -140,34 +184,30 @@ class MpTable:
                 self._sums = None
 
     @property
+    def nbytes(self) -> int:
+        """Rough memory of the table (for the bounded cache)."""
+        return int((self.hi - self.lo + 1) * (3 * (self._S / 8 + 32) + 32))
+
+    @property
     def truncated(self):
         """Upper bound on the probability outside the window."""
         return self._trunc_left + self._trunc_right
 
     def _build(self):
-        """Prefix and suffix sums, exact: every mass is an integer multiple of 2**e0.
+        """Prefix sums, exact: every mass is an integer multiple of 2**e0.
 
         Summing exactly in Python integers is much cheaper than rounding each
-        partial sum, and keeps full relative accuracy in both tails; values are
-        rounded to the working precision only when read.
+        partial sum, and keeps full relative accuracy in both tails (a suffix
+        sum is the exact integer total - prefix); values are rounded to the
+        working precision only when read.
         """
-        vals = list(reversed(self._left)) + self._right
-        e0 = min(v[2] for v in vals if v[1])
-        span = max(v[2] + v[3] for v in vals) - e0
-        if span > _MAX_EXACT_SPAN:  # astronomically spread table: drop what cannot matter
-            e0 = max(v[2] + v[3] for v in vals) - _MAX_EXACT_SPAN
-        ints = [(v[1] << (v[2] - e0)) if v[2] >= e0 else (v[1] >> (e0 - v[2])) for v in vals]
+        ints = list(reversed(self._left)) + self._right
+        e0 = -self._S
         F = list(accumulate(ints))
-        S = list(accumulate(reversed(ints)))
-        S.reverse()
-        S = S[1:] + [0]
-        self._e0, self._p, self._F, self._S = e0, vals, F, S
+        self._e0, self._p, self._F, self._tot = e0, ints, F, F[-1]
         if self.moments:
-            yp = [(self.lo + i) * v for i, v in enumerate(ints)]
-            M = list(accumulate(yp))
-            MS = list(accumulate(reversed(yp)))
-            MS.reverse()
-            self._M, self._MS = M, MS[1:] + [0]
+            M = list(accumulate((self.lo + i) * v for i, v in enumerate(ints)))
+            self._M, self._Mtot = M, M[-1]
         self._sums = True
 
     def _num(self, k: int):
@@ -183,7 +223,7 @@ class MpTable:
         self._ready()
         if y < self.lo or y > self.hi:
             return _ZERO
-        return mp.make_mpf(self._p[y - self.lo])
+        return self._num(self._p[y - self.lo])
 
     def cdf(self, y):
         """P(Y <= y)."""
@@ -201,7 +241,7 @@ class MpTable:
             return _ONE
         if y >= self.hi:
             return _ZERO
-        return self._num(self._S[y - self.lo])
+        return self._num(self._tot - self._F[y - self.lo])
 
     def moment_below(self, y):
         """E[Y; Y <= y]."""
@@ -219,16 +259,20 @@ class MpTable:
             return self._num(self._M[-1])
         if y >= self.hi:
             return _ZERO
-        return self._num(self._MS[y - self.lo])
+        return self._num(self._Mtot - self._M[y - self.lo])
 
     # -- quantiles ------------------------------------------------------------
+    def _floor_scaled(self, x) -> int:
+        """floor(x * 2**S), exact: compares with the integer sums need no rounding."""
+        return int(mp.floor(mp.ldexp(mp.mpf(x), self._S)))
+
     def first_cdf_above(self, a):
         """min{c : P(Y <= c) > a} (c1 of a left tail of mass a)."""
         self._ready()
-        return self.lo + bisect_right(self._F, a, key=self._num)
+        return self.lo + bisect_right(self._F, self._floor_scaled(a))
 
     def first_sf_at_most(self, r):
         """min{c : P(Y > c) <= r} (c2 of a right tail of mass r)."""
         self._ready()
-        # S is non-increasing; the first index with S[i] <= r
-        return self.lo + bisect_left(self._S, -r, key=lambda v: -self._num(v))
+        # tot - F[i] <= r 2**S  <=>  F[i] >= tot - floor(r 2**S)
+        return self.lo + bisect_left(self._F, self._tot - self._floor_scaled(r))

@@ -7,7 +7,7 @@ import math
 import mpmath as mp
 import numpy as np
 
-from ..mpnum import dec
+from ..mpnum import dec, frac
 
 from . import mptable as mt
 from .base import Family
@@ -25,6 +25,16 @@ class PoissonMp:
         self.mean = self.mu
         self.variance = self.mu
         self._mu = mt.raw(self.mu)
+        q = frac(n) * frac(theta)  # exact rational mean a/b
+        self._a, self._b = q.numerator, q.denominator
+
+    def up_int(self, y):
+        """pmf(y+1)/pmf(y) = mu/(y+1) as an exact (numerator, denominator)."""
+        return self._a, self._b * (y + 1)
+
+    def down_int(self, y):
+        """pmf(y-1)/pmf(y) = y/mu exactly."""
+        return self._b * y, self._a
 
     def log_pmf(self, y):
         return y * mp.log(self.mu) - self.mu - mp.loggamma(y + 1)

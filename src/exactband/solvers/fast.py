@@ -27,84 +27,19 @@ from __future__ import annotations
 import numpy as np
 from numpy.polynomial.legendre import leggauss
 
+from ..mpnum import float_complements
+from .search import BIG as _BIG, first_true, lower as _lower, sub, upper as _upper
+
 _GL_X, _GL_W = leggauss(20)
 _GL_NODES = (_GL_X + 1.0) / 2.0  # on [0, 1]
 _GL_WEIGHTS = _GL_W / 2.0  # sum to 1
 _GL_MAX_SPREAD = 4.0  # quadrature used while |d log(-dF/dt)/dt| * dt <= this
 _GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
 _MAX_ITER = 200
-_BIG = 1e15
 
 
 class SolverFailure(RuntimeError):
     """The fast solver did not converge for some designs (never silent)."""
-
-
-def _sub(P, j):
-    return tuple(x[j] for x in P)
-
-
-def first_true(pred, guess, lo, hi):
-    """Smallest integer c in [lo, hi] with pred(c, sel) True, vectorised.
-
-    ``pred`` must be monotone in c (False ... False True ... True) and True at hi;
-    ``sel`` are the indices of the elements being evaluated.  The search gallops
-    out from ``guess`` to a bracket and then bisects.
-    """
-    size = guess.shape[0]
-    c = np.clip(guess, lo, hi)
-    low = c - 1.0  # candidate "false" end (lo - 1 counts as false)
-    high = c.copy()  # candidate "true" end (hi counts as true)
-    step = np.ones(size)
-    # make `high` a true point
-    todo = np.nonzero(high < hi)[0]
-    while todo.size:
-        ok = pred(high[todo], todo)
-        low[todo[~ok]] = np.maximum(low[todo[~ok]], high[todo[~ok]])
-        nxt = todo[~ok]
-        high[nxt] = np.minimum(high[nxt] + step[nxt], hi[nxt])
-        step[nxt] *= 2.0
-        todo = nxt[high[nxt] < hi[nxt]]
-    # make `low` a false point
-    step[:] = 1.0
-    todo = np.nonzero(low >= lo)[0]
-    while todo.size:
-        bad = pred(low[todo], todo)
-        moved = todo[bad]
-        high[moved] = np.minimum(high[moved], low[moved])
-        low[moved] = np.maximum(low[moved] - step[moved], lo[moved] - 1.0)
-        step[moved] *= 2.0
-        todo = moved[low[moved] >= lo[moved]]
-    # bisect
-    todo = np.nonzero(high - low > 1.0)[0]
-    while todo.size:
-        mid = np.floor((low[todo] + high[todo]) / 2.0)
-        ok = pred(mid, todo)
-        high[todo[ok]] = mid[ok]
-        low[todo[~ok]] = mid[~ok]
-        todo = todo[high[todo] - low[todo] > 1.0]
-    return high
-
-
-# ---------------------------------------------------------------------------
-# one-sided kinds
-# ---------------------------------------------------------------------------
-def _upper(L, P, alpha):
-    hi = np.minimum(L.supmax(P), _BIG)
-    zero = np.zeros_like(alpha)
-    guess = L.quantile_guess(1.0 - alpha, P)
-    c2 = first_true(lambda c, j: L.sf(c, _sub(P, j)) <= alpha[j], guess, zero, hi)
-    g2 = (alpha - L.sf(c2, P)) / L.pmf(c2, P)
-    return c2, g2
-
-
-def _lower(L, P, alpha):
-    hi = np.minimum(L.supmax(P), _BIG)
-    zero = np.zeros_like(alpha)
-    guess = L.quantile_guess(alpha, P)
-    c1 = first_true(lambda c, j: L.cdf(c, _sub(P, j)) > alpha[j], guess, zero, hi)
-    g1 = (alpha - L.cdf(c1 - 1.0, P)) / L.pmf(c1, P)
-    return c1, g1
 
 
 # ---------------------------------------------------------------------------
@@ -117,7 +52,7 @@ class _Derivative:
         self.L, self.P = L, P
 
     def subset(self, j):
-        return _Derivative(self.L, _sub(self.P, j))
+        return _Derivative(self.L, sub(self.P, j))
 
     def dpmf(self, c, f):
         return f * self.L.dlogpmf(c, self.P)
@@ -133,7 +68,7 @@ class _Difference:
         self.L, self.Pl, self.Ph, self.dt = L, Pl, Ph, dt
 
     def subset(self, j):
-        return _Difference(self.L, _sub(self.Pl, j), _sub(self.Ph, j), self.dt[j])
+        return _Difference(self.L, sub(self.Pl, j), sub(self.Ph, j), self.dt[j])
 
     def dpmf(self, c, f):
         lr = self.L.logratio(c, self.Pl, self.dt)
@@ -160,7 +95,7 @@ class _Difference:
         direct = inside & ~quad
         if np.any(direct):
             j = np.nonzero(direct)[0]
-            Plj, Phj, cj = _sub(Pl, j), _sub(Ph, j), c[j]
+            Plj, Phj, cj = sub(Pl, j), sub(Ph, j), c[j]
             sl = L.sf(cj, Plj)
             right = sl < 0.5
             diff_sf = -(L.sf(cj, Phj) - sl)
@@ -168,7 +103,7 @@ class _Difference:
             out[j] = np.where(right, diff_sf, diff_cdf) / dt[j]
         if np.any(quad):
             j = np.nonzero(quad)[0]
-            Plj, cj, dtj = _sub(Pl, j), c[j], dt[j]
+            Plj, cj, dtj = sub(Pl, j), c[j], dt[j]
             t0 = L.t(Plj)
             acc = np.zeros(j.size)
             for x, w in zip(_GL_NODES, _GL_WEIGHTS):
@@ -236,7 +171,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
     for _ in range(_MAX_ITER):
         a, s_ = st["a"], st["s"]
         P, R = Pl, Pr
-        c1 = first_true(lambda c, j: L.cdf(c, _sub(P, j)) > a[j], st["c1"], st["zero"], st["top"])
+        c1 = first_true(lambda c, j: L.cdf(c, sub(P, j)) > a[j], st["c1"], st["zero"], st["top"])
         Fm, f1 = L.cdf(c1 - 1.0, P), L.pmf(c1, P)
         with np.errstate(divide="ignore", invalid="ignore"):
             g1 = (a - Fm) / f1
@@ -244,7 +179,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
             rh = s_ - a
         else:
             rh = s_ - (L.cdf(c1 - 1.0, R) + g1 * L.pmf(c1, R))
-        c2 = first_true(lambda c, j: L.sf(c, _sub(R, j)) <= rh[j], st["c2"], st["zero"], st["top"])
+        c2 = first_true(lambda c, j: L.sf(c, sub(R, j)) <= rh[j], st["c2"], st["zero"], st["top"])
         S2r, f2r = L.sf(c2, R), L.pmf(c2, R)
         S2, f2 = (S2r, f2r) if same else (L.sf(c2, P), L.pmf(c2, P))
         with np.errstate(divide="ignore", invalid="ignore"):
@@ -290,8 +225,8 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
                   qprev=np.abs(Q), side=np.where(up, 1.0, -1.0), c1=c1, c2=c2)
         sel = np.nonzero(keep)[0]
         st = {key: val[sel] for key, val in st.items()}
-        Pl = _sub(Pl, sel)
-        Pr = Pl if same else _sub(Pr, sel)
+        Pl = sub(Pl, sel)
+        Pr = Pl if same else sub(Pr, sel)
         second = second.subset(sel)
     else:
         raise SolverFailure(f"fast solver did not converge for {st['idx'].size} design(s)")
@@ -389,12 +324,17 @@ def _refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
         h1 = (r1 * d2 - f2 * r2) / det
         h2 = (f1 * r2 - d1 * r1) / det
     lo_ok, hi_ok = -_GAMMA_TOL, 1.0 + _GAMMA_TOL
+    # alpha near 1: the window holds almost all the mass; the complement's gammas
+    # (band form of size 1 - alpha, small) are then the accurate ones
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
-          & (h2 < 1.0) & (c2 > c1))
+          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5))
     del hi_ok
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)
     g2 = np.where(ok, np.clip(h2, 0.0, 1.0), g2)
     return c1, g1, c2, g2
+
+
+_MIRROR = {"upper": "lower", "lower": "upper"}
 
 
 def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None):
@@ -403,21 +343,65 @@ def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersi
     All parameters are arrays of equal length (already validated; ``None`` where
     a kind does not use them).  Returns float arrays (c1, gamma1, c2, gamma2)
     with NaN where the kind has no such cutoff.
+
+    A family whose law is symmetric under Y -> n - Y, theta -> 1 - theta
+    (``family.reflects``: the binomial) has its designs with theta above one
+    half solved in the mirror image, with 1 - theta formed exactly from the
+    decimal the user wrote: the double nearest to p = 0.99999997 carries a
+    relative error of about 1e-9 in 1 - p, the mirrored parameter none.
     """
+    alpha = np.asarray(alpha, dtype=float)
+    if not getattr(family, "reflects", False):
+        return _solve(family, kind, n, alpha, low, high, value, dispersion)
+    centre = np.asarray(value if value is not None else (np.asarray(low) + np.asarray(high)) / 2,
+                        dtype=float)
+    flip = centre > 0.5
+    if not np.any(flip):
+        return _solve(family, kind, n, alpha, low, high, value, dispersion)
+    keep = ~flip
+    out = [np.full(alpha.shape, np.nan) for _ in range(4)]
+
+    def part(x, m):
+        return None if x is None else np.asarray(x, dtype=float)[m]
+
+    if np.any(keep):
+        res = _solve(family, kind, part(n, keep), alpha[keep], part(low, keep), part(high, keep),
+                     part(value, keep), part(dispersion, keep))
+        for o, r in zip(out, res):
+            o[keep] = r
+    nf = np.asarray(n, dtype=float)[flip]
+    comp = float_complements
+    mlow = None if high is None else comp(part(high, flip))
+    mhigh = None if low is None else comp(part(low, flip))
+    mval = None if value is None else comp(part(value, flip))
+    res = _solve(family, _MIRROR.get(kind, kind), nf, alpha[flip], mlow, mhigh, mval,
+                 part(dispersion, flip))
+    c1m, g1m, c2m, g2m = res
+    for o, r in zip(out, (nf - c2m, g2m, nf - c1m, g1m)):
+        o[flip] = r
+    return tuple(out)
+
+
+def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None):
+    """solve() without the mirror image."""
     L = family.float_law
     alpha = np.asarray(alpha, dtype=float)
     size = alpha.shape[0]
     k = None if dispersion is None else np.asarray(dispersion, dtype=float)
     n = np.asarray(n, dtype=float)
     nan = np.full(size, np.nan)
+    ac = 1.0 - alpha
+    big = alpha > 0.5
+    if np.any(big):
+        ac[big] = float_complements(alpha[big])
     if kind == "upper":
         P = L.make(np.asarray(value, float), n, k)
-        c2, g2 = _upper(L, P, alpha)
+        c2, g2 = _upper(L, P, alpha, ac)
         c2, g2 = np.where(g2 >= 1.0, c2 - 1.0, c2), np.where(g2 >= 1.0, 0.0, g2)
         return nan, nan.copy(), c2, np.clip(g2, 0.0, 1.0)
     if kind == "lower":
         P = L.make(np.asarray(value, float), n, k)
-        c1, g1 = _lower(L, P, alpha)
+        c1, g1 = _lower(L, P, alpha, ac)
         c1, g1 = np.where(g1 >= 1.0, c1 + 1.0, c1), np.where(g1 >= 1.0, 0.0, g1)
         return c1, np.clip(g1, 0.0, 1.0), nan, nan.copy()
     if kind == "point":
@@ -425,13 +409,31 @@ def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersi
         a0 = _initial_split(L, P, None, alpha)
         res = _two_tailed(L, P, P, _Derivative(L, P), alpha, a0)
         return _canonical_band(*res)
+    if kind == "band" and np.any(big):
+        # a band of size alpha near 1 is 1 - (equivalence design of size 1 - alpha):
+        # the equivalence window's own equations keep the digits of 1 - alpha
+        out = [np.full(size, np.nan) for _ in range(4)]
+        lo_a, hi_a = np.asarray(low, float), np.asarray(high, float)
+        kk = None if k is None else k[big]
+        e1, h1, e2, h2 = _solve(family, "equivalence", n[big], ac[big], lo_a[big], hi_a[big],
+                                None, kk)
+        res = _canonical_band(e1, 1.0 - h1, e2, 1.0 - h2)
+        for o, r in zip(out, res):
+            o[big] = r
+        small = ~big
+        if np.any(small):
+            res = _solve(family, kind, n[small], alpha[small], lo_a[small], hi_a[small], None,
+                         None if k is None else k[small])
+            for o, r in zip(out, res):
+                o[small] = r
+        return tuple(out)
     if kind in ("band", "equivalence"):
         lo = np.asarray(low, float)
         hi = np.asarray(high, float)
         Pl = L.make(lo, n, k)
         Ph = L.make(hi, n, k)
         dt = np.asarray(family.natural_delta(lo, hi, n, k), dtype=float)
-        s = alpha if kind == "band" else 1.0 - alpha
+        s = alpha if kind == "band" else float_complements(alpha)
         a0 = _initial_split(L, Pl, Ph, s)
         res = _two_tailed(L, Pl, Ph, _Difference(L, Pl, Ph, dt), s, a0)
         res = _canonical_band(*res)

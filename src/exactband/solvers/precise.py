@@ -28,7 +28,7 @@ _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
 
 from ..families.mptable import MpTable
-from ..mpnum import dec
+from ..mpnum import dec, dec_complement
 
 GUARD_DIGITS = 15
 
@@ -68,29 +68,66 @@ def working_dps(precision: int, kind: str, low=None, high=None, alpha=None) -> i
     return int(precision) + GUARD_DIGITS + extra
 
 
+_CACHE: "OrderedDict" = None
+_SIZE = [0]  # bytes held by the cache
+CACHE_BYTES = 64 * 2**20  # tables kept for reuse across designs (same law, other alpha/kind)
+
+
 def _table(family, theta, n, k, precision, alpha, moments=False):
-    """Table whose truncated mass is below alpha * 10**-(precision + 12)."""
+    """Table whose truncated mass is below alpha * 10**-(precision + 12).
+
+    Tables are kept in a bounded cache (least recently used first out): a grid
+    of designs meets the same law at many alphas and kinds.  A cached table is
+    reused when its precision is at least and its threshold at most what is
+    needed.
+    """
+    global _CACHE
+    from collections import OrderedDict
+
+    if _CACHE is None:
+        _CACHE = OrderedDict()
     thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
-    return MpTable(family.mp_law(theta, n, k), thr, moments=moments)
+    key = (family.name, repr(theta), repr(n), repr(k))
+    prec = mp.mp.prec
+    for kk in ((key, True), (key, moments)):
+        hit = _CACHE.get(kk)
+        if hit is not None and hit._prec >= prec and hit.thr <= thr:
+            _CACHE.move_to_end(kk)
+            return hit
+    T = MpTable(family.mp_law(theta, n, k), thr, moments=moments)
+    old = _CACHE.pop((key, moments), None)
+    _SIZE[0] += T.nbytes - (old.nbytes if old is not None else 0)
+    _CACHE[(key, moments)] = T
+    while _SIZE[0] > CACHE_BYTES and len(_CACHE) > 1:
+        _, old = _CACHE.popitem(last=False)
+        _SIZE[0] -= old.nbytes
+    return T
+
+
+def clear_cache():
+    """Forget the cached tables (tests, memory bounds)."""
+    global _CACHE
+    _CACHE = None
+    _SIZE[0] = 0
 
 
 class _Band:
-    """Size at the high end minus s (the second condition of band designs)."""
+    """Size at the first (low) end minus s: increases with the left tail there."""
 
-    def __init__(self, Th, s):
-        self.Th, self.s = Th, s
+    def __init__(self, Tl, s):
+        self.Tl, self.s = Tl, s
 
     def residual(self, c1, g1, c2, g2):
-        T = self.Th
+        T = self.Tl
         return T.cdf(c1 - 1) + g1 * T.pmf(c1) + g2 * T.pmf(c2) + T.sf(c2) - self.s
 
     def row(self, c1, c2):
-        T = self.Th
+        T = self.Tl
         return T.pmf(c1), T.pmf(c2), self.s - T.cdf(c1 - 1) - T.sf(c2)
 
 
 class _Moment:
-    """E[Y phi] - s E[Y] at the point (second condition of the point design)."""
+    """s E[Y] - E[Y phi] at the point (second condition of the point design)."""
 
     def __init__(self, T, s):
         self.T, self.s = T, s
@@ -98,8 +135,8 @@ class _Moment:
 
     def residual(self, c1, g1, c2, g2):
         T = self.T
-        return (T.moment_below(c1 - 1) + g1 * c1 * T.pmf(c1) + g2 * c2 * T.pmf(c2)
-                + T.moment_above(c2) - self.target)
+        return self.target - (T.moment_below(c1 - 1) + g1 * c1 * T.pmf(c1)
+                              + g2 * c2 * T.pmf(c2) + T.moment_above(c2))
 
     def row(self, c1, c2):
         T = self.T
@@ -133,41 +170,53 @@ def _smallest(pred, lo, hi):
     return hi
 
 
-def _two_tailed(Tl, cond, s, tol):
-    """Band-form test of size s at the first point; second condition `cond`."""
+def _two_tailed(Tl, Tr, cond, s, tol):
+    """Band-form test of size s; left tail measured at Tl, right tail fixed at Tr.
 
-    def right_for(a):
-        rr = s - a
-        k = Tl.first_sf_at_most(rr)
-        return k, (rr - Tl.sf(k)) / Tl.pmf(k)
+    State: the left-tail mass ``a`` at the first point (cutoff j, gamma g1).
+    The right tail is chosen so that the size at ``Tr`` is exactly s (for a
+    band Tr is the law at ``high``, for the point design the law itself); the
+    second condition ``cond`` then increases strictly in ``a`` (monotone
+    likelihood ratio).  A wide band's right tail at ``low``, far below any
+    digit of the size, is never needed to place the right cutoff.
+    """
+
+    def right_for(j, g1):
+        rr = s - Tr.cdf(j - 1) - g1 * Tr.pmf(j)
+        if rr <= 0:
+            return None
+        k = Tr.first_sf_at_most(rr)
+        return k, (rr - Tr.sf(k)) / Tr.pmf(k)
 
     def q_left(j):  # second condition at the breakpoint "left tail = {Y < j}"
-        k, g2 = right_for(Tl.cdf(j - 1))
+        k, g2 = right_for(j, _ZERO)
         return cond.residual(j, _ZERO, k, g2)
 
-    j_top = Tl.first_cdf_above(s)  # largest j with P(Y < j) <= s
+    j_top = Tl.first_cdf_above(s)  # largest j with P(Y < j) <= s at the first point
+    while j_top > Tl.lo and right_for(j_top, _ZERO) is None:
+        j_top -= 1
     j_lo = Tl.lo
-    if q_left(j_lo) < 0:
-        raise PreciseFailure("second condition negative at the smallest left tail")
-    j = _largest(lambda x: q_left(x) >= 0, j_lo, j_top)
-    a_j = Tl.cdf(j - 1)
-    a_next = min(Tl.cdf(j), s)
-    k_lo, _ = right_for(a_j)
-    k_hi = Tl.first_sf_at_most(s - a_next) if a_next < s else Tl.hi
+    if q_left(j_lo) > 0:
+        raise PreciseFailure("second condition positive at the smallest left tail")
+    j = _largest(lambda x: q_left(x) <= 0, j_lo, j_top)
+    f1r = Tr.pmf(j)
+    g1_max = min(_ONE, (s - Tl.cdf(j - 1)) / Tl.pmf(j))
+    k_lo = right_for(j, _ZERO)[0]
+    end = right_for(j, g1_max)
+    k_hi = end[0] if end is not None else Tr.hi
+    base = s - Tr.cdf(j - 1)
 
-    rest = s - a_next  # right-tail mass at the end of the segment (0 when a_next = s)
-
-    def right_end_negative(k):
-        # compare right-tail masses, not s - mass: a tail far below 10**-dps * s
-        # would round away in the difference
-        if Tl.sf(k) <= rest:
+    def crossed(kk):  # at "right tail = {Y > kk}" the second condition is >= 0
+        if not f1r:  # c1 lies where Tr has no mass: the right tail stays put
             return True
-        b = s - Tl.sf(k)
-        return cond.residual(j, (b - a_j) / Tl.pmf(j), k, _ZERO) <= 0
+        g1 = (base - Tr.sf(kk)) / f1r
+        if g1 > g1_max:
+            return True
+        return cond.residual(j, g1, kk, _ZERO) >= 0
 
-    k = _smallest(right_end_negative, k_lo, max(k_lo, k_hi))
-    f1, f2 = Tl.pmf(j), Tl.pmf(k)
-    r1 = s - Tl.cdf(j - 1) - Tl.sf(k)
+    k = _smallest(crossed, k_lo, max(k_lo, k_hi))
+    f1, f2 = Tr.pmf(j), Tr.pmf(k)
+    r1 = s - Tr.cdf(j - 1) - Tr.sf(k)
     if j == k:  # flat piece: any split of the one gamma satisfies both conditions
         g1, g2 = r1 / f1, _ZERO
     else:
@@ -198,7 +247,11 @@ def equivalence_expectation(T, c1, g1, c2, g2):
 
 def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
           precision: int = 50) -> PreciseDesign:
-    """Solve one design at ``precision`` significant digits (plus guard digits)."""
+    """Solve one design at ``precision`` significant digits (plus guard digits).
+
+    alpha, theta and the band ends are read as the decimals they print as;
+    1 - alpha is formed from that decimal exactly.
+    """
     dps = working_dps(precision, kind, low, high, alpha)
     with mp.workdps(dps):
         tol = mp.mpf(10) ** (-(dps - 8))
@@ -218,19 +271,16 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
         if kind == "point":
             T = _table(family, value, n, k, precision, alpha, moments=True)
             cond = _Moment(T, A)
-            c1, g1, c2, g2 = _two_tailed(T, cond, A, tol)
+            c1, g1, c2, g2 = _two_tailed(T, T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
-            return PreciseDesign(c1, g1, c2, g2, (size,), cond.residual(c1, g1, c2, g2), dps,
+            return PreciseDesign(c1, g1, c2, g2, (size,), -cond.residual(c1, g1, c2, g2), dps,
                                  T.truncated, (T,))
         if kind in ("band", "equivalence"):
+            # each table holds its own law's bulk only (no masses between distant ends)
             Tl = _table(family, low, n, k, precision, alpha)
             Th = _table(family, high, n, k, precision, alpha)
-            # each table must also cover where the other end's law lives
-            both = (min(Tl.lo, Th.lo), max(Tl.hi, Th.hi))
-            Tl.extend(*both)
-            Th.extend(*both)
-            s = A if kind == "band" else 1 - A
-            c1, g1, c2, g2 = _two_tailed(Tl, _Band(Th, s), s, tol)
+            s = A if kind == "band" else dec_complement(alpha)
+            c1, g1, c2, g2 = _two_tailed(Tl, Th, _Band(Tl, s), s, tol)
             if kind == "band":
                 sizes = (band_expectation(Tl, c1, g1, c2, g2), band_expectation(Th, c1, g1, c2, g2))
             else:

@@ -1,0 +1,194 @@
+"""The verified path over the whole documented range (issue 10, item 6 of issue 9).
+
+Each input below was refused (wrong cutoff, disagreement, MemoryError) before.
+Every verified design is re-checked here, independently of exactband, by
+summing its test function against scipy.stats (scipy.stats.poisson / binom
+pmf, sf and cdf: the probability laws themselves); the sizes must equal alpha
+to 1e-9 relative and the gammas lie in [0, 1).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from scipy import stats
+
+from exactband import api, kinds as K
+from exactband.cli import main
+from exactband.crosscheck import PHI_TOL, phi_distance
+from exactband.errors import DesignError
+from exactband.mpnum import float_complement
+from exactband.params import make_problem
+from exactband.solvers import precise
+
+
+def scipy_size(d, theta, mirrored=False, complement=False):
+    """E_theta phi by scipy.stats sums over the support where phi differs from its ends.
+
+    phi is constant outside [min cutoff, max cutoff]: those parts come from sf/cdf.
+    ``mirrored`` (binomial theta near 1): Y = n - Y' with Y' ~ Binomial(n, 1 - theta),
+    1 - theta formed exactly from the decimal, so the law keeps its digits.
+    """
+    cs = [c for c in (d.c1, d.c2) if c is not None]
+    lo, hi = min(cs), max(cs)
+    if d.family == "poisson":
+        law = stats.poisson(d.n * theta)
+        pmf, cdf, sf = law.pmf, law.cdf, law.sf
+    else:
+        n = d.n
+        if mirrored:
+            law = stats.binom(n, float_complement(theta))
+            pmf = lambda y: law.pmf(n - np.asarray(y))  # noqa: E731
+            cdf = lambda y: law.sf(n - y - 1)  # noqa: E731
+            sf = lambda y: law.cdf(n - y - 1)  # noqa: E731
+        else:
+            law = stats.binom(n, theta)
+            pmf, cdf, sf = law.pmf, law.cdf, law.sf
+    ys = np.arange(lo, hi + 1)
+    c1 = np.nan if d.c1 is None else d.c1
+    c2 = np.nan if d.c2 is None else d.c2
+    g1 = 0.0 if d.gamma1 is None else d.gamma1
+    g2 = 0.0 if d.gamma2 is None else d.gamma2
+    def w(y):  # phi, or 1 - phi (the complement keeps its digits when alpha is near 1)
+        v = K.phi(d.kind, c1, g1, c2, g2, np.asarray(y, dtype=float))
+        return 1.0 - v if complement else v
+
+    mid = float(np.sum(w(ys) * pmf(ys)))
+    left = w([lo - 1.0])[0] * (cdf(lo - 1) if lo > 0 else 0)
+    right = w([hi + 1.0])[0] * sf(hi)
+    return mid + float(left) + float(right)
+
+
+def check_verified(d, mirrored=False, rel=1e-9):
+    assert d.verified
+    for g in (d.gamma1, d.gamma2):
+        assert g is None or 0.0 <= g < 1.0
+    for theta in d.problem.points:
+        size = scipy_size(d, theta, mirrored)
+        assert abs(size - d.alpha) <= rel * d.alpha, (theta, size)
+
+
+# -- wide bands: the precise solver took a wrong upper cutoff --------------------------
+def test_wide_band_right_cutoff():
+    d = api.design("poisson", "band", n=1, low=10, high=10000, alpha=0.05)
+    # source: issue 10 (the reporter's 60-digit solution); sizes re-summed with scipy.stats
+    assert (d.c1, d.c2) == (5, 10165)
+    assert d.gamma1 == pytest.approx(0.548387947688403, abs=1e-14)
+    assert d.gamma2 == pytest.approx(0.729838531362293, abs=1e-14)
+    check_verified(d)
+
+
+@pytest.mark.parametrize("kind, low, high", [("band", 1000, 30000), ("equivalence", 500, 20000)])
+def test_wide_bands_and_equivalence(kind, low, high):
+    check_verified(api.design("poisson", kind, n=1, low=low, high=high, alpha=0.05))
+
+
+# -- binomial theta near 1: decimals and their exact complements -------------------------
+def test_binomial_point_near_one():
+    d = api.design("binomial", "point", n=100000, value=0.99999997, alpha=0.5)
+    check_verified(d, mirrored=True)
+
+
+def test_binomial_band_near_one_is_mirror_of_near_zero():
+    d = api.design("binomial", "band", n=20000, low=0.9999990, high=0.9999995, alpha=0.05)
+    m = api.design("binomial", "band", n=20000, low=0.0000005, high=0.0000010, alpha=0.05)
+    check_verified(d, mirrored=True)
+    # the mirror image Y -> n - Y, p -> 1 - p (common practice): same test reflected
+    assert (d.c1, d.c2) == (20000 - m.c2, 20000 - m.c1)
+    assert d.gamma1 == pytest.approx(m.gamma2, abs=1e-12)
+
+
+def test_fast_path_reads_the_decimal():
+    p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
+    sol = api.fast_solve([p])[0]
+    pd = precise.solve(p.family, "upper", p.n, p.alpha, value=p.value)
+    assert phi_distance("upper", sol, (pd.c1, pd.gamma1, pd.c2, pd.gamma2)) < 1e-12
+
+
+# -- alpha near 1 -------------------------------------------------------------------------
+@pytest.mark.parametrize("family, kind, kw", [
+    ("poisson", "upper", dict(n=10, value=2, alpha=0.999999999)),
+    ("binomial", "lower", dict(n=50, value=0.3, alpha=0.999999999999)),
+    ("poisson", "band", dict(n=50, low=2, high=2.5, alpha=0.999999999)),
+    ("binomial", "equivalence", dict(n=591, low=0.74743132646, high=0.87371566323,
+                                     alpha=0.9999999977290759)),
+])
+def test_alpha_near_one(family, kind, kw):
+    d = api.design(family, kind, **kw)
+    check_verified(d)
+    # 1 - size against 1 - alpha: the part scipy resolves (its own relative accuracy)
+    for theta in d.problem.points:
+        rest = scipy_size(d, theta, complement=True)
+        assert abs(rest - float_complement(d.alpha)) <= 1e-6 * float_complement(d.alpha)
+
+
+def test_binomial_upper_huge_n():
+    d = api.design("binomial", "upper", n=100_000_000, value=0.5, alpha=0.05)
+    check_verified(d)
+
+
+# -- negative binomial with a huge dispersion: the Poisson limit ---------------------------
+@pytest.mark.parametrize("verify", [True, False])
+def test_huge_dispersion_is_poisson(verify):
+    nb = api.design("negative-binomial", "upper", n=10, value=2, alpha=0.05, dispersion=1e20,
+                    verify=verify)
+    po = api.design("poisson", "upper", n=10, value=2, alpha=0.05)
+    # source: issue 10 ("the right answer is the Poisson limit (28, 0.8633)")
+    assert (nb.c2, round(nb.gamma2, 4)) == (28, 0.8633)
+    assert phi_distance("upper", (nb.c1, nb.gamma1, nb.c2, nb.gamma2),
+                        (po.c1, po.gamma1, po.c2, po.gamma2)) < 1e-12
+    if verify:
+        assert "Poisson" in nb.describe()
+
+
+@pytest.mark.parametrize("kind", ["band", "point", "equivalence"])
+def test_huge_dispersion_two_tailed(kind):
+    kw = dict(value=2) if kind == "point" else dict(low=2, high=2.5)
+    for k in (1e9, 1e16):
+        d = api.design("negative-binomial", kind, n=10, alpha=0.05, dispersion=k, **kw)
+        assert d.verified
+
+
+# -- large means: windowed tables, bounded memory -------------------------------------------
+def test_poisson_band_huge_mean():
+    d = api.design("poisson", "band", n=1_000_000, low=2, high=2.5, alpha=0.05)
+    check_verified(d)
+
+
+def test_poisson_right_tail_large_mean_float_law():
+    # scipy.special.gammainc loses digits 5 sd above a mean of 1e6; reference: mpmath gammainc
+    import mpmath as mp
+
+    from exactband.families.floatlaw import PoissonLaw
+
+    mu, c = 1e6, 1005000.0
+    got = PoissonLaw.sf(np.array([c]), (np.array([mu]),))[0]
+    with mp.workdps(40):
+        want = mp.gammainc(c + 1, 0, mu, regularized=True)
+    assert abs(got / float(want) - 1) < 1e-12
+
+
+def test_too_spread_out_is_declined_naming_the_limit():
+    with pytest.raises(DesignError, match="limit 2,000,000"):
+        api.design("poisson", "upper", n=1e12, value=1, alpha=0.05)
+
+
+def test_precision_1000_memory_bound_cli(capsys):
+    code = main(["design", "--family", "poisson", "--kind", "band", "--n", "1000000", "--low",
+                 "2", "--high", "2.5", "--alpha", "0.05", "--precision", "1000"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2 and len(err) == 1
+    assert err[0].startswith("exactband: error:") and "limit 400 MB" in err[0]
+
+
+# -- the cross-check still catches a real mistake --------------------------------------------
+def test_crosscheck_catches_a_wrong_cutoff():
+    from exactband.crosscheck import compare
+
+    p = make_problem("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
+    sol = api.fast_solve([p])[0]
+    pd = precise.solve(p.family, "band", p.n, p.alpha, low=p.low, high=p.high)
+    assert compare("band", p.alpha, sol, pd, 50).agree
+    wrong = (sol[0], sol[1], sol[2] + 1, sol[3])
+    cc = compare("band", p.alpha, wrong, pd, 50)
+    assert not cc.agree and cc.phi_tol <= PHI_TOL
