@@ -29,7 +29,7 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
             os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give a normal file's mode
             os.fsync(fh.fileno())
         os.replace(tmp, path)
-        _fsync_dir(path.parent)
+        fsync_dir(path.parent)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
@@ -42,7 +42,7 @@ def _umask() -> int:
     return mask
 
 
-def _fsync_dir(folder: Path) -> None:
+def fsync_dir(folder: Path) -> None:
     with contextlib.suppress(OSError):
         dfd = os.open(folder, os.O_RDONLY)
         try:
