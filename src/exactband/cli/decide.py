@@ -13,7 +13,8 @@ examples:
       t1 = floor(gamma1 * 10^4); reject if 4821 < t1
   exactband decide --table output/demo/demo.csv --kind band --n 25 --alpha 0.05 \\
       --low 2 --high 2.5 --y 39 --digits 482
-      the rule as printed in a generated table (its thresholds and number of digits)
+      the rule as printed in a generated table (its thresholds and number of digits);
+      the row is solved again first and refused if any number in it differs
   exactband decide ... --y 39            digits drawn from the operating system's
                                          cryptographic generator, and printed
   exactband decide ... --y 39 --conservative   never reject at a cutoff
@@ -58,9 +59,9 @@ def run(args) -> int:
     require(args, ("y",), "decide")
     rule = "conservative" if args.conservative else "randomized"
     if args.table:
-        from ..tablerow import table_rule
+        from ..tableverify import verified_table_rule
 
-        tr = table_rule(args.table, args.row, args.random_digits, family=args.family,
+        tr = verified_table_rule(args.table, args.row, args.random_digits, family=args.family,
                         kind=args.kind, n=args.n, alpha=args.alpha, low=args.low,
                         high=args.high, value=args.value, dispersion=args.dispersion)
         dec = decide(tr.design, args.y, rule=rule, digits=args.digits,
