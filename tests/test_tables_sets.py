@@ -112,7 +112,7 @@ def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger):
 def test_decide_table_refuses_an_edited_row(tmp_path, ref, capsys):
     folder = _copy(ref, tmp_path / "t")
     csv_path = folder / "small.csv"
-    args = ["decide", "--table", str(csv_path), "--row", "1", "--y", "16", "--digits", "123"]
+    args = ["decide", "--table", str(csv_path), "--row", "1", "--y", "16", "--digits-read", "123"]
     assert main(args) == 0  # the row as published: c1 = 13, Y = 16 lies inside
     assert "DO NOT REJECT" in capsys.readouterr().out
     # c1 13 -> 17 with a gamma and its threshold: the rule would now reject Y = 16

@@ -6,7 +6,7 @@ Two checks, both before anything is decided:
 * when the set's manifest lies beside the CSV (NAME.csv -> NAME.manifest.json),
   the CSV's SHA-256 must be the one the manifest records;
 * always: the row's design is solved again (fast solver, confirmed by the
-  high-precision solver at the row's verified_digits, else 50) and every
+  high-precision solver at the row's verified_precision, else 50) and every
   number of the row the decision or the reader uses must be what the solvers
   give: the cutoffs exactly, the gammas to 1e-15 (a double's rounding), the
   30-digit gammas exactly (rounded from 50 or more correct digits, they only
@@ -25,12 +25,11 @@ import math
 from decimal import Decimal, InvalidOperation
 from pathlib import Path
 
-from .api import fast_solve, verify_one
+from .api import DEFAULT_PRECISION, fast_solve, verify_one
 from .decide import DecideError
 from .errors import ExactbandError
 from .tablerow import TableRule, select_row, table_rule
 
-DEFAULT_PRECISION = 50
 GAMMA_TOL = 1e-15
 SIZE_REL_TOL = 1e-9
 MAX_MANIFEST = 4 * 1024 * 1024
@@ -68,7 +67,7 @@ def check_manifest(path) -> None:
 
 
 def _precision(cells) -> int:
-    text = (cells.get("verified_digits") or "").strip()
+    text = (cells.get("verified_precision") or cells.get("verified_digits") or "").strip()
     if text.isascii() and text.isdigit() and 20 <= int(text) <= 1000:
         return int(text)
     return DEFAULT_PRECISION

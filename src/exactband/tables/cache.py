@@ -46,7 +46,7 @@ class VerifyCache:
 
     def __init__(self, out_dir, spec):
         self.dir = Path(out_dir) / f".{spec.name}.verify-cache"
-        self.stamp = {"format": FORMAT, "spec_sha256": spec.sha256, "digits": spec.digits,
+        self.stamp = {"format": FORMAT, "spec_sha256": spec.sha256, "precision": spec.precision,
                       "versions": versions()}
         self._stamp_text = json.dumps(self.stamp, sort_keys=True)
         self._next = 0
@@ -76,7 +76,7 @@ class VerifyCache:
                     if i is None:
                         raise CacheMismatch(f"{part.name} record {j + 1}: not a design of "
                                             "this spec")
-                    out[i] = _checked(problems[i], sols[i], rec, self.stamp["digits"],
+                    out[i] = _checked(problems[i], sols[i], rec, self.stamp["precision"],
                                       f"{part.name} record {j + 1}")
         except CacheMismatch:
             self.clear()
@@ -124,19 +124,19 @@ def _record(d: Design) -> dict:
     c = d.check
     return {"key": grid.key(d.problem), "c1": d.c1, "gamma1": d.gamma1, "c2": d.c2,
             "gamma2": d.gamma2, "gamma1_decimal": d.gamma1_decimal,
-            "gamma2_decimal": d.gamma2_decimal, "sizes": list(d.sizes), "digits": d.digits,
-            "check": [c.agree, c.max_phi_diff, c.fast_size_error, c.precise_size_error, c.digits]}
+            "gamma2_decimal": d.gamma2_decimal, "sizes": list(d.sizes), "precision": d.precision,
+            "check": [c.agree, c.max_phi_diff, c.fast_size_error, c.precise_size_error, c.precision]}
 
 
 def _restore(problem, rec: dict) -> Design:
-    agree, phi, fse, pse, digits = rec["check"]
+    agree, phi, fse, pse, precision = rec["check"]
     return Design(problem, rec["c1"], rec["gamma1"], rec["c2"], rec["gamma2"],
-                  tuple(rec["sizes"]), verified=True, digits=rec["digits"],
+                  tuple(rec["sizes"]), verified=True, precision=rec["precision"],
                   gamma1_decimal=rec["gamma1_decimal"], gamma2_decimal=rec["gamma2_decimal"],
-                  check=CrossCheck(agree, phi, fse, pse, digits))
+                  check=CrossCheck(agree, phi, fse, pse, precision))
 
 
-def _checked(problem, sol, rec, digits: int, where: str) -> Design:
+def _checked(problem, sol, rec, precision: int, where: str) -> Design:
     """The Design of a cached record, or CacheMismatch naming what is wrong with it."""
     try:
         d = _restore(problem, rec)
@@ -146,7 +146,8 @@ def _checked(problem, sol, rec, digits: int, where: str) -> Design:
     what = None
     if not dist <= PHI_TOL:
         what = f"its rule differs from the fast solution (max |phi difference| {dist:.3g})"
-    elif d.digits != digits or d.check.digits != digits or d.check.agree is not True:
+    elif (d.precision != precision or d.check.precision != precision
+          or d.check.agree is not True):
         what = "its precision or cross-check record is not this spec's"
     elif len(d.sizes) != len(problem.points) or not all(_is_alpha(s, problem.alpha)
                                                          for s in d.sizes):

@@ -134,7 +134,7 @@ def _check_one(folder: Path, mname: str, workers, progress) -> tuple:
                         f"this check runs {_versions_text(versions(spec.oc is not None))}; "
                         "files can differ for that reason alone")
     summary = (f"all {len(files)} files are byte for byte the set regenerated from its spec "
-               f"({len(spec_rows(files, name))} rows re-verified with the {spec.digits}-digit "
+               f"({len(spec_rows(files, name))} rows re-verified with the {spec.precision}-digit "
                "solver)")
     return findings, summary
 
