@@ -131,11 +131,12 @@ def publish(out: Path, name: str, files: dict) -> list:
     stop_at("manifest-removed")
     paths = []
     for fname in [f for f in files if f != manifest] + [manifest]:
-        os.replace(staging / fname, out / fname)
         if fname == manifest:
-            fsync_dir(out)
+            fsync_dir(out)  # the files' renames are durable before the commit point
+        os.replace(staging / fname, out / fname)
         stop_at("published" if fname == manifest else "moved")
         paths.append(out / fname)
+    fsync_dir(out)
     shutil.rmtree(staging, ignore_errors=True)
     shutil.rmtree(out / f".{name}.verify-cache", ignore_errors=True)
     return paths
