@@ -89,12 +89,19 @@ def _interrupted_build(tmp_path, monkeypatch) -> tuple:
     return spec, out, parts
 
 
-@pytest.mark.parametrize("forger", [False, True])
-def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger):
+@pytest.mark.parametrize("forger, why", [
+    (None, "digest does not match"),  # an edit alone breaks the chunk's digest
+    ("rule", "differs from the fast solution"),  # a forger who recomputes the digest
+    ("sizes", "are not alpha"),
+])
+def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger, why):
     spec, out, parts = _interrupted_build(tmp_path, monkeypatch)
     doc = json.loads(parts[0].read_text("utf-8"))
     rec = doc["records"][0]  # the band design n=10, alpha=0.05: c1 = 13
-    rec["c1"], rec["gamma1"] = rec["c1"] + 6, 0.5
+    if forger == "sizes":
+        rec["sizes"][1] = 0.06
+    else:
+        rec["c1"], rec["gamma1"] = rec["c1"] + 6, 0.5
     if forger:  # recompute the chunk digest as the code does: only the fast check remains
         stamp = (out / ".small.verify-cache" / "stamp.json").read_text("utf-8")
         body = stamp + "\n" + json.dumps(doc["records"], sort_keys=True)
@@ -102,7 +109,6 @@ def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger):
     parts[0].write_text(json.dumps(doc), encoding="utf-8")
     notes = []
     generate(spec, out, workers=1, log=notes.append)
-    why = ("differs from the fast solution" if forger else "digest does not match")
     assert len(notes) == 1 and "verification cache failed its check" in notes[0], notes
     assert why in notes[0] and "every design is verified again" in notes[0]
     assert _files(out) == _files(ref)  # the published set is the honest one
@@ -163,7 +169,7 @@ def test_check_catches_edits_whatever_the_hashes_say(tmp_path, ref):
     assert f"small.xlsx sheet '{ws.title}' cell C8: 999 in the file, recomputed" in text
 
 
-def test_check_orphans_missing_manifest_and_hostile_paths(tmp_path, ref, capsys):
+def test_check_orphans_missing_manifest_and_hostile_paths(tmp_path, ref, capsys, monkeypatch):
     folder = _copy(ref, tmp_path / "t")
     for suffix in FINAL[:-1]:  # a second set whose manifest was deleted
         shutil.copy(folder / f"small{suffix}", folder / f"other{suffix}")
@@ -177,7 +183,18 @@ def test_check_orphans_missing_manifest_and_hostile_paths(tmp_path, ref, capsys)
     man["files"]["/etc/passwd"] = man["files"].pop("small.pdf")
     man["files"]["../small.csv"] = "0" * 64
     (folder / "small.manifest.json").write_text(json.dumps(man), encoding="utf-8")
+    opened = []
+    for method in ("read_bytes", "read_text", "open"):
+        real = getattr(Path, method)
+
+        def spy(self, *a, _real=real, **kw):
+            opened.append(Path(self).absolute())
+            return _real(self, *a, **kw)
+
+        monkeypatch.setattr(Path, method, spy)
     assert main(["table", "--check", str(folder), "--workers", "1"]) == 1
+    monkeypatch.undo()
+    assert opened and all(p.parent == folder.absolute() for p in opened), opened
     out = capsys.readouterr().out
     assert "lists '/etc/passwd', a path outside the set's folder; refused" in out
     assert "lists '../small.csv', a path outside" in out
