@@ -4,8 +4,9 @@ Not part of ``make test`` or ``make bench`` (it runs for minutes).  Two versions
 B of one spec (same name, same ~2,000-design grid, different titles) are built once
 for reference.  Then, in one output folder:
 
-* ``--kills`` runs are each killed (SIGKILL to the whole process group, pool workers
-  included) after a random delay between 0 and 1.1 times an uninterrupted run; each
+* runs are killed (SIGKILL to the whole process group, pool workers included) after a
+  random delay between 0 and the time of an uninterrupted run, until ``--kills`` of
+  them really were killed (a resumed run may finish first); each
   run builds the version the folder does not hold yet, so every kill lands in a folder
   with an older complete set (or its remains);
 * ``--resumes`` further runs are killed the same way and then rerun to completion;
@@ -191,21 +192,27 @@ def main() -> int:
               f"(workers={a.workers})", flush=True)
         out = tmp / "out"
         shutil.copytree(tmp / "ref-A", out)
-        kills = resumes_seen = mismatches = completed = 0
+        kills = attempts = resumes_seen = mismatches = completed = 0
         with Watcher(out, refs) as w:
-            for i in range(a.kills + a.resumes):
+            # runs killed at a random moment until --kills runs really were killed (a
+            # run that resumes from the cache may finish before its moment comes), then
+            # --resumes runs killed and rerun to completion
+            i = 0
+            while i < a.kills + a.resumes and attempts < 3 * (a.kills + a.resumes):
+                attempts += 1
                 target = "B" if _held(out, refs) == "A" else "A"
                 proc = _start(specs[target], out, a.workers)
                 w.groups.add(proc.pid)
                 try:
-                    proc.wait(timeout=rng.uniform(0, 1.1 * full))
+                    proc.wait(timeout=rng.uniform(0, full))
                 except subprocess.TimeoutExpired:
                     pass
                 with contextlib.suppress(ProcessLookupError):
                     os.killpg(proc.pid, signal.SIGKILL)
                 _, err = proc.communicate()
                 w.groups.discard(proc.pid)
-                kills += proc.returncode == -signal.SIGKILL
+                killed = proc.returncode == -signal.SIGKILL
+                kills += killed
                 resumes_seen += b"resumed" in err
                 if i >= a.kills:  # a resume: run to completion, compare bytes
                     proc = _start(specs[target], out, a.workers)
@@ -215,8 +222,12 @@ def main() -> int:
                     resumes_seen += b"resumed" in err
                     completed += 1
                     mismatches += proc.returncode != 0 or _files(out) != refs[target]
-                print(f"run {i + 1}: folder holds {_held(out, refs) or 'no set'}; partial "
-                      f"{w.partial}, mixed {w.mixed}", flush=True)
+                    i += 1
+                elif killed:
+                    i += 1
+                print(f"run {attempts}: {'killed' if killed else 'finished first'}; folder "
+                      f"holds {_held(out, refs) or 'no set'}; partial {w.partial}, "
+                      f"mixed {w.mixed}", flush=True)
             for i in range(a.pairs):
                 procs = [_start(specs[v], out, a.workers) for v in "AB"]
                 w.groups.update(p.pid for p in procs)
@@ -228,7 +239,8 @@ def main() -> int:
                 print(f"pair {i + 1}: exit codes {codes}, folder holds {held}", flush=True)
         leftovers = sorted(p.name for p in out.iterdir() if p.name.startswith("."))
         single = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
-        print(f"\nkills {kills}, completed reruns/pairs {completed}, runs that resumed from "
+        print(f"\nkills {kills} (of {attempts} runs), completed reruns/pairs {completed}, "
+              f"runs that resumed from "
               f"the cache {resumes_seen}, folder samples {w.samples}")
         print(f"partial files seen: {w.partial}")
         print(f"mixed sets seen: {w.mixed}")
