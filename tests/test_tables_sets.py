@@ -262,6 +262,7 @@ def test_stop_points_never_leave_a_mixed_set(tmp_path, ref):
         if state == "none":
             ok, lines = check_set(out, workers=1)
             assert not ok and "no table set" in lines[0]
+            assert "note: .small.staging/ is left by an interrupted build" in lines[1]
     assert seen == ["old", "old", "old", "none", "none", "new"]
     proc = _run(spec, out)
     assert proc.wait(timeout=300) == 0

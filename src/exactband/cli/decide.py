@@ -69,7 +69,7 @@ def run(args) -> int:
                         high=args.high, value=args.value, dispersion=args.dispersion)
         dec = decide(tr.design, args.y, rule=rule, digits_read=args.digits_read,
                      random_digits=tr.random_digits, thresholds=tr.thresholds)
-        source = f"table {tr.path}, row {tr.row}"
+        source = f"table {tr.path}, row {tr.row} (the row matches a fresh solve)"
     else:
         if args.row is not None:
             raise DecideError(f"invalid row = {args.row}: --row needs --table")

@@ -60,6 +60,9 @@ def check_set(folder, *, workers=None, progress=None) -> tuple:
                 lines.append(f"  ... and {len(findings) - MAX_LINES} more")
         else:
             lines.append(f"{name}: OK, {summary}")
+    for stale in sorted(d.glob(".*.staging")):
+        lines.append(f"note: {stale.name}/ is left by an interrupted build (it is not part "
+                     "of any set; the next build of that spec removes it)")
     orphans = [n for n in entries if n.endswith(SET_SUFFIXES) and n not in owned]
     if orphans:
         ok = False
