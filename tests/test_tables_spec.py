@@ -129,12 +129,14 @@ def test_usage_errors(tmp_path, capsys):
         (["table", str(spec), "--check", str(tmp_path)], "takes no SPEC"),
         (["table", str(spec), "--out", str(tmp_path / "o"), "--workers", "0"], "--workers"),
         (["table", "--check", str(tmp_path / "nowhere")], "not a folder"),
-        (["table", "--check", str(tmp_path)], "no NAME.manifest.json"),
     ]:
         rc = main(argv)
         err = capsys.readouterr().err.splitlines()
         assert rc == 2 and len(err) == 1 and part in err[0], (argv, err)
     assert not (tmp_path / "o").exists()
+    # a folder without a set is a finding (exit 1, as for any failed check), not bad usage
+    assert main(["table", "--check", str(tmp_path)]) == 1
+    assert "no NAME.manifest.json" in capsys.readouterr().out
 
 
 def test_valid_spec_is_normalised(tmp_path):

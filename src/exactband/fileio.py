@@ -46,7 +46,7 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
             os.replace(tmp, path)
         except OSError as e:
             raise OutputError(f"cannot write {path}: {e.strerror or type(e).__name__}") from None
-        _fsync_dir(path.parent)
+        fsync_dir(path.parent)
     except BaseException:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
@@ -59,7 +59,7 @@ def _umask() -> int:
     return mask
 
 
-def _fsync_dir(folder: Path) -> None:
+def fsync_dir(folder: Path) -> None:
     with contextlib.suppress(OSError):
         dfd = os.open(folder, os.O_RDONLY)
         try:

@@ -13,7 +13,8 @@ examples:
       t1 = floor(gamma1 * 10^3); reject if 482 < t1
   exactband decide --table output/demo/demo.csv --kind band --n 25 --alpha 0.05 \\
       --low 2 --high 2.5 --y 39 --digits-read 482
-      the rule as printed in a generated table (its thresholds and number of digits)
+      the rule as printed in a generated table (its thresholds and number of digits);
+      the row is solved again first and refused if any number in it differs
   exactband decide ... --y 39            digits drawn from the operating system's
                                          cryptographic generator, and printed
   exactband decide ... --y 39 --conservative   never reject at a cutoff
@@ -61,14 +62,14 @@ def run(args) -> int:
     require(args, ("y",), "decide")
     rule = "conservative" if args.conservative else "randomised"
     if args.table:
-        from ..tablerow import table_rule
+        from ..tableverify import verified_table_rule
 
-        tr = table_rule(args.table, args.row, args.random_digits, family=args.family,
+        tr = verified_table_rule(args.table, args.row, args.random_digits, family=args.family,
                         kind=args.kind, n=args.n, alpha=args.alpha, low=args.low,
                         high=args.high, value=args.value, dispersion=args.dispersion)
         dec = decide(tr.design, args.y, rule=rule, digits_read=args.digits_read,
                      random_digits=tr.random_digits, thresholds=tr.thresholds)
-        source = f"table {tr.path}, row {tr.row}"
+        source = f"table {tr.path}, row {tr.row} (the row matches a fresh solve)"
     else:
         if args.row is not None:
             raise DecideError(f"invalid row = {args.row}: --row needs --table")

@@ -12,7 +12,8 @@ examples:
   exactband table tables/demo.toml --out output/demo
       writes demo.csv, demo.print.csv, demo.xlsx, demo.pdf and demo.manifest.json
   exactband table --check output/demo     (or: exactband table --check --out output/demo)
-      re-verifies every row of a generated set and the files' SHA-256 (exit 0 ok, 1 not)
+      regenerates every set in the folder from the spec its manifest records and
+      compares every file byte for byte (exit 0: all identical; 1: findings)
 
 A spec (TOML; every key is described in README.md):
   title = "Weaving flaws per bolt"          # printed on every page
@@ -32,8 +33,10 @@ A spec (TOML; every key is described in README.md):
   # n_per_chart = 4 (1 to 6), rules = ["randomised", "conservative"] (or "digits")
 
 Every design is computed by the fast solver and confirmed by the high-precision
-solver before any file is written; a disagreement stops the run (exit 1).  An
-interrupted run resumes from the verification cache kept in the output folder.
+solver before any file is written; a disagreement stops the run (exit 1).  The
+set is staged and moved into place with its manifest last (the manifest is the
+commit point); an interrupted run resumes from the verification cache kept in
+the output folder.
 """
 
 
@@ -48,8 +51,8 @@ def add_parser(sub) -> None:
     p.add_argument("spec", nargs="?", metavar="SPEC", help="the table spec (a .toml file)")
     p.add_argument("--out", metavar="DIR", help="folder to write the table set into")
     p.add_argument("--check", nargs="?", const=True, metavar="DIR",
-                   help="re-verify the generated set(s) in DIR (or in the --out DIR) instead "
-                        "of generating")
+                   help="regenerate the set(s) in DIR (or in the --out DIR) from their "
+                        "manifests and compare every file byte for byte, instead of generating")
     p.add_argument("--allow-large", action="store_true",
                    help=f"allow a grid of more than {GRID_LIMIT} designs (up to {LARGE_LIMIT})")
     add_workers_option(p)
@@ -103,7 +106,7 @@ def run(args) -> int:
         folder = _check_folder(args)
         from ..tables import check_set
 
-        with _bar("re-verifying") as progress:
+        with _bar("regenerating") as progress:
             ok, lines = check_set(folder, workers=workers, progress=progress)
         print("\n".join(lines))
         return 0 if ok else 1

@@ -18,7 +18,7 @@ from .. import api
 from ..design import Design
 from ..errors import DesignError, VerificationError
 from . import grid, oc_build
-from .cache import VerifyCache
+from .cache import CacheMismatch, VerifyCache
 from .spec import SpecError, TableSpec
 
 CHUNK = 1024  # designs verified between two saves of the cache
@@ -66,22 +66,29 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     ``progress(k, total=None)`` is called first with the designs already verified and
     the total, then with k = 1 as designs are verified; ``log(text)`` receives
     one-line notes (e.g. how many designs were resumed from the cache).
+    A cache that fails its check is discarded with a note (see cache).
     Raises VerificationError (and drops the cache) if the solvers disagree, SpecError
     if the high-precision solver declines a design (too spread out to tabulate).
     """
     problems = grid.expand(spec)
     cache = VerifyCache(out_dir, spec)
-    done = cache.load(problems)
+    sols = api.fast_solve(problems)  # also the yardstick every cached record must meet
+    try:
+        done = cache.load(problems, sols)
+    except CacheMismatch as e:
+        done = {}
+        if log:
+            log(f"the verification cache failed its check ({e}); it was discarded and "
+                "every design is verified again")
     todo = [i for i in range(len(problems)) if i not in done]
     if done and log:
         log(f"resumed {len(done)} of {len(problems)} verified designs from the cache")
     if progress:
         progress(len(done), total=len(problems))
-    sols = api.fast_solve([problems[i] for i in todo]) if todo else []
     try:
         for start in range(0, len(todo), CHUNK):
             idx = todo[start:start + CHUNK]
-            ds = api.verify_many([problems[i] for i in idx], sols[start:start + CHUNK],
+            ds = api.verify_many([problems[i] for i in idx], [sols[i] for i in idx],
                                  spec.precision, workers=workers, progress=progress)
             cache.save(ds)
             done.update(zip(idx, ds))

@@ -1,21 +1,39 @@
-"""Generate a table set: spec -> build (verified) -> every file, written atomically.
+"""Generate a table set and publish it as a unit: spec -> build (verified) -> every file.
 
-All bytes are produced in memory first; only then are the files written, each
-to a temporary file in DIR that is flushed and renamed (exactband.fileio), the
-manifest last.  A run stopped at any point leaves no partial file under a final
-name, and the verification cache lets the next run resume.
+Publishing (the manifest is the commit point):
+
+1. one build at a time per output folder: an exclusive ``fcntl.flock`` on
+   ``DIR/.exactband.lock`` (a second build waits, and says so);
+2. a spec whose file names would collide with another set in the folder
+   (``x.toml`` beside ``x.print.toml``: both would write ``x.print.csv``) is
+   refused before anything is computed, and again just before the move;
+3. all bytes are produced in memory, then written and fsync'ed into the
+   staging folder ``DIR/.NAME.staging/``;
+4. the old set's manifest is removed, the new files are renamed into place,
+   the new manifest is renamed in last; then the staging folder and the
+   verification cache are removed.
+
+So a reader who finds ``NAME.manifest.json`` finds the complete set it lists;
+files with no manifest beside them are not a set (``table --check`` reports
+them).  A run stopped at any point leaves either the old set, or files without
+a manifest that the next run replaces; the next run also removes a stale
+staging folder, and the verification cache lets it resume.
 """
 
 from __future__ import annotations
 
 import contextlib
+import errno
+import fcntl
+import json
 import os
+import shutil
 from pathlib import Path
 
 from ..errors import VerificationError
-from ..fileio import atomic_write_bytes
+from ..fileio import fsync_dir
 from .build import build
-from .cache import VerifyCache
+from .faults import stop_at
 from .layout import build_sections
 from .manifest import manifest_bytes, sha256
 from .spec import SpecError, load_spec
@@ -26,9 +44,18 @@ from .write_pdf import pdf_bytes
 from .write_xlsx import xlsx_bytes
 
 SUFFIXES = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")
+MANIFEST = ".manifest.json"
+LOCK = ".exactband.lock"
+
+
+def set_files(name: str) -> tuple:
+    """The file names of the set called ``name``, the manifest last."""
+    return tuple(name + s for s in SUFFIXES)
 
 
 def check_out_dir(out) -> Path:
+    if str(out).strip() == "":
+        raise SpecError(f"invalid --out = {out!r}: a folder name is required")
     p = Path(out)
     if p.exists() and not p.is_dir():
         raise SpecError(f"invalid --out = {out}: it exists and is not a folder")
@@ -61,28 +88,72 @@ def generate(spec_path, out_dir, *, allow_large=False, workers=None, progress=No
         log(note)
     out = check_out_dir(out_dir)
     existed = out.exists()
-    _remove_stale_parts(out, spec.name)
+    check_collisions(out, spec.name)
     try:
-        tset = build(spec, out, workers=workers, progress=progress, log=log)
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as e:
+        raise SpecError(f"invalid --out = {out_dir}: cannot create the folder "
+                        f"({e.strerror or e})") from None
+    try:
+        with folder_lock(out, log):
+            check_collisions(out, spec.name)  # another build may have published meanwhile
+            _remove_stale(out, spec.name)
+            tset = build(spec, out, workers=workers, progress=progress, log=log)
+            if progress and log:  # on a terminal: say what the pause after the bar is
+                pages = curve_pages(spec.kinds, len(spec.alpha), len(spec.bands),
+                                    len(spec.values), spec.oc) if spec.oc is not None else 0
+                extra = f" with {pages} pages of OC curves (about a second each)" if pages else ""
+                log(f"{len(tset.rows)} designs verified; writing the table set{extra}")
+            paths = publish(out, spec.name, render(tset))
     except (VerificationError, SpecError):
         if not existed:
             with contextlib.suppress(OSError):
-                out.rmdir()
+                out.rmdir()  # nothing was written (the lock file is gone with the lock)
         raise
-    if progress and log:  # on a terminal: say what the pause after the bar is
-        pages = curve_pages(spec.kinds, len(spec.alpha), len(spec.bands), len(spec.values),
-                            spec.oc) if spec.oc is not None else 0
-        extra = f" with {pages} pages of OC curves (about a second each)" if pages else ""
-        log(f"{len(tset.rows)} designs verified; writing the table set{extra}")
-    files = render(tset)
-    mode = _file_mode()
-    paths = []
-    for fname, data in files.items():
-        atomic_write_bytes(out / fname, data)
-        os.chmod(out / fname, mode)  # the temporary file was private (0600)
-        paths.append(out / fname)
-    VerifyCache(out, spec).clear()
     return paths
+
+
+def publish(out: Path, name: str, files: dict) -> list:
+    """Stage ``files`` (name -> bytes, the manifest last) and move them into ``out``."""
+    staging = out / f".{name}.staging"
+    shutil.rmtree(staging, ignore_errors=True)
+    staging.mkdir()
+    mode = _file_mode()
+    for fname, data in files.items():
+        _write_synced(staging / fname, data, mode)
+    fsync_dir(staging)
+    stop_at("staged")
+    check_collisions(out, name)
+    manifest = f"{name}{MANIFEST}"
+    with contextlib.suppress(FileNotFoundError):
+        os.unlink(out / manifest)  # de-commit the old set before touching its files
+    fsync_dir(out)
+    stop_at("manifest-removed")
+    paths = []
+    for fname in [f for f in files if f != manifest] + [manifest]:
+        if fname == manifest:
+            fsync_dir(out)  # the files' renames are durable before the commit point
+        os.replace(staging / fname, out / fname)
+        stop_at("published" if fname == manifest else "moved")
+        paths.append(out / fname)
+    fsync_dir(out)
+    shutil.rmtree(staging, ignore_errors=True)
+    shutil.rmtree(out / f".{name}.verify-cache", ignore_errors=True)
+    return paths
+
+
+def _write_synced(path: Path, data: bytes, mode: int) -> None:
+    fd = os.open(path, os.O_WRONLY | os.O_CREAT | os.O_EXCL, mode)
+    with os.fdopen(fd, "wb") as fh:
+        half = len(data) // 2
+        fh.write(data[:half])
+        if half:
+            fh.flush()
+            stop_at("inside-write")
+        fh.write(data[half:])
+        fh.flush()
+        os.fsync(fh.fileno())
+    os.chmod(path, mode)  # os.open's mode is filtered by the umask already; be explicit
 
 
 def _file_mode() -> int:
@@ -92,11 +163,75 @@ def _file_mode() -> int:
     return 0o666 & ~mask
 
 
-def _remove_stale_parts(out: Path, name: str) -> None:
-    """Temporary files a killed run of this spec left behind (never a final name)."""
-    if not out.is_dir():
-        return
+def _remove_stale(out: Path, name: str) -> None:
+    """What a killed run of this spec left behind: its staging folder and temporary files."""
+    shutil.rmtree(out / f".{name}.staging", ignore_errors=True)
     for suffix in SUFFIXES:
         for tmp in out.glob(f".{name}{suffix}.*.part"):
             with contextlib.suppress(OSError):
                 tmp.unlink()
+
+
+# -- collisions between sets in one folder -----------------------------------------
+def claimed(out: Path) -> dict:
+    """file name -> the set (manifest name) that owns it, for every manifest in ``out``."""
+    owners = {}
+    if not out.is_dir():
+        return owners
+    for m in sorted(out.glob(f"*{MANIFEST}")):
+        other = m.name[: -len(MANIFEST)]
+        for f in set_files(other):
+            owners.setdefault(f, other)
+    return owners
+
+
+def check_collisions(out: Path, name: str) -> None:
+    """Refuse a set whose file names another set in ``out`` uses (or the other way round)."""
+    mine = set(set_files(name))
+    for fname, other in sorted(claimed(out).items()):
+        if other != name and fname in mine:
+            raise SpecError(f"invalid spec name = {name}: its file {fname} belongs to the set "
+                            f"'{other}' already in {out}; rename one of the two specs")
+
+
+# -- the folder lock -----------------------------------------------------------------
+@contextlib.contextmanager
+def folder_lock(out: Path, log=None):
+    """Exclusive lock on ``out`` for one build (fcntl.flock on DIR/.exactband.lock).
+
+    The lock file is removed on release; a waiter that then finds a different
+    file (or none) under the name takes the lock again on the new one.
+    """
+    path = out / LOCK
+    while True:
+        try:
+            fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o644)
+        except OSError as e:
+            raise SpecError(f"invalid --out = {out}: cannot write into the folder "
+                            f"({e.strerror or e})") from None
+        try:
+            try:
+                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+            except OSError as e:
+                if e.errno not in (errno.EAGAIN, errno.EACCES):
+                    raise
+                if log:
+                    log(f"another build is writing into {out}; waiting for it to finish")
+                fcntl.flock(fd, fcntl.LOCK_EX)
+            try:
+                same = os.fstat(fd).st_ino == os.stat(path).st_ino
+            except FileNotFoundError:
+                same = False
+            if same:
+                break
+        except BaseException:
+            os.close(fd)
+            raise
+        os.close(fd)
+    try:
+        os.write(fd, json.dumps({"pid": os.getpid()}).encode() + b"\n")
+        yield
+    finally:
+        with contextlib.suppress(FileNotFoundError):
+            os.unlink(path)
+        os.close(fd)

@@ -12,7 +12,9 @@ the spec asks for them, are placed by pdf_oc.  Formats only.
 
 from __future__ import annotations
 
+import contextlib
 import io
+import os
 from xml.sax.saxutils import escape
 
 from reportlab.lib import colors
@@ -355,8 +357,22 @@ def _build(tset, sections, blocks, provenance, pages) -> bytes:
     story += _digit_pages(tset, pages, geo)
     story += _provenance(provenance, pages, geo)
     footer = f"{spec.name}  |  spec SHA-256 {spec.sha256[:16]}  |  exactband {__version__}"
-    doc.build(story, canvasmaker=_canvas_class(footer))
+    with _no_date_from_environment():
+        doc.build(story, canvasmaker=_canvas_class(footer))
     return buf.getvalue(), slots
+
+
+@contextlib.contextmanager
+def _no_date_from_environment():
+    """reportlab takes the document date (and the seed of its id) from SOURCE_DATE_EPOCH
+    even in invariant mode; the set's bytes depend on its spec and versions only, so the
+    variable is hidden while the document is made (its date is the invariant-mode date)."""
+    saved = os.environ.pop("SOURCE_DATE_EPOCH", None)
+    try:
+        yield
+    finally:
+        if saved is not None:
+            os.environ["SOURCE_DATE_EPOCH"] = saved
 
 
 def pdf_bytes(tset, sections, blocks, provenance) -> bytes:
