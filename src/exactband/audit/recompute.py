@@ -74,15 +74,15 @@ def printed_rule(row) -> tuple:
     return tuple(out)
 
 
-def recompute(row, fast, digits: int) -> Recomputed:
+def recompute(row, fast, precision: int) -> Recomputed:
     """The optimal rule for ``row.problem`` and the sizes of the row's printed rule."""
     p = row.problem
     try:
         if fast is None:
             fast = fast_solve([p])[0]
         pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                           value=p.value, dispersion=p.dispersion, digits=digits)
-        cc = compare(p.kind.name, p.alpha, fast, pd, digits)
+                           value=p.value, dispersion=p.dispersion, precision=precision)
+        cc = compare(p.kind.name, p.alpha, fast, pd, precision)
     except (ExactbandError, ArithmeticError, ValueError, precise.PreciseFailure) as e:
         return Recomputed(error=_declined(e))
     if not cc.agree:
@@ -105,5 +105,5 @@ def recompute(row, fast, digits: int) -> Recomputed:
 
 
 def task(args) -> Recomputed:
-    """recompute() for a process pool: (row, fast solution, digits)."""
+    """recompute() for a process pool: (row, fast solution, precision)."""
     return recompute(*args)

@@ -121,7 +121,7 @@ def provenance(result) -> dict:
                   "decimal_mark": t.decimal_mark},
         "exactband": __version__, "python": platform.python_version(),
         "scipy": scipy.__version__, "mpmath": mpmath.__version__,
-        "solver_digits": result.digits, "verdict_policy": POLICY,
+        "solver_precision": result.precision, "verdict_policy": POLICY,
         "gamma_rounding": {"gamma1": result.modes[0], "gamma2": result.modes[1]},
         "notes": list(t.notes) + list(result.notes),
     }

@@ -7,7 +7,7 @@ from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..api import check_digits
+from ..api import DEFAULT_PRECISION, check_precision
 from .table import Options, Table, load
 from .verdicts import judge_batch
 
@@ -18,7 +18,7 @@ class AuditResult:
     sha256: str  # of the bytes judged
     table: Table
     verdicts: list
-    digits: int
+    precision: int
     modes: tuple = ("round", "round")  # rounding of the gamma1 / gamma2 columns
     notes: list = field(default_factory=list)  # policy notes, e.g. gammas truncated
     file_diagnosis: list = field(default_factory=list)  # file-wide causes, said once
@@ -40,13 +40,14 @@ class AuditResult:
         return all(v.verdict == "ok" for v in self.verdicts)
 
 
-def audit(path, opts: Options | None = None, *, digits=50, workers=1, progress=None) -> AuditResult:
+def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=1,
+          progress=None) -> AuditResult:
     """Read ``path`` (CSV or XLSX) and judge every row; raises AuditInputError if unusable.
 
     ``progress(total)`` may return a callback that is called as rows finish.
     """
     opts = opts or Options()
-    d = check_digits(digits)
+    d = check_precision(precision)
     table = load(path, opts)
     workers = (os.cpu_count() or 1) if workers is None else max(1, int(workers))
     tick = progress(len(table.rows)) if progress else None

@@ -164,14 +164,14 @@ def diagnose_row(v: Verdict) -> Verdict:
     return v
 
 
-def judge_batch(rows, digits=50, workers=1, progress=None, rounding=None) -> Batch:
+def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
     """Verdicts for ``rows`` in order (see the module docstring)."""
     from ..parallel import pmap
 
     valid = [i for i, r in enumerate(rows) if r.error is None]
     fast = fast_all([rows[i].problem for i in valid])
     fast_of = dict(zip(valid, fast))
-    todo = [(rows[i], fast_of[i], digits) for i in valid]
+    todo = [(rows[i], fast_of[i], precision) for i in valid]
     done = pmap(task, todo, workers, progress, max_chunk=32)
     recs = [Recomputed()] * len(rows)
     for i, rec in zip(valid, done):

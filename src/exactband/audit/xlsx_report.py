@@ -182,7 +182,7 @@ def _summary_sheet(ws, result, s, bold):
              ("columns used", ", ".join(f"{k} <- {v}" for k, v in prov["input"]["columns"].items())),
              ("ignored columns", ", ".join(prov["input"]["ignored_columns"]) or "(none)"),
              ("exactband", prov["exactband"]), ("scipy", prov["scipy"]), ("mpmath", prov["mpmath"]),
-             ("python", prov["python"]), ("solver digits", prov["solver_digits"]),
+             ("python", prov["python"]), ("solver precision", prov["solver_precision"]),
              ("gamma rounding", ", ".join(f"{k} {m}" for k, m in prov["gamma_rounding"].items())),
              ("verdict policy", POLICY)]
     rows += [("file diagnosis", d) for d in result.file_diagnosis]

@@ -90,8 +90,8 @@ def options(args):
         if getattr(args, k) is not None:
             consts[k] = getattr(args, k)
     return Options(mapping=mapping, constants=consts, decimal_mark=args.decimal_mark or mark,
-                   gamma_rounding=args.gamma_rounding, max_rows=_int("max-rows", args.max_rows, 1), sheet=args.sheet,
-                   delimiter=args.delimiter, encoding=args.encoding)
+                   gamma_rounding=args.gamma_rounding, max_rows=_int("max-rows", args.max_rows, 1),
+                   sheet=args.sheet, delimiter=args.delimiter, encoding=args.encoding)
 
 
 def progress_printer(total: int):
@@ -119,7 +119,7 @@ def run(args) -> int:
                else _int("workers", args.workers, 1))
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
         raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
-    result = audit(args.file, opts, digits=check_precision(args.precision), workers=workers,
+    result = audit(args.file, opts, precision=check_precision(args.precision), workers=workers,
                    progress=progress_printer)
     if args.report is not None:
         reports.write(result, args.report)
