@@ -451,7 +451,7 @@ def _xlsx(p: Path, sheet) -> Source:
         last_row, last_col = r, max(last_col, max(cells))
         if header is None:
             header, header_row = _as_list(cells), r
-        else:
+        elif min(cells) <= len(header):  # cells right of the header are not read
             count += 1
     if header is None:
         raise AuditInputError(f"{p.name}: sheet {title!r} is empty (no header row)")
@@ -466,7 +466,7 @@ def _xlsx(p: Path, sheet) -> Source:
     def rows():
         k = 0
         for r, cells in book.rows(part, strings, lambda ref: None):
-            if r == header_row:
+            if r == header_row or min(cells) > width:
                 continue
             k += 1
             yield k, r, _as_list(cells, width)
