@@ -126,8 +126,8 @@ def _kind_columns(name, rows, pos):
         need = list(k.takes) + (["c1"] if k.uses_c1 else []) + (["c2"] if k.uses_c2 else [])
         lacking = [c for c in need if c not in pos]
         if lacking:
-            raise AuditInputError(f"{name}: row {r.index} (line {r.line}) is a {k.name} design but the file has no "
-                                  f"{', '.join(lacking)} column; map it with --map")
+            raise AuditInputError(f"{name}: row {r.index} (line {r.line}) is a {k.name} design but "
+                                  f"the file has no {', '.join(lacking)} column; map it with --map")
 
 
 def _empty(text) -> bool:
