@@ -175,6 +175,7 @@ def test_rounded_to_two_decimals_is_judged_by_its_size(demo_set, tmp_path, cli):
             over += 1
             assert v.verdict == "finding" and "size" in v.reasons, (v.row.index, e, v.details)
             assert v.excess == pytest.approx(e, rel=1e-6, abs=1e-13)
+            assert v.diagnosis == "gammas rounded to 2 decimals", (v.diagnosis, v.also)
         elif e < -1e-9 * alpha:
             under += 1
             assert v.verdict == "ok", (v.row.index, e, v.details)

@@ -9,8 +9,9 @@ others are listed as also consistent):
 3. end-anchored tails: the left tail of size alpha at low, the right tail of
    size alpha at high (equivalence: two one-sided tests of size alpha);
 4. the point design at one band end;
-5. our gammas rounded (half up) or truncated to k decimals: first k = the
-   decimals the row prints, then fewer (compared as exact decimals);
+5. our gammas rounded (half up) or truncated to k >= 1 decimals: first k = the
+   decimals the row prints, then fewer (compared as exact decimals; tried right
+   after the swaps, before the looser constructions 2-4);
 6. a cutoff convention shifted by one;
 7. the design for a neighbouring n (n - 1, n + 1; a binomial cutoff above n
    is judged, so a row shifted by one n is found) or alpha (alpha/2, 2 alpha,
@@ -76,7 +77,7 @@ def _rounded_to(ours_exact_text, printed, kind, theirs, decimals):
     """'gammas truncated to 4 decimals' when the printed decimals are ours cut to k digits."""
     tops = [d for d in decimals if d is not None]
     top = max(tops) if tops else 0
-    for k in range(top, -1, -1):
+    for k in range(top, 0, -1):  # 0 decimals is the conservative design, tried first
         q = Decimal(1).scaleb(-k)
         found = []
         for how, mode in (("rounded", ROUND_HALF_UP), ("truncated", ROUND_FLOOR)):
@@ -102,17 +103,6 @@ def diagnose(p, theirs, tol, decimals, ours, ours_text, printed=None) -> tuple[s
                 and label not in hits:
             hits.append(label)
 
-    for label, make in _first_tries(p, ours):
-        try:
-            rule = make()
-        except (ValueError, OverflowError, ZeroDivisionError):
-            rule = None
-        test(label, rule)
-    others = X.other_problems(p)
-    solved = dict(_solved(others))
-    for label, _ in others:
-        if label.startswith("point design"):
-            test(label, solved.get(label))
     if printed is not None:
         exact = tuple(None if printed[i // 2] is None else Decimal(str(printed[i // 2]))
                       for i in (0, 2))
@@ -120,9 +110,22 @@ def diagnose(p, theirs, tol, decimals, ours, ours_text, printed=None) -> tuple[s
                         theirs[2], None if exact[1] is None else float(exact[1]))
     else:
         theirs_exact = theirs
-    label = _rounded_to(ours_text, printed, kind, theirs_exact, decimals)
-    if label:
-        hits.append(label)
+    rounding = _rounded_to(ours_text, printed, kind, theirs_exact, decimals)
+    for i, (label, make) in enumerate(_first_tries(p, ours)):
+        if i == 4 and rounding:  # exact decimals of ours: before the looser constructions
+            hits.append(rounding)
+        try:
+            rule = make()
+        except (ValueError, OverflowError, ZeroDivisionError):
+            rule = None
+        test(label, rule)
+    if rounding and rounding not in hits:
+        hits.append(rounding)
+    others = X.other_problems(p)
+    solved = dict(_solved(others))
+    for label, _ in others:
+        if label.startswith("point design"):
+            test(label, solved.get(label))
     for label, rule in X.shifted(kind, ours):
         test(label, rule)
     for label, _ in others:
