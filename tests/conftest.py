@@ -72,15 +72,23 @@ STD = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion",
        "c1", "gamma1", "c2", "gamma2")
 
 
-def design_row(d, decimals=6, **inputs) -> dict:
-    """A table row as a third party would print it: inputs, cutoffs, gammas to `decimals`."""
+def design_row(d, decimals=6, rounding="truncate", **inputs) -> dict:
+    """A table row as a third party would print it: inputs, cutoffs, gammas to `decimals`.
+
+    Gammas are truncated (never raising the size above alpha) or, with rounding="round",
+    rounded half up from the design's exact decimal.
+    """
+    from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
+
     row = {k: "" for k in STD}
     row.update({k: ("" if v is None else str(v)) for k, v in inputs.items()})
-    for c, g in (("c1", "gamma1"), ("c2", "gamma2")):
+    how = ROUND_FLOOR if rounding == "truncate" else ROUND_HALF_UP
+    for i, (c, g) in enumerate((("c1", "gamma1"), ("c2", "gamma2")), start=1):
         cv, gv = getattr(d, c), getattr(d, g)
         if cv is not None:
             row[c] = str(cv)
-            row[g] = f"{gv:.{decimals}f}"
+            exact = getattr(d, f"gamma{i}_decimal") or repr(gv)
+            row[g] = str(Decimal(exact).quantize(Decimal(1).scaleb(-decimals), rounding=how))
     return row
 
 

@@ -50,26 +50,25 @@ def _rows(gammas):
 
 
 @pytest.mark.parametrize("gammas, want", [
-    # fixed 4 decimals, trailing zeros dropped by the writer: "0.5" means 0.5000
-    (["0.1339", "0.5", "0.0123"], [5e-5, 5e-5, 5e-5]),
-    # 6 significant digits: each cell keeps its own last place
-    (["0.123457", "0.0123457", "0.5"], [5e-7, 5e-8, 5e-7]),
-    # a cell that shows a trailing zero was printed at its own precision
-    (["0.1340", "0.123456789"], [5e-5, 5e-10]),
+    # each cell is read with the decimals it prints (per cell, never per file)
+    (["0.1339", "0.5", "0.0123"], [4, 1, 4]),
+    (["0.123457", "0.0123457", "0.12"], [6, 7, 2]),
+    (["0.1340", "0.123456789"], [4, 9]),
+    # a whole number in a column that prints decimals: the writer dropped the zeros
+    (["0", "0.1250", "0.5000", "1"], [4, 4, 4, 4]),
     # a column of exact zeros (a non-randomised table) is exact
-    (["0", "0"], [1e-12, 1e-12]),
-    # 17 significant digits from a double: the floor applies
-    (["0.13399512109182261"], [1e-12]),
+    (["0", "0"], [None, None]),
+    (["1.5E-3"], [4]),
 ])
-def test_tolerance_inferred_per_column(tmp_path, gammas, want):
+def test_decimals_per_cell(tmp_path, gammas, want):
     p = write_csv(tmp_path / "t.csv", _rows(gammas),
                   header=("family", "kind", "n", "alpha", "value", "c2", "gamma2"))
     t = load(p, Options())
-    assert [r.tol[1] for r in t.rows] == pytest.approx(want, rel=1e-12)
+    assert [r.decimals[1] for r in t.rows] == want
 
 
-def test_fixed_tolerance(tmp_path):
-    p = write_csv(tmp_path / "t.csv", _rows(["0.1339", "0.5"]),
+def test_gamma_rounding_option_checked(tmp_path):
+    p = write_csv(tmp_path / "t.csv", _rows(["0.1339"]),
                   header=("family", "kind", "n", "alpha", "value", "c2", "gamma2"))
-    t = load(p, Options(gamma_tol=1e-3))
-    assert [r.tol[1] for r in t.rows] == [1e-3, 1e-3]
+    with pytest.raises(Exception, match="--gamma-rounding"):
+        load(p, Options(gamma_rounding="nearest"))

@@ -50,9 +50,9 @@ def test_xlsx_shows_failures(cli, vendor, tmp_path):
     cli("audit", vendor, "--report", tmp_path / "r")
     wb = load_workbook(tmp_path / "r" / "audit-report.xlsx")
     ws = wb["audit"]
-    header = [c.value for c in ws[4]]
+    header = [c.value for c in ws[6]]
     col = header.index("verdict") + 1
-    fills = {ws.cell(r, col).value: ws.cell(r, col).fill.fgColor.rgb for r in range(5, 8)}
+    fills = {ws.cell(r, col).value: ws.cell(r, col).fill.fgColor.rgb for r in range(7, 10)}
     assert len(set(fills.values())) == 3  # ok, finding, invalid: three different colours
     for row in ws.iter_rows():
         for c in row:
@@ -81,8 +81,8 @@ def test_mapping_flags_and_file(cli, tmp_path):
     d = exactband.design(**KW)
     header = ("Units", "Level", "Lower rate", "Upper rate", "Lo cut", "P lo", "Hi cut", "P hi")
     row = {"Units": "25", "Level": "0.05", "Lower rate": "2", "Upper rate": "2.5",
-           "Lo cut": str(d.c1), "P lo": f"{d.gamma1:.8f}", "Hi cut": str(d.c2),
-           "P hi": f"{d.gamma2:.8f}"}
+           "Lo cut": str(d.c1), "P lo": d.gamma1_decimal[:10], "Hi cut": str(d.c2),
+           "P hi": d.gamma2_decimal[:10]}  # 8 decimals, truncated
     p = write_csv(tmp_path / "theirs.csv", [row], header=header)
     code, out, _ = cli("audit", p, "--family", "poisson", "--kind", "band",
                        "--map", "n=Units", "--map", "alpha=level", "--map", "low=Lower rate",

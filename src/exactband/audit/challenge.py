@@ -22,6 +22,8 @@ from .columns import STANDARD
 FAMILIES = ("poisson", "binomial", "negative-binomial")
 KINDS = ("upper", "lower", "point", "band", "equivalence")
 HEADER = ("id", "regime") + STANDARD
+WIDTHS = {"id": 7, "regime": 18, "family": 17, "kind": 11, "n": 9, "alpha": 8, "low": 11,
+          "high": 11, "value": 11, "dispersion": 10, "c1": 8, "gamma1": 14, "c2": 8, "gamma2": 14}
 INSTRUCTIONS = [
     "Fill c1, gamma1, c2, gamma2 for every row with your program's answer; leave the other "
     "columns as they are.",
@@ -31,7 +33,8 @@ INSTRUCTIONS = [
     "[0, 1). Leave unused cutoffs empty.",
     "Families: poisson (rate per unit, exposure n), binomial (p, n trials), negative-binomial "
     "(mean per unit, known dispersion k, n units). Print gammas with as many decimals as you "
-    "claim: the grading tolerance is half a unit in the last decimal printed.",
+    "claim: each gamma is graded within the decimals its cell prints (rounded or truncated, "
+    "inferred per column), and the size your printed numbers attain must not exceed alpha.",
     "Grade the filled file with: exactband audit FILLED_FILE --report DIR",
 ]
 
@@ -121,10 +124,11 @@ def csv_bytes(rows) -> bytes:
 
 def xlsx_bytes(rows, seed: int) -> bytes:
     from openpyxl import Workbook
-    from openpyxl.styles import Font, PatternFill
+    from openpyxl.styles import Alignment, Font, PatternFill
+    from openpyxl.utils import get_column_letter
 
     from .. import __version__
-    from .xlsx_report import CAUTION, _deterministic
+    from .xlsx_report import CAUTION, _deterministic, print_setup
 
     wb = Workbook()
     ws = wb.active
@@ -139,13 +143,23 @@ def xlsx_bytes(rows, seed: int) -> bytes:
             c = ws.cell(i, j, safe_cell_text(v) if isinstance(v, str) else v)
             if name in ("c1", "gamma1", "c2", "gamma2"):
                 c.fill = answer
+    for j, name in enumerate(HEADER, start=1):
+        ws.column_dimensions[get_column_letter(j)].width = WIDTHS.get(name, 10)
     ws.freeze_panes = "C2"
+    ws.print_title_rows = "1:1"
+    ws.print_title_cols = "A:A"
+    print_setup(ws, pages_wide=1)
     info = wb.create_sheet("instructions")
     lines = [f"exactband {__version__} challenge set, seed {seed}, {len(rows)} designs."]
     lines += INSTRUCTIONS + [CAUTION]
+    wrap = Alignment(wrap_text=True, vertical="top")
     for i, line in enumerate(lines, start=1):
-        info.cell(i, 1, safe_cell_text(line))
-    info.column_dimensions["A"].width = 140
+        c = info.cell(i, 1, safe_cell_text(line))
+        c.alignment = wrap
+        info.row_dimensions[i].height = 15 * (len(line) // 95 + 1)
+    info.column_dimensions["A"].width = 100
+    print_setup(info, pages_wide=1)
+    info.page_setup.orientation = "portrait"
     buf = io.BytesIO()
     wb.save(buf)
     return _deterministic(buf.getvalue())

@@ -3,20 +3,27 @@
 Candidates are tried in a fixed order (the first match is the diagnosis, the
 others are listed as also consistent):
 
-1. the conservative non-randomised design (our cutoffs, gammas 0);
+1. the conservative non-randomised design (our cutoffs, gammas 0); gamma1 and
+   gamma2 swapped within the row; the c1 and c2 columns (or both pairs) swapped;
 2. equal-tailed: alpha/2 in each tail, each at its own end of the null;
 3. end-anchored tails: the left tail of size alpha at low, the right tail of
    size alpha at high (equivalence: two one-sided tests of size alpha);
 4. the point design at one band end;
-5. our gammas rounded (half up) or truncated to k decimals, k below what they print;
+5. our gammas rounded (half up) or truncated to k >= 1 decimals: first k = the
+   decimals the row prints, then fewer (compared as exact decimals; tried right
+   after the swaps, before the looser constructions 2-4);
 6. a cutoff convention shifted by one;
-7. the design for a neighbouring n (n - 1, n + 1) or alpha (alpha/2, 2 alpha,
+7. the design for a neighbouring n (n - 1, n + 1; a binomial cutoff above n
+   is judged, so a row shifted by one n is found) or alpha (alpha/2, 2 alpha,
    the usual levels 0.1 ... 0.001).
 
-Otherwise: "no known construction".
+Otherwise: "no known construction".  ``file_level`` then looks across the
+findings for a file-wide cause (gamma or cutoff columns swapped), said once.
 """
 
 from __future__ import annotations
+
+from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
 
 from ..api import fast_solve, from_fast
 from . import constructions as X
@@ -24,12 +31,25 @@ from .match import agrees
 
 NONE = "no known construction"
 CANDIDATE_SLACK = 1e-9  # float arithmetic of the candidate constructions
+EXACT = (1e-12, 1e-12)  # printed decimals against our gammas rounded: equal as decimals
+SWAP_GAMMAS = "gamma1 and gamma2 swapped within the row"
+SWAP_CUTOFFS = "c1 and c2 swapped (gammas in place)"
+SWAP_PAIRS = "c1, gamma1 and c2, gamma2 swapped as pairs"
+FILE_SWAPS = {SWAP_GAMMAS: "the gamma1 and gamma2 columns appear swapped for the whole file",
+              SWAP_CUTOFFS: "the c1 and c2 columns appear swapped for the whole file",
+              SWAP_PAIRS: "the (c1, gamma1) and (c2, gamma2) columns appear swapped for the "
+                          "whole file"}
 
 
 def _first_tries(p, ours):
     kind = p.kind.name
     yield "conservative non-randomised design (randomisation dropped: gammas 0)", \
         lambda: X.conservative(ours)
+    c1, g1, c2, g2 = ours
+    if c1 is not None and c2 is not None:
+        yield SWAP_GAMMAS, lambda: (c1, g2, c2, g1)
+        yield SWAP_CUTOFFS, lambda: (c2, g1, c1, g2)
+        yield SWAP_PAIRS, lambda: (c2, g2, c1, g1)
     if kind == "band":
         yield "equal-tailed: alpha/2 in each tail, each tail at its own band end", \
             lambda: X.equal_tailed(p)
@@ -53,7 +73,27 @@ def _solved(problems):
     return out
 
 
-def diagnose(p, theirs, tol, decimals, ours, ours_text) -> tuple[str, list]:
+def _rounded_to(ours_exact_text, printed, kind, theirs, decimals):
+    """'gammas truncated to 4 decimals' when the printed decimals are ours cut to k digits."""
+    tops = [d for d in decimals if d is not None]
+    top = max(tops) if tops else 0
+    for k in range(top, 0, -1):  # 0 decimals is the conservative design, tried first
+        q = Decimal(1).scaleb(-k)
+        found = []
+        for how, mode in (("rounded", ROUND_HALF_UP), ("truncated", ROUND_FLOOR)):
+            cand = list(ours_exact_text)
+            for i in (1, 3):
+                if cand[i] is not None:
+                    cand[i] = float(Decimal(cand[i]).quantize(q, rounding=mode))
+            if agrees(kind, theirs, tuple(cand), EXACT, 0.0):
+                found.append(how)
+        if found:
+            how = "rounded or truncated" if len(found) == 2 else found[0]
+            return f"gammas {how} to {k} decimal{'s' if k != 1 else ''}"
+    return None
+
+
+def diagnose(p, theirs, tol, decimals, ours, ours_text, printed=None) -> tuple[str, list]:
     """(diagnosis, other constructions that also match) for a row with a finding."""
     kind = p.kind.name
     hits = []
@@ -63,25 +103,29 @@ def diagnose(p, theirs, tol, decimals, ours, ours_text) -> tuple[str, list]:
                 and label not in hits:
             hits.append(label)
 
-    for label, make in _first_tries(p, ours):
+    if printed is not None:
+        exact = tuple(None if printed[i // 2] is None else Decimal(str(printed[i // 2]))
+                      for i in (0, 2))
+        theirs_exact = (theirs[0], None if exact[0] is None else float(exact[0]),
+                        theirs[2], None if exact[1] is None else float(exact[1]))
+    else:
+        theirs_exact = theirs
+    rounding = _rounded_to(ours_text, printed, kind, theirs_exact, decimals)
+    for i, (label, make) in enumerate(_first_tries(p, ours)):
+        if i == 4 and rounding:  # exact decimals of ours: before the looser constructions
+            hits.append(rounding)
         try:
             rule = make()
         except (ValueError, OverflowError, ZeroDivisionError):
             rule = None
         test(label, rule)
+    if rounding and rounding not in hits:
+        hits.append(rounding)
     others = X.other_problems(p)
     solved = dict(_solved(others))
     for label, _ in others:
         if label.startswith("point design"):
             test(label, solved.get(label))
-    top = max(decimals) if decimals else 0
-    for k in range(0, top):
-        r = agrees(kind, theirs, X.rounded(ours_text, k, "round"), tol, CANDIDATE_SLACK)
-        t = agrees(kind, theirs, X.rounded(ours_text, k, "trunc"), tol, CANDIDATE_SLACK)
-        if r or t:
-            how = "rounded or truncated" if r and t else ("rounded" if r else "truncated")
-            hits.append(f"gammas {how} to {k} decimal{'s' if k != 1 else ''}")
-            break
     for label, rule in X.shifted(kind, ours):
         test(label, rule)
     for label, _ in others:
@@ -90,3 +134,18 @@ def diagnose(p, theirs, tol, decimals, ours, ours_text) -> tuple[str, list]:
     if not hits:
         return NONE, []
     return hits[0], hits[1:]
+
+
+def file_level(verdicts) -> list:
+    """File-wide diagnoses (columns swapped) from the row diagnoses, said once at the top."""
+    two = [v for v in verdicts if v.verdict != "invalid" and v.row.theirs is not None
+           and v.row.theirs[0] is not None and v.row.theirs[2] is not None]
+    out = []
+    for swap, text in FILE_SWAPS.items():
+        hit = [v for v in two if v.verdict == "finding" and
+               (v.diagnosis == swap or swap in v.also)]
+        findings = [v for v in two if v.verdict == "finding"]
+        if len(hit) >= 2 and 2 * len(hit) >= len(findings):
+            out.append(f"{text}: {len(hit)} of {len(two)} rows with two cutoffs match the optimal "
+                       "rule with them exchanged")
+    return out

@@ -1,20 +1,30 @@
-"""Read a third party's CSV or XLSX file as rows of cell text, streaming.
+"""Read a third party's CSV or XLSX file as rows of cell text, with the evidence.
 
-Both readers are generators: the first item is the header (a list of names),
-then one ``(row_number, cells)`` per non-blank row, where ``row_number`` is the
-line of a CSV file or the row of the sheet and ``cells`` are strings.  Nothing
-is evaluated: a spreadsheet formula arrives as its text (``=...``) and is
-refused later as a value.  Memory stays bounded: CSV lines longer than
-MAX_LINE characters are refused, the caller stops after its row cap, and an
-XLSX archive that would unpack to more than MAX_UNZIPPED bytes is refused
-before it is opened.  XLSX files are parsed by openpyxl in read-only mode with
-defusedxml, which refuses entity declarations (XML bombs).
+``open_source(path, ...)`` returns a Source: the SHA-256 of the bytes judged,
+the header, the number of data rows (counted before any row is judged, so a
+file with too many rows is refused in one line) and ``rows()``, a generator of
+``(data_row, file_line, cells)``: ``data_row`` counts non-blank rows below the
+header from 1 ("row N" everywhere), ``file_line`` is the line of a CSV file or
+the row number of the sheet.  Nothing is evaluated: a spreadsheet formula
+arrives as its text (``=...``) and is refused later as a value.
+
+Evidence: a CSV file is read twice (count, then parse), each pass hashing every
+byte it reads; the two hashes must agree, so the hash reported is that of the
+bytes judged.  An XLSX workbook is read into memory once (at most MAX_XLSX
+bytes), hashed, and parsed from those bytes.
+
+XLSX: rows come from the sheet data itself, never from its ``<dimension>``
+element (which a writer may leave stale); the work is bounded by the cells
+present, and a disagreement with the dimension is reported.  Sheets are parsed
+with defusedxml (no DTD, no entities: no XML bombs), streaming row by row; an
+archive that would unpack to more than MAX_UNZIPPED bytes is refused unopened.
 """
 
 from __future__ import annotations
 
 import csv
-import zipfile
+import hashlib
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from .errors import AuditInputError
@@ -22,7 +32,20 @@ from .errors import AuditInputError
 MAX_LINE = 1_000_000  # characters in one CSV line
 MAX_FIELD = 100_000  # characters in one CSV field
 MAX_UNZIPPED = 256 * 2**20  # bytes an XLSX archive may unpack to
+MAX_XLSX = 64 * 2**20  # bytes of an XLSX file (read into memory once)
 DELIMITERS = (",", ";", "\t")
+
+
+@dataclass
+class Source:
+    """A file opened for auditing (see the module docstring)."""
+
+    name: str
+    sha256: str
+    header: list
+    count: int  # data rows present
+    rows: object  # callable: () -> iterator of (data_row, file_line, cells)
+    notes: list = field(default_factory=list)
 
 
 def file_format(path: Path) -> str:
@@ -75,8 +98,8 @@ def sheet_names(path: Path) -> list:
         return []
 
 
-def read(path, *, sheet=None, delimiter=None, encoding="utf-8"):
-    """Header, then (row_number, cells) tuples, from a CSV or XLSX file."""
+def open_source(path, *, sheet=None, delimiter=None, encoding="utf-8", max_rows=None) -> Source:
+    """Hash, count and open a CSV or XLSX file; refuses more than ``max_rows`` data rows."""
     p = Path(path)
     if not p.is_file():
         raise AuditInputError(f"{p}: no such file")
@@ -85,10 +108,20 @@ def read(path, *, sheet=None, delimiter=None, encoding="utf-8"):
     if file_format(p) == "xlsx":
         if delimiter is not None:
             raise AuditInputError("--delimiter applies to CSV files only")
-        return _xlsx(p, sheet)
-    if sheet is not None:
-        raise AuditInputError("--sheet applies to XLSX files only")
-    return _csv(p, delimiter, encoding)
+        from .xlsx_reader import read_xlsx
+
+        src = read_xlsx(p, sheet)
+    else:
+        if sheet is not None:
+            raise AuditInputError("--sheet applies to XLSX files only")
+        src = _csv_source(p, delimiter, encoding)
+    if max_rows is not None and src.count > max_rows:
+        raise AuditInputError(f"{p.name}: refused before judging: it holds {src.count} data rows, "
+                              f"more than {max_rows} data rows (--max-rows); audit the table in "
+                              "parts or raise --max-rows")
+    if src.count == 0:
+        raise AuditInputError(f"{p.name}: the header has no data rows below it")
+    return src
 
 
 # -- CSV ---------------------------------------------------------------------
@@ -144,7 +177,25 @@ def _sniff(first_line: str) -> str:
     return best if counts[best] else ","
 
 
-def _csv(p: Path, delimiter, encoding):
+class _Hashing:
+    """A binary file whose every byte read also feeds a SHA-256."""
+
+    def __init__(self, fh):
+        self.fh, self.h = fh, hashlib.sha256()
+
+    def readline(self, size=-1):
+        b = self.fh.readline(size)
+        self.h.update(b)
+        return b
+
+    def rest(self) -> str:
+        """Hash what was not read (a pass that stopped early) and return the digest."""
+        for block in iter(lambda: self.fh.read(1 << 20), b""):
+            self.h.update(block)
+        return self.h.hexdigest()
+
+
+def _check_csv_options(delimiter, encoding) -> str:
     import codecs
 
     try:
@@ -157,10 +208,39 @@ def _csv(p: Path, delimiter, encoding):
     if delimiter is not None and (len(delimiter) != 1 or delimiter in "\"\r\n"):
         raise AuditInputError(f"invalid --delimiter = {delimiter!r}: one character such as , ; "
                               "or a tab")
-    enc = "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
-    fh = open(p, "rb")
-    lines = _Lines(fh, p.name, encoding, codecs.getincrementaldecoder(enc)(errors="strict"))
-    try:
+    return "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
+
+
+def _csv_source(p: Path, delimiter, encoding) -> Source:
+    enc = _check_csv_options(delimiter, encoding)
+    count, header, digest = 0, None, None
+    for item in _csv(p, delimiter, encoding, enc):
+        if isinstance(item, str):
+            digest = item
+        elif header is None:
+            header = item
+        else:
+            count += 1
+
+    def rows():
+        for item in _csv(p, delimiter, encoding, enc):
+            if isinstance(item, str):
+                if item != digest:
+                    raise AuditInputError(f"{p.name}: the file changed while it was read; "
+                                          "audit a copy that nothing writes to")
+            elif isinstance(item, tuple):
+                yield item
+
+    return Source(p.name, digest, header, count, rows)
+
+
+def _csv(p: Path, delimiter, encoding, enc):
+    """Header, then (data_row, line, cells) per non-blank row, then the file's SHA-256."""
+    import codecs
+
+    with open(p, "rb") as raw:
+        fh = _Hashing(raw)
+        lines = _Lines(fh, p.name, encoding, codecs.getincrementaldecoder(enc)(errors="strict"))
         first = None
         for line in lines:
             if line.strip():
@@ -183,6 +263,7 @@ def _csv(p: Path, delimiter, encoding):
             except csv.Error as e:
                 raise AuditInputError(f"{p.name}: line {start}: header is not CSV ({e})") from None
             yield [h.strip() for h in header]
+            k = 0
             while True:
                 try:
                     cells = next(reader)
@@ -192,103 +273,8 @@ def _csv(p: Path, delimiter, encoding):
                     raise AuditInputError(f"{p.name}: line {start - 1 + reader.line_num}: not "
                                           f"readable as CSV ({e})") from None
                 if any(c.strip() for c in cells):
-                    yield start - 1 + reader.line_num, cells
+                    k += 1
+                    yield k, start - 1 + reader.line_num, cells
         finally:
             csv.field_size_limit(old)
-    finally:
-        fh.close()
-
-
-# -- XLSX ----------------------------------------------------------------------
-def _check_archive(p: Path) -> None:
-    try:
-        with zipfile.ZipFile(p) as z:
-            total = sum(i.file_size for i in z.infolist())
-    except (zipfile.BadZipFile, OSError) as e:
-        raise AuditInputError(f"{p.name}: not a readable XLSX workbook ({e})") from None
-    if total > MAX_UNZIPPED:
-        raise AuditInputError(f"{p.name}: refused: the workbook would unpack to {total} bytes "
-                              f"(limit {MAX_UNZIPPED}); export the table as CSV")
-
-
-def _text(v) -> str:
-    if v is None:
-        return ""
-    if isinstance(v, bool):
-        return "TRUE" if v else "FALSE"
-    if isinstance(v, int):
-        return str(v)
-    if isinstance(v, float):
-        return repr(v)
-    if isinstance(v, str):
-        return v
-    return f"{type(v).__name__} {v}"  # dates, times: refused later as numbers
-
-
-def _defused(e: BaseException, kind):
-    """The defusedxml refusal behind an exception (openpyxl wraps it), or None."""
-    seen = 0
-    while e is not None and seen < 10:
-        if isinstance(e, kind):
-            return e
-        e = e.__cause__ or e.__context__
-        seen += 1
-    return None
-
-
-def _xlsx(p: Path, sheet):
-    from openpyxl.xml import DEFUSEDXML
-
-    if not DEFUSEDXML:
-        raise AuditInputError("XLSX files are read only with defusedxml installed (it guards "
-                              "against XML bombs); install defusedxml or export the table as CSV")
-    import openpyxl
-    from defusedxml import DefusedXmlException
-
-    _check_archive(p)
-    try:
-        wb = openpyxl.load_workbook(p, read_only=True, data_only=False, keep_links=False)
-    except Exception as e:  # openpyxl raises (and wraps) many types for a broken archive
-        bomb = _defused(e, DefusedXmlException)
-        if bomb is not None:
-            raise AuditInputError(f"{p.name}: refused: the workbook's XML declares entities or a "
-                                  f"DTD (a possible XML bomb: {type(bomb).__name__})") from None
-        msg = " ".join(str(e).replace(str(p), p.name).split())[:120]
-        raise AuditInputError(f"{p.name}: not a readable XLSX workbook ({type(e).__name__}: "
-                              f"{msg})") from None
-    try:
-        if sheet is None:
-            ws = wb.worksheets[0]
-        elif sheet in wb.sheetnames:
-            ws = wb[sheet]
-        else:
-            raise AuditInputError(f"invalid --sheet = {sheet!r}: sheets are "
-                                  + ", ".join(repr(s) for s in wb.sheetnames))
-        try:
-            header = None
-            for r, row in enumerate(ws.iter_rows(values_only=True), start=1):
-                cells = [_text(v) for v in row]
-                if not any(c.strip() for c in cells):
-                    continue
-                if header is None:
-                    header = [c.strip() for c in cells]
-                    yield header
-                else:
-                    yield r, cells
-        except AuditInputError:
-            raise
-        except Exception as e:
-            bomb = _defused(e, DefusedXmlException)
-            if bomb is not None:
-                raise AuditInputError(f"{p.name}: refused: the sheet's XML declares entities or a "
-                                      f"DTD (a possible XML bomb: {type(bomb).__name__})") from None
-            msg = " ".join(str(e).split())[:120]
-            raise AuditInputError(f"{p.name}: sheet {ws.title!r} is not readable "
-                                  f"({type(e).__name__}: {msg})") from None
-        if header is None:
-            others = [s for s in wb.sheetnames if s != ws.title]
-            hint = (f"; the workbook's other sheets: {', '.join(repr(s) for s in others)} "
-                    "(choose one with --sheet)") if others else ""
-            raise AuditInputError(f"{p.name}: sheet {ws.title!r} is empty (no header row){hint}")
-    finally:
-        wb.close()
+        yield fh.rest()

@@ -1,7 +1,11 @@
 """Audit reports: stdout summary, CSV, JSON summary (XLSX in xlsx_report).
 
 Writers only format: every number comes from the AuditResult.  Cells holding
-third-party text pass through safe_cell_text, so no cell begins with = + - @.
+third-party text pass through ``text`` (control and non-printing characters
+escaped; no cell begins with = + - @).  The report header carries the written
+verdict policy (``policy.POLICY``).  "row N" is the N-th data row (1-based,
+the header not counted); ``file_line`` is the line of the CSV file or the row
+of the sheet.
 All reports are rendered in memory first and then written atomically, so a
 failed audit leaves nothing under the report names.
 """
@@ -15,40 +19,47 @@ import platform
 from pathlib import Path
 
 from ..fileio import atomic_write_bytes, safe_cell_text
+from . import text as T
 from .diagnosis import NONE
-from .table import TOL_FLOOR
+from .policy import POLICY
 from .verdicts import REASONS
 
 CSV_NAME, XLSX_NAME, JSON_NAME = "audit-report.csv", "audit-report.xlsx", "audit-summary.json"
 
-TOLERANCE_RULE = (
-    "gamma tolerance: half a unit in the last decimal printed, inferred per column (trailing "
-    f"zeros restored), never below {TOL_FLOOR:g}; sizes and power are judged beyond what "
-    "gammas moved within that tolerance can explain")
-
 # (header, kind of value) in report order; kind: text / int / prob / sci / pct
 COLUMNS = [
-    ("row", "int"), ("id", "text"), ("verdict", "text"), ("reasons", "text"),
+    ("row", "int"), ("file_line", "int"), ("id", "text"), ("verdict", "text"), ("reasons", "text"),
     ("size_excess_pct_of_alpha", "pct"), ("power_shortfall_pct_of_alpha", "pct"),
     ("diagnosis", "text"), ("detail", "text"),
     ("family", "text"), ("kind", "text"), ("n", "text"), ("alpha", "text"), ("low", "text"),
     ("high", "text"), ("value", "text"), ("dispersion", "text"),
     ("their_c1", "text"), ("our_c1", "int"), ("their_gamma1", "text"), ("our_gamma1", "text"),
-    ("gamma1_abs_error", "sci"), ("gamma1_tolerance", "sci"),
+    ("gamma1_abs_error", "sci"), ("gamma1_read_as", "text"),
     ("their_c2", "text"), ("our_c2", "int"), ("their_gamma2", "text"), ("our_gamma2", "text"),
-    ("gamma2_abs_error", "sci"), ("gamma2_tolerance", "sci"),
+    ("gamma2_abs_error", "sci"), ("gamma2_read_as", "text"),
     ("their_size_low", "prob"), ("their_size_high", "prob"), ("size_excess", "sci"),
     ("min_power_outside_null", "prob"), ("at_theta", "num"), ("also_consistent_with", "text"),
 ]
 HEADERS = [c for c, _ in COLUMNS]
 
 
-def record(v) -> dict:
+def _read_as(v, i, modes) -> str | None:
+    r = v.row
+    if v.verdict == "invalid" or r.theirs is None or r.theirs[2 * i] is None:
+        return None
+    d = r.decimals[i]
+    if d is None:
+        return "exact"
+    how = "truncated" if modes[i] == "truncate" else "rounded"
+    return f"{how} to {d} decimal{'s' if d != 1 else ''}"
+
+
+def record(v, modes=("round", "round")) -> dict:
     """One report row (typed values; None for empty) from a Verdict."""
     r, t = v.row, v.row.text
     alpha = r.problem.alpha if r.problem is not None else None
     out = {
-        "row": r.line, "id": r.ident, "verdict": v.verdict,
+        "row": r.index, "file_line": r.line, "id": r.ident, "verdict": v.verdict,
         "reasons": ", ".join(v.reasons), "detail": "; ".join(v.details),
         "diagnosis": v.diagnosis if v.verdict == "finding" else "",
         "also_consistent_with": "; ".join(v.also),
@@ -63,7 +74,7 @@ def record(v) -> dict:
     # unsigned numbers only: no report cell starts with a minus sign (the sign is in the detail)
     out["gamma1_abs_error"], out["gamma2_abs_error"] = (None if e is None else abs(e)
                                                         for e in v.gamma_error)
-    out["gamma1_tolerance"], out["gamma2_tolerance"] = r.tol if v.verdict != "invalid" else (None,) * 2
+    out["gamma1_read_as"], out["gamma2_read_as"] = _read_as(v, 0, modes), _read_as(v, 1, modes)
     sizes = list(v.sizes) + [None, None]
     out["their_size_low"], out["their_size_high"] = sizes[0], sizes[1]
     excess = None if v.excess is None else max(v.excess, 0.0)
@@ -79,7 +90,7 @@ def _csv_text(value, kind) -> str:
     if value is None:
         return ""
     if kind == "text":
-        return safe_cell_text(value)
+        return safe_cell_text(T.report(value))
     if kind == "int":
         return str(int(value))
     if kind == "pct":
@@ -92,7 +103,7 @@ def csv_bytes(result) -> bytes:
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(HEADERS)
     for v in result.verdicts:
-        rec = record(v)
+        rec = record(v, result.modes)
         w.writerow([_csv_text(rec.get(c), k) for c, k in COLUMNS])
     return buf.getvalue().encode("utf-8")
 
@@ -110,36 +121,59 @@ def provenance(result) -> dict:
                   "decimal_mark": t.decimal_mark},
         "exactband": __version__, "python": platform.python_version(),
         "scipy": scipy.__version__, "mpmath": mpmath.__version__,
-        "solver_precision": result.precision, "tolerance_rule": TOLERANCE_RULE,
-        "notes": list(t.notes),
+        "solver_precision": result.precision, "verdict_policy": POLICY,
+        "gamma_rounding": {"gamma1": result.modes[0], "gamma2": result.modes[1]},
+        "notes": list(t.notes) + list(result.notes),
     }
+
+
+def worst_excess(result):
+    """The verdict whose printed numbers exceed alpha the most (None if none does)."""
+    over = [v for v in result.verdicts if v.verdict == "finding" and "size" in v.reasons]
+    return max(over, key=lambda v: v.excess / v.row.problem.alpha, default=None)
 
 
 def summary(result) -> dict:
     c = result.counts
-    findings = [v for v in result.verdicts if v.verdict == "finding"]
+    worst = worst_excess(result)
     return {
         "rows": len(result.verdicts), "ok": c.get("ok", 0), "finding": c.get("finding", 0),
         "invalid": c.get("invalid", 0),
         "findings_by_reason": {r: result.by_reason[r] for r in REASONS if result.by_reason[r]},
         "diagnoses": dict(sorted(result.by_diagnosis.items(), key=lambda kv: (-kv[1], kv[0]))),
-        "worst_excess_over_alpha": max((v.excess for v in findings if v.excess is not None),
-                                       default=None),
+        "rows_above_alpha": sum(1 for v in result.verdicts if "size" in v.reasons),
+        "worst_excess_over_alpha": None if worst is None else worst.excess,
+        "worst_excess_pct_of_alpha": None if worst is None
+        else 100 * worst.excess / worst.row.problem.alpha,
+        "worst_excess_row": None if worst is None else worst.row.index,
+        "file_diagnosis": list(result.file_diagnosis),
         "exit_code": 0 if result.all_ok else 1,
     }
 
 
 def json_bytes(result) -> bytes:
-    doc = {"summary": summary(result), "provenance": provenance(result),
-           "rows_with_findings": [record(v) for v in result.verdicts if v.verdict != "ok"]}
+    doc = {"verdict_policy": POLICY, "summary": summary(result), "provenance": provenance(result),
+           "rows_with_findings": [_json_record(v, result.modes) for v in result.verdicts
+                                  if v.verdict != "ok"]}
     return (json.dumps(doc, indent=2, allow_nan=False) + "\n").encode("utf-8")
 
 
+def _json_record(v, modes) -> dict:
+    return {k: (T.report(x) if isinstance(x, str) else x) for k, x in record(v, modes).items()}
+
+
 def summary_text(result, report_dir=None, listed: int = 20) -> str:
+    """The stdout summary (every piece of their text escaped for the terminal)."""
+    return T.terminal(_summary_lines(result, report_dir, listed))
+
+
+def _summary_lines(result, report_dir, listed) -> str:
     s = summary(result)
     t = result.table
     lines = [f"audit of {t.name}: {s['rows']} row{'s' if s['rows'] != 1 else ''} "
              f"(sha256 {result.sha256[:12]}...)"]
+    for d in result.file_diagnosis:
+        lines.append(f"file diagnosis: {d}")
     lines.append(f"  ok        {s['ok']}")
     reasons = ", ".join(f"{k} {n}" for k, n in s["findings_by_reason"].items())
     lines.append(f"  finding   {s['finding']}" + (f"   (by reason: {reasons})" if reasons else ""))
@@ -148,23 +182,22 @@ def summary_text(result, report_dir=None, listed: int = 20) -> str:
         lines.append("diagnosis of the findings:")
         for d, n in s["diagnoses"].items():
             lines.append(f"  {n:4d}  {d}")
-    if s["worst_excess_over_alpha"] is not None and s["worst_excess_over_alpha"] > 0:
-        worst = max((v for v in result.verdicts if v.verdict == "finding" and v.excess is not None),
-                    key=lambda v: v.excess)
-        pct = 100 * worst.excess / worst.row.problem.alpha
-        lines.append(f"largest size above alpha: +{worst.excess:.3g} ({pct:.3g}% of alpha) at "
-                     f"row {worst.row.line}")
+    if s["worst_excess_over_alpha"] is not None:
+        lines.append(f"printed numbers above alpha in {s['rows_above_alpha']} row(s); largest "
+                     f"+{s['worst_excess_over_alpha']:.3g} ({s['worst_excess_pct_of_alpha']:.3g}% "
+                     f"of alpha) at row {s['worst_excess_row']}")
     bad = [v for v in result.verdicts if v.verdict != "ok"]
     if bad:
         lines.append("rows that are not ok:")
         for v in bad[:listed]:
-            label = f"row {v.row.line}" + (f" ({v.row.ident})" if v.row.ident else "")
+            label = f"row {v.row.index} (line {v.row.line})" + \
+                (f" ({v.row.ident})" if v.row.ident else "")
             what = v.verdict + (f" [{', '.join(v.reasons)}]" if v.verdict == "finding" else "")
             diag = f"; diagnosis: {v.diagnosis}" if v.verdict == "finding" else ""
             lines.append(f"  {label}: {what}: {v.details[0] if v.details else ''}{diag}")
         if len(bad) > listed:
             lines.append(f"  ... and {len(bad) - listed} more (see the report)")
-    for note in t.notes:
+    for note in list(t.notes) + list(result.notes):
         lines.append(f"note: {note}")
     if t.ignored:
         lines.append("ignored columns: " + ", ".join(t.ignored))

@@ -1,25 +1,27 @@
-"""Audit a whole file: read it, judge every row (optionally on a process pool), count."""
+"""Audit a whole file: read it (hashed, rows counted first), judge every row, count."""
 
 from __future__ import annotations
 
-import hashlib
 from collections import Counter
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from ..api import DEFAULT_PRECISION, check_precision
 from ..parallel import check_workers
 from .table import Options, Table, load
-from .verdicts import Verdict, judge
+from .verdicts import judge_batch
 
 
 @dataclass
 class AuditResult:
     path: Path
-    sha256: str
+    sha256: str  # of the bytes judged
     table: Table
     verdicts: list
     precision: int
+    modes: tuple = ("round", "round")  # rounding of the gamma1 / gamma2 columns
+    notes: list = field(default_factory=list)  # policy notes, e.g. gammas truncated
+    file_diagnosis: list = field(default_factory=list)  # file-wide causes, said once
 
     @property
     def counts(self) -> Counter:
@@ -38,27 +40,6 @@ class AuditResult:
         return all(v.verdict == "ok" for v in self.verdicts)
 
 
-def _task(args) -> Verdict:
-    row, precision = args
-    return judge(row, precision)
-
-
-def judge_rows(rows, precision=DEFAULT_PRECISION, workers=1, progress=None) -> list:
-    """judge() over rows in order, on ``workers`` processes when there are many."""
-    from ..parallel import pmap
-
-    return pmap(_task, [(r, precision) for r in rows], workers, progress, max_chunk=32)
-
-
-def _sha256(path: Path) -> str:
-    h = hashlib.sha256()
-    with open(path, "rb") as fh:
-        for block in iter(lambda: fh.read(1 << 20), b""):
-            h.update(block)
-    return h.hexdigest()
-
-
-def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=None,
           progress=None) -> AuditResult:
     """Read ``path`` (CSV or XLSX) and judge every row; raises AuditInputError if unusable.
 
@@ -69,5 +50,6 @@ def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, wor
     table = load(path, opts)
     workers = check_workers(workers)  # None: every usable core (pmap caps it at the rows)
     tick = progress(len(table.rows)) if progress else None
-    verdicts = judge_rows(table.rows, d, workers, tick)
-    return AuditResult(Path(path), _sha256(Path(path)), table, verdicts, d)
+    b = judge_batch(table.rows, d, workers, tick, opts.gamma_rounding)
+    return AuditResult(Path(path), table.sha256, table, b.verdicts, d, b.modes, b.notes,
+                       b.file_diagnosis)

@@ -1,24 +1,15 @@
-"""From cell text to audit rows: columns resolved, numbers read, tolerances inferred.
+"""From cell text to audit rows: columns resolved, numbers read, decimals per cell.
 
 A file-level problem (no header, duplicated or missing columns, too many rows)
 raises AuditInputError.  A row-level problem (a bad number, a formula, an
 unknown family) makes that row ``invalid`` with a reason; it never stops the run.
 
-Gamma tolerance (default): half a unit in the last decimal place the third
-party printed, inferred per column because writers drop trailing zeros.  With
-D the most decimals and S the most significant digits printed in the column,
-a cell showing v is taken to carry max(own decimals, min(D, S - 1 - floor(log10 v)))
-decimals (so a fixed-decimals column and a significant-digits column are both
-read right, and "0.5" in a 4-decimal column means 0.5000); a cell that shows a
-trailing zero ("0.1340") was not stripped and keeps its own decimals.  A column printed
-without any decimals (gammas all 0 or 1) is taken as exact.  The tolerance is
-never below TOL_FLOOR: digits beyond that say nothing about a rule applied with
-random digits, and double-precision programs cannot honour them.
+Gammas are kept as the exact decimals printed, with the decimals each cell
+prints (policy.cell_decimals); the verdict policy is in ``policy``.
 """
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -29,10 +20,10 @@ from ..params import Problem, make_problem
 from . import columns as C
 from . import numbers as N
 from .errors import AuditInputError
-from .readers import read
+from .policy import MODES, cell_decimals, column_decimals
+from .readers import open_source
 
 MAX_ROWS = 20_000
-TOL_FLOOR = 1e-12
 EMPTY = {"", "-", "\u2013", "\u2014", "na", "n/a", "none", "null"}
 NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1", "c2", "gamma2")
 
@@ -41,16 +32,17 @@ NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1", "
 class Row:
     """One row of the third party's table, read and checked."""
 
-    line: int
+    index: int  # data row, 1-based ("row N" everywhere)
+    line: int  # line of the CSV file / row of the sheet
     ident: str | None
     text: dict  # standard name -> the cell text as they printed it
     problem: Problem | None = None
     theirs: tuple | None = None  # (c1, g1, c2, g2): int / float / None
-    tol: tuple = (None, None)  # gamma tolerances at c1, c2
-    decimals: tuple = (0, 0)  # decimals printed in the gamma columns (column-wide)
+    tol: tuple = (None, None)  # symmetric gamma allowance at c1, c2 (for diagnoses)
+    decimals: tuple = (None, None)  # decimals each gamma cell is read with (None: exact)
     error: str | None = None
     kind: str | None = None  # the kind named by the row, when it names a valid one
-    numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed
+    numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed (Number)
 
 
 @dataclass
@@ -61,6 +53,8 @@ class Table:
     ignored: list
     decimal_mark: str | None
     notes: list = field(default_factory=list)
+    sha256: str = ""
+    column_decimals: tuple = (None, None)  # most common decimals of the gamma columns
 
 
 @dataclass
@@ -68,7 +62,7 @@ class Options:
     mapping: dict = field(default_factory=dict)
     constants: dict = field(default_factory=dict)  # family / kind / dispersion for every row
     decimal_mark: str | None = None
-    gamma_tol: float | None = None
+    gamma_rounding: str | None = None  # "round" / "truncate"; None: inferred per column
     max_rows: int = MAX_ROWS
     sheet: str | None = None
     delimiter: str | None = None
@@ -76,37 +70,36 @@ class Options:
 
 
 def load(path, opts: Options) -> Table:
-    """Read and check a whole file (bounded by opts.max_rows)."""
+    """Read and check a whole file (refused beyond opts.max_rows data rows)."""
     p = Path(path)
     mark = opts.decimal_mark
     if mark is not None and mark not in (".", ","):
         raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','")
-    stream = read(p, sheet=opts.sheet, delimiter=opts.delimiter, encoding=opts.encoding)
-    header = next(stream)
+    if opts.gamma_rounding is not None and opts.gamma_rounding not in MODES:
+        raise AuditInputError(f"invalid --gamma-rounding = {opts.gamma_rounding!r}: "
+                              + " or ".join(MODES))
+    src = open_source(p, sheet=opts.sheet, delimiter=opts.delimiter, encoding=opts.encoding,
+                      max_rows=opts.max_rows)
+    header = src.header
     pos, ignored = C.resolve(header, opts.mapping)
     for name in opts.constants:
         if name in pos:
             raise AuditInputError(f"{name} is given both as column {header[pos[name]]!r} and on the "
                                   "command line / mapping file; keep one")
+    _check_required(p.name, pos, opts.constants, header, _sheets_hint(p, opts))
     names = list(pos)
     rows = []
-    for line, cells in stream:
-        if len(rows) >= opts.max_rows:
-            raise AuditInputError(f"{p.name}: more than {opts.max_rows} data rows; audit the table "
-                                  "in parts or raise --max-rows")
-        rows.append((line, tuple(cells[pos[k]].strip() if pos[k] < len(cells) else ""
-                                 for k in names)))
-    if not rows:
-        raise AuditInputError(f"{p.name}: the header has no data rows below it"
-                              + _sheets_hint(p, opts))
-    _check_required(p.name, pos, opts.constants, header, _sheets_hint(p, opts))
-    texts = [dict(zip(names, cells)) for _, cells in rows]
+    for index, line, cells in src.rows():
+        rows.append((index, line, tuple(cells[pos[k]].strip() if pos[k] < len(cells) else ""
+                                        for k in names)))
+    texts = [dict(zip(names, cells)) for _, _, cells in rows]
     if mark is None:
         mark, mixed = N.file_mark(t[k] for t in texts for k in NUMERIC if k in t)
-    out = [_row(line, t, opts.constants, mark, pos) for (line, _), t in zip(rows, texts)]
+    out = [_row(index, line, t, opts.constants, mark, pos)
+           for (index, line, _), t in zip(rows, texts)]
     _kind_columns(p.name, out, pos)
-    _tolerances(out, opts.gamma_tol)
-    notes = []
+    cols = _decimals(out)
+    notes = list(src.notes)
     if "gamma1" not in pos and "gamma2" not in pos:
         notes.append("no gamma columns: the table is read as non-randomised (every gamma 0)")
     else:
@@ -114,7 +107,8 @@ def load(path, opts: Options) -> Table:
             if c in pos and g not in pos:
                 notes.append(f"no {g} column: {g} is read as 0 in every row (no randomisation "
                              f"at {c}); map it with --map if the file has it under another name")
-    return Table(p.name, out, {k: header[i] for k, i in pos.items()}, ignored, mark, notes)
+    return Table(p.name, out, {k: header[i] for k, i in pos.items()}, ignored, mark, notes,
+                 src.sha256, cols)
 
 
 def _sheets_hint(p: Path, opts) -> str:
@@ -150,8 +144,8 @@ def _kind_columns(name, rows, pos):
         need = list(k.takes) + (["c1"] if k.uses_c1 else []) + (["c2"] if k.uses_c2 else [])
         lacking = [c for c in need if c not in pos]
         if lacking:
-            raise AuditInputError(f"{name}: row {r.line} is a {k.name} design but the file has no "
-                                  f"{', '.join(lacking)} column; map it with --map")
+            raise AuditInputError(f"{name}: row {r.index} (line {r.line}) is a {k.name} design but "
+                                  f"the file has no {', '.join(lacking)} column; map it with --map")
 
 
 def _empty(text) -> bool:
@@ -165,9 +159,9 @@ def _number(field_name, text, mark):
         raise DesignError(f"invalid {field_name}: {e}") from None
 
 
-def _row(line, t, consts, mark, pos) -> Row:
+def _row(index, line, t, consts, mark, pos) -> Row:
     ident = t.get("id") or None
-    row = Row(line, ident, {k: v for k, v in t.items() if k != "id"})
+    row = Row(index, line, ident, {k: v for k, v in t.items() if k != "id"})
     try:
         vals = {}
         for k in C.INPUTS:
@@ -211,9 +205,7 @@ def _answers(p: Problem, t, mark, pos):
         cn = _number(c, ct, mark)
         if not cn.is_integer() or cn.value < 0:
             raise DesignError(f"invalid {c} = {ct!r}: a cutoff is a whole number >= 0")
-        cv = int(cn.value)
-        if p.family.integer_n and p.family.name == "binomial" and cv > p.n:
-            raise DesignError(f"invalid {c} = {ct!r}: a binomial cutoff lies between 0 and n = {p.n}")
+        cv = int(cn.value)  # a binomial cutoff above n is judged (a wrong cutoff), not refused
         if g not in pos:
             gv, gn = 0.0, None
         elif _empty(gt):
@@ -228,36 +220,20 @@ def _answers(p: Problem, t, mark, pos):
     return tuple(out), tuple(nums)
 
 
-def _trailing_zero(x: N.Number) -> bool:
-    mant = x.text.strip().lower().split("e")[0]
-    return x.decimals > 0 and mant.endswith("0") and any(c in mant for c in ".,")
+def _decimals(rows) -> tuple:
+    """Set each row's per-cell gamma decimals; returns the columns' most common decimals."""
+    from collections import Counter
 
-
-def _sig(n: N.Number) -> int:
-    d = n.value.normalize().as_tuple().digits if n.value == 0 else n.value.as_tuple().digits
-    return 0 if n.value == 0 else len(d)
-
-
-def _tolerances(rows, fixed):
     good = [r for r in rows if r.error is None]
+    out = []
     for i in (0, 1):
-        nums = [r.numbers[i] for r in good if r.numbers[i] is not None]
-        D = max((x.decimals for x in nums), default=0)
-        S = max((_sig(x) for x in nums), default=0)
+        counts = Counter(r.numbers[i].decimals for r in good if r.numbers[i] is not None)
+        col = column_decimals(counts)
+        out.append(col)
         for r in good:
             x = r.numbers[i]
-            if r.theirs[2 * i] is None:
+            if x is None:
                 continue
-            if fixed is not None:
-                tol = fixed
-            elif x is None or D == 0:
-                tol = TOL_FLOOR  # no gamma column, or a column of exact 0 / 1
-            else:
-                v = abs(x.value)
-                d_s = D if v == 0 else S - 1 - math.floor(math.log10(v))
-                # a cell that shows a trailing zero was not stripped: its own decimals hold
-                shown = x.decimals if _trailing_zero(x) else min(D, d_s)
-                d = max(x.decimals, shown)
-                tol = max(0.5 * 10.0 ** (-d), TOL_FLOOR)
-            r.tol = r.tol[:i] + (tol,) + r.tol[i + 1:]
-            r.decimals = r.decimals[:i] + (D,) + r.decimals[i + 1:]
+            d = cell_decimals(x.decimals, x.is_integer(), col)
+            r.decimals = r.decimals[:i] + (d,) + r.decimals[i + 1:]
+    return tuple(out)

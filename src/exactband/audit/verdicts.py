@@ -1,163 +1,208 @@
-"""One verdict per row: recompute the optimal rule in high precision and judge theirs.
+"""Verdicts for a batch of rows under the written policy (``policy``).
 
-For a readable row the optimal design is computed by the fast solver and by the
-high-precision (mpmath) solver, which must agree (exactband.crosscheck).  Then:
+``judge_batch`` recomputes every row (``recompute``: fast solver over the whole
+file, the high-precision solver per row, on a process pool), infers the
+rounding of each gamma column from the rows whose cutoffs are right (unless
+given), and judges each row on its own cells:
 
 * ``cutoff``: their rule differs from ours at a count other than their printed
-  cutoffs (a cutoff is wrong);
-* ``gamma``: the cutoffs agree but a gamma is off by more than its tolerance;
-* ``size``: the size their own numbers attain at a constraint point (what a
-  field user really gets; computed in high precision) exceeds alpha by more
-  than printed rounding can explain;
-* ``unbiasedness``: their power dips below alpha outside the null, beyond what
-  printed rounding can explain (reported with the theta where it is lowest).
+  cutoffs;
+* ``gamma``: the cutoffs agree but a gamma lies outside the precision its cell
+  prints under the column's rounding;
+* ``size``: the size their own printed numbers attain exceeds alpha (always a
+  finding, whatever else holds; the excess is reported).
 
-A row with none of these is ``ok``; a row that cannot be read is ``invalid``.
+A row with none of these is ``ok``; a row that cannot be read or that the
+solvers decline is ``invalid``.  Findings get a diagnosis (``diagnosis``) and,
+for information, the lowest power of their rule outside the null.
 """
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass, field
+from decimal import Decimal
 
-import mpmath as mp
+from . import policy as P
+from .diagnosis import NONE, diagnose, file_level
+from .match import canonical
+from .recompute import Recomputed, fast_all, task
 
-from ..api import fast_solve
-from ..crosscheck import compare, sizes_with_tables
-from ..solvers import precise
-from .diagnosis import NONE, diagnose
-from .match import canonical, mismatches
-from .power import lowest_power, slack_at
-from .table import Row
-
-REASONS = ("cutoff", "gamma", "size", "unbiasedness")
-OUR_DIGITS = 17  # significant digits of our gammas in reports
+REASONS = ("cutoff", "gamma", "size")
 
 
 @dataclass
 class Verdict:
-    row: Row
+    row: object
     verdict: str  # "ok", "finding" or "invalid"
     reasons: list = field(default_factory=list)
     details: list = field(default_factory=list)
     ours: tuple | None = None  # (c1, g1, c2, g2) floats
     ours_text: tuple | None = None  # (c1, "g1 decimal", c2, "g2 decimal")
-    gamma_error: tuple = (None, None)  # their gamma - ours, where the cutoff agrees
-    sizes: tuple = ()  # attained sizes of THEIR rule at the constraint points
+    gamma_error: tuple = (None, None)  # their gamma - ours (float), where the cutoff agrees
+    sizes: tuple = ()  # attained sizes of THEIR printed rule at the constraint points
     excess: float | None = None  # max(size - alpha) over the constraint points
-    min_power: float | None = None  # lowest power of their rule outside the null
+    min_power: float | None = None  # lowest power of their rule outside the null (findings)
     at_theta: float | None = None
     diagnosis: str = ""
     also: list = field(default_factory=list)
+
+
+@dataclass
+class Batch:
+    verdicts: list
+    modes: tuple  # rounding of the gamma1 / gamma2 columns
+    notes: list  # policy notes (e.g. "gammas truncated to 4 decimals")
+    file_diagnosis: list  # said once at the top of the report
 
 
 def _num(x) -> str:
     return f"{x:.6g}"
 
 
-def _ours(p, precision):
-    sol = fast_solve([p])[0]
-    pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                       value=p.value, dispersion=p.dispersion, precision=precision)
-    cc = compare(p.kind.name, p.alpha, sol, pd, precision)
-    if not cc.agree:
-        return None, None, pd
-    with mp.workdps(pd.dps):
-        g = [None if x is None else x for x in (pd.gamma1, pd.gamma2)]
-        floats = (pd.c1, None if g[0] is None else float(g[0]), pd.c2,
-                  None if g[1] is None else float(g[1]))
-        text = (pd.c1, None if g[0] is None else mp.nstr(g[0], OUR_DIGITS, min_fixed=-mp.inf,
-                                                          max_fixed=mp.inf),
-                pd.c2, None if g[1] is None else mp.nstr(g[1], OUR_DIGITS, min_fixed=-mp.inf,
-                                                          max_fixed=mp.inf))
-    return floats, text, pd
+def _printed(row, i) -> Decimal:
+    num = row.numbers[i]
+    return num.value if num is not None else Decimal(repr(float(row.theirs[2 * i + 1] or 0.0)))
 
 
-def judge(row: Row, precision: int = 50) -> Verdict:
-    """The verdict for one row (with the diagnosis when there is a finding)."""
+def gamma_errors(row, rec: Recomputed):
+    """(same test-function cutoffs?, [printed - exact gamma as Decimal or None] * 2)."""
+    kind = row.problem.kind.name
+    theirs, ours = row.theirs, rec.ours
+    errs = [None, None]
+    g = [None if theirs[1] is None else _printed(row, 0),
+         None if theirs[3] is None else _printed(row, 1)]
+    if (theirs[0], theirs[2]) != (ours[0], ours[2]):
+        ct = canonical(kind, theirs)
+        if (ct[0], ct[2]) != (ours[0], ours[2]):
+            return False, errs
+        g = [Decimal(0) if ct[2 * i + 1] != theirs[2 * i + 1] else g[i] for i in (0, 1)]
+    for i in (0, 1):
+        if g[i] is not None and rec.ours_exact[i] is not None:
+            errs[i] = g[i] - rec.ours_exact[i]
+    return True, errs
+
+
+def infer_modes(rows, recs, forced=None) -> tuple:
+    if forced is not None:
+        return forced, forced
+    modes = []
+    for i in (0, 1):
+        cells = []
+        for r, rec in zip(rows, recs):
+            if r.error is None and rec.error is None:
+                same, errs = gamma_errors(r, rec)
+                if same and errs[i] is not None:
+                    cells.append((r.decimals[i], errs[i]))
+        modes.append(P.infer_mode(cells)[0])
+    return tuple(modes)
+
+
+def _allowance(decimals) -> float:
+    """A symmetric allowance covering both roundings (for the diagnoses)."""
+    if decimals is None:
+        return float(P.GAMMA_FLOOR)
+    return 10.0 ** (-decimals) + float(P.GAMMA_FLOOR)
+
+
+def judge_row(row, rec: Recomputed, modes) -> Verdict:
+    """The verdict of one row (diagnosis left for diagnose_row)."""
     if row.error is not None:
         return Verdict(row, "invalid", ["invalid"], [row.error])
-    p, theirs, tol = row.problem, row.theirs, row.tol
-    ours, text, pd = _ours(p, precision)
-    if ours is None:
-        return Verdict(row, "invalid", ["invalid"],
-                       ["exactband's two solvers disagree on this design; no verdict (report it)"])
-    v = Verdict(row, "ok", ours=ours, ours_text=text)
-    kind = p.kind.name
-    _compare_rules(v, kind, theirs, ours, tol)
-    # the size a field user gets with their numbers, in high precision
-    with mp.workdps(pd.dps):
-        sizes = sizes_with_tables(kind, theirs, pd.tables, pd.dps)
-        A = mp.mpf(repr(p.alpha))
-        excess = [s - A for s in sizes]
-        allow = []
-        for T in pd.tables:
-            a = mp.mpf(1e-12) * A
-            for c, t in ((theirs[0], tol[0]), (theirs[2], tol[1])):
-                if c is not None and t is not None:
-                    a += mp.mpf(t) * T.pmf(int(c))
-            allow.append(a)
-        v.sizes = tuple(float(s) for s in sizes)
-        v.excess = float(max(excess))
-        for pt, name, e, a, s in zip(p.points, _point_names(p), excess, allow, sizes):
-            if e > a:
-                v.reasons.append("size")
-                v.details.append(f"their numbers give size {_num(float(s))} at {name} = {pt:g}, "
-                                 f"above alpha = {p.alpha:g} by {_num(float(e))} "
-                                 f"({float(e / A) * 100:.3g}% of alpha)")
-                break
-    t, pw = lowest_power(p, theirs)
-    v.min_power, v.at_theta = pw, t
-    if pw is not None and pw < p.alpha - slack_at(p, theirs, tol, t):
-        v.reasons.append("unbiasedness")
-        v.details.append(f"their power dips to {_num(pw)} < alpha = {p.alpha:g} at theta = "
-                         f"{_where(p, t)}")
+    if rec.error is not None:
+        return Verdict(row, "invalid", ["invalid"], [rec.error])
+    p, theirs = row.problem, row.theirs
+    row.tol = tuple(None if theirs[2 * i] is None else _allowance(row.decimals[i]) for i in (0, 1))
+    v = Verdict(row, "ok", ours=rec.ours, ours_text=rec.ours_text, sizes=rec.sizes,
+                excess=rec.excess)
+    same, errs = gamma_errors(row, rec)
+    v.gamma_error = tuple(None if e is None else float(e) for e in errs)
+    if not same:
+        v.reasons.append("cutoff")
+        parts = [f"{c} = {t} (ours {o})" for c, t, o in (("c1", theirs[0], rec.ours[0]),
+                                                         ("c2", theirs[2], rec.ours[2])) if t != o]
+        v.details.append("wrong cutoff: " + ", ".join(parts))
+    else:
+        bad = []
+        for i, name in ((0, "gamma1"), (1, "gamma2")):
+            e, d, m = errs[i], row.decimals[i], modes[i]
+            if e is not None and not P.within(m, d, e):
+                lo, hi = P.window(m, d)
+                prec = "exact" if d is None else f"{'truncated' if m == 'truncate' else 'rounded'}"\
+                    f" to {d} decimal{'s' if d != 1 else ''}"
+                bad.append(f"{name} = {row.text.get(name) or theirs[2 * i + 1]} (ours "
+                           f"{rec.ours_text[2 * i + 1][:12]}, off by {float(e):+.2g}; read as "
+                           f"{prec}: allowed {float(lo):+.2g} to {float(hi):+.2g})")
+        if bad:
+            v.reasons.append("gamma")
+            v.details.extend(bad)
+    if not P.size_ok(rec.excess, p.alpha):
+        worst = max(range(len(rec.sizes)), key=lambda j: rec.sizes[j])
+        names = ("low", "high") if p.kind.two_point else ("value",)
+        pt = p.points[worst]
+        v.reasons.append("size")
+        v.details.append(f"their printed numbers give size {_num(rec.sizes[worst])} at "
+                         f"{names[worst]} = {pt:g}, above alpha = {p.alpha:g} by "
+                         f"{_num(rec.excess)} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
     if v.reasons:
         v.verdict = "finding"
-        v.diagnosis, v.also = diagnose(p, theirs, tol, row.decimals, ours, text)
     return v
 
 
-def _where(p, t) -> str:
-    """theta in words relative to the null (a dip often sits just beside a boundary)."""
-    for name in ("low", "high", "value"):
-        b = getattr(p, name)
-        if b is not None and abs(t - b) <= 1e-6 * abs(b):
-            side = "below" if t < b else "above"
-            return f"{t:.10g} (just {side} {name} = {b:g})"
-    return f"{t:.6g} (outside the null)"
+def diagnose_row(v: Verdict) -> Verdict:
+    """Diagnosis and lowest power of a finding (kept apart: it costs more than judging)."""
+    from .power import lowest_power
+
+    r = v.row
+    v.diagnosis, v.also = diagnose(r.problem, r.theirs, r.tol, r.decimals, v.ours, v.ours_text,
+                                   [_printed(r, i) if r.theirs[2 * i] is not None else None
+                                    for i in (0, 1)])
+    try:
+        v.at_theta, v.min_power = lowest_power(r.problem, r.theirs)
+    except (ArithmeticError, ValueError) as e:  # e.g. a cutoff outside the support
+        v.details.append(f"(lowest power not computed: {' '.join(str(e).split())[:80]})")
+    return v
 
 
-def _point_names(p):
-    return ("low", "high") if p.kind.two_point else ("value",)
+def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
+    """Verdicts for ``rows`` in order (see the module docstring)."""
+    from ..parallel import pmap
+
+    valid = [i for i, r in enumerate(rows) if r.error is None]
+    fast = fast_all([rows[i].problem for i in valid])
+    fast_of = dict(zip(valid, fast))
+    todo = [(rows[i], fast_of[i], precision) for i in valid]
+    done = pmap(task, todo, workers, progress, max_chunk=32)
+    recs = [Recomputed()] * len(rows)
+    for i, rec in zip(valid, done):
+        recs[i] = rec
+    if progress:
+        progress(len(rows) - len(valid))
+    modes = infer_modes(rows, recs, rounding)
+    verdicts = [judge_row(r, rec, modes) for r, rec in zip(rows, recs)]
+    idx = [i for i, v in enumerate(verdicts) if v.verdict == "finding"]
+    for i, v in zip(idx, pmap(diagnose_row, [verdicts[i] for i in idx], workers, None, 8)):
+        verdicts[i] = v
+    return Batch(verdicts, modes, _notes(rows, modes, rounding), file_level(verdicts))
 
 
-def _compare_rules(v: Verdict, kind, theirs, ours, tol):
-    bad = mismatches(kind, theirs, ours, tol)
-    ct, co = canonical(kind, theirs), canonical(kind, ours)
-    same_cut = (ct[0], ct[2]) == (co[0], co[2]) or (theirs[0], theirs[2]) == (ours[0], ours[2])
-    errs = [None, None]
-    if (theirs[0], theirs[2]) == (ours[0], ours[2]):
-        errs = [None if theirs[1] is None or ours[1] is None else theirs[1] - ours[1],
-                None if theirs[3] is None or ours[3] is None else theirs[3] - ours[3]]
-    v.gamma_error = tuple(errs)
-    if not bad:
-        return
-    if not same_cut:
-        v.reasons.append("cutoff")
-        parts = [f"{c} = {t} (ours {o})" for c, t, o in (("c1", theirs[0], ours[0]),
-                                                         ("c2", theirs[2], ours[2])) if t != o]
-        v.details.append("wrong cutoff: " + ", ".join(parts))
-        return
-    v.reasons.append("gamma")
+def _notes(rows, modes, rounding) -> list:
+    """'gamma1, gamma2: gammas truncated to 4 decimals' and the like, once per file."""
+    said = {}
     for i, name in ((0, "gamma1"), (1, "gamma2")):
-        g_t, g_o, t = theirs[2 * i + 1], ours[2 * i + 1], tol[i]
-        if g_t is None or g_o is None:
+        d = [r.decimals[i] for r in rows if r.error is None and r.numbers[i] is not None]
+        if not d:
             continue
-        e = g_t - g_o
-        if abs(e) > t + 1e-12:
-            v.details.append(f"{name} = {v.row.text.get(name) or g_t!s} (ours "
-                             f"{v.ours_text[2 * i + 1][:12]}, off by {e:+.2g}; "
-                             f"tolerance {t:.2g})")
+        col = P.column_decimals(Counter(x for x in d if x))
+        if rounding is not None:
+            text = f"read as {'truncated' if rounding == 'truncate' else 'rounded'} " \
+                   "(--gamma-rounding)"
+        elif modes[i] == "truncate" and col is not None:
+            text = f"gammas truncated to {col} decimals"
+        else:
+            continue
+        said.setdefault(text, []).append(name)
+    return [f"{', '.join(names)}: {text}" for text, names in said.items()]
 
 
-__all__ = ["NONE", "REASONS", "Verdict", "judge"]
+__all__ = ["NONE", "REASONS", "Batch", "Verdict", "judge_batch", "judge_row"]

@@ -15,8 +15,9 @@ import io
 import re
 import zipfile
 
-from ..fileio import safe_cell_text
-from .reports import COLUMNS, TOLERANCE_RULE, provenance, record, summary
+from . import text as T
+from .policy import POLICY
+from .reports import COLUMNS, provenance, record, summary
 
 CAUTION = ("exactband computes statistical decision rules; acceptance limits, sampling plans and "
            "consequences come from the governing standard, local regulation and qualified "
@@ -24,24 +25,28 @@ CAUTION = ("exactband computes statistical decision rules; acceptance limits, sa
 FILLS = {"finding": ("9C1C1C", "FFFFFF", "FBE3E3"), "invalid": ("E8A317", "000000", "FFF3D1"),
          "ok": ("D5EDD7", "1E4620", None)}
 WRONG = ("F4B6B6", "7A0000")  # a cell holding a wrong number: stronger fill, dark red bold
-WIDTHS = {"row": 7, "id": 10, "verdict": 10, "reasons": 16, "size_excess_pct_of_alpha": 12,
-          "power_shortfall_pct_of_alpha": 12, "diagnosis": 38, "detail": 64, "family": 11,
-          "kind": 10, "also_consistent_with": 36}
-WRAP = ("reasons", "diagnosis", "detail", "also_consistent_with")
+WIDTHS = {"row": 6, "file_line": 6, "id": 10, "verdict": 10, "reasons": 14,
+          "size_excess_pct_of_alpha": 11, "power_shortfall_pct_of_alpha": 11, "diagnosis": 36,
+          "detail": 60, "family": 10, "kind": 10, "n": 8, "alpha": 8, "low": 8, "high": 8,
+          "value": 8, "dispersion": 9, "their_c1": 7, "our_c1": 7, "their_c2": 7, "our_c2": 7,
+          "their_gamma1": 11, "their_gamma2": 11, "our_gamma1": 20, "our_gamma2": 20,
+          "gamma1_read_as": 14, "gamma2_read_as": 14, "also_consistent_with": 34}
+WRAP = ("reasons", "diagnosis", "detail", "also_consistent_with", "gamma1_read_as",
+        "gamma2_read_as")
 FORMATS = {"prob": "0.000000", "sci": "0.00E+00", "pct": '0.00"%";-0.00"%";"\u2013"',
            "num": "General", "int": "0"}
-HEADINGS = {"row": "their row", "size_excess_pct_of_alpha": "size above alpha, % of alpha",
+HEADINGS = {"row": "row (data row)", "file_line": "line in file", "size_excess_pct_of_alpha": "size above alpha, % of alpha",
             "power_shortfall_pct_of_alpha": "power below alpha off H0, % of alpha"}
 LINE_HEIGHT = 15  # points per line of 11-point text
 FIXED_TIME = "2000-01-01T00:00:00Z"
-HEADER_ROW = 4
+HEADER_ROW = 6
 
 
 def _cell_value(value, kind):
     if value is None or value == "":
         return None
     if kind == "text":
-        return safe_cell_text(value)
+        return T.xlsx_cell(value)
     return value
 
 
@@ -57,12 +62,16 @@ def xlsx_bytes(result) -> bytes:
     ws.title = "audit"
     bold = Font(bold=True)
     state = "ALL ROWS OK" if result.all_ok else "NOT ALL ROWS OK"
-    ws.cell(1, 1, safe_cell_text(f"exactband audit of {result.table.name}: {state}")).font = \
+    ws.cell(1, 1, T.xlsx_cell(f"exactband audit of {result.table.name}: {state}")).font = \
         Font(bold=True, size=14, color="9C1C1C" if not result.all_ok else "1E4620")
     ws.cell(2, 1, f"{s['rows']} rows: {s['ok']} ok, {s['finding']} with findings, "
                   f"{s['invalid']} invalid.  Findings are tinted red, invalid rows amber, and the "
                   "numbers behind each finding are marked in dark red.").font = bold
-    ws.cell(3, 1, TOLERANCE_RULE + ".  " + CAUTION).font = Font(italic=True, color="555555")
+    ws.cell(3, 1, POLICY).font = Font(italic=True, color="555555")
+    said = list(result.file_diagnosis) + list(result.table.notes) + list(result.notes)
+    if said:
+        ws.cell(4, 1, T.xlsx_cell("; ".join(said))).font = Font(bold=True, color="9C1C1C")
+    ws.cell(5, 1, CAUTION).font = Font(italic=True, color="555555")
     for j, (name, _) in enumerate(cols, start=1):
         c = ws.cell(HEADER_ROW, j, HEADINGS.get(name, name.replace("_", " ")))
         c.font = Font(bold=True, color="FFFFFF")
@@ -76,7 +85,7 @@ def xlsx_bytes(result) -> bytes:
     printed = {"n", "alpha", "low", "high", "value", "dispersion", "their_c1", "their_gamma1",
                "their_c2", "their_gamma2", "our_gamma1", "our_gamma2"}
     for i, v in enumerate(result.verdicts, start=HEADER_ROW + 1):
-        rec = record(v)
+        rec = record(v, result.modes)
         wrong = _wrong_cells(v, rec)
         strong, text_colour, tint = FILLS[v.verdict]
         ws.row_dimensions[i].height = LINE_HEIGHT * _lines(rec)
@@ -101,8 +110,8 @@ def xlsx_bytes(result) -> bytes:
     ws.freeze_panes = ws.cell(HEADER_ROW + 1, [c for c, _ in cols].index("verdict") + 2)
     ws.auto_filter.ref = f"A{HEADER_ROW}:{last}{HEADER_ROW + len(result.verdicts)}"
     ws.print_title_rows = f"{HEADER_ROW}:{HEADER_ROW}"
-    ws.page_setup.orientation = "landscape"
-    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    print_setup(ws, pages_wide=2)  # 30-odd columns: two A4 pages wide stay legible
+    ws.print_title_cols = "A:" + get_column_letter([c for c, _ in cols].index("verdict") + 1)
     _summary_sheet(wb.create_sheet("summary"), result, s, bold)
     buf = io.BytesIO()
     wb.save(buf)
@@ -145,9 +154,8 @@ def _wrong_cells(v, rec) -> set:
             if str(rec.get(f"their_{c}") or "") != str(rec.get(f"our_{c}") or ""):
                 out.add(f"their_{c}")
     if "gamma" in v.reasons:
-        for i, t in ((1, v.row.tol[0]), (2, v.row.tol[1])):
-            e = rec.get(f"gamma{i}_abs_error")
-            if e is not None and t is not None and e > t:
+        for i in (1, 2):
+            if any(d.startswith(f"gamma{i} = ") for d in v.details):
                 out.update((f"their_gamma{i}", f"gamma{i}_abs_error"))
     if "size" in v.reasons:
         out.update(("size_excess_pct_of_alpha", "size_excess"))
@@ -155,8 +163,6 @@ def _wrong_cells(v, rec) -> set:
                         ("their_size_high", rec.get("their_size_high"))):
             if s is not None and s > v.row.problem.alpha:
                 out.add(name)
-    if "unbiasedness" in v.reasons:
-        out.update(("power_shortfall_pct_of_alpha", "min_power_outside_null", "at_theta"))
     return out
 
 
@@ -177,26 +183,39 @@ def _summary_sheet(ws, result, s, bold):
              ("ignored columns", ", ".join(prov["input"]["ignored_columns"]) or "(none)"),
              ("exactband", prov["exactband"]), ("scipy", prov["scipy"]), ("mpmath", prov["mpmath"]),
              ("python", prov["python"]), ("solver precision", prov["solver_precision"]),
-             ("tolerance rule", TOLERANCE_RULE)]
+             ("gamma rounding", ", ".join(f"{k} {m}" for k, m in prov["gamma_rounding"].items())),
+             ("verdict policy", POLICY)]
+    rows += [("file diagnosis", d) for d in result.file_diagnosis]
     rows += [("note", n) for n in prov["notes"]]
     rows += [(None, None), ("caution", CAUTION)]
     for i, (k, val) in enumerate(rows, start=1):
         if k is not None:
-            c = ws.cell(i, 1, safe_cell_text(k))
+            c = ws.cell(i, 1, T.xlsx_cell(k))
             c.alignment = Alignment(vertical="top")
             if not k.startswith("  "):
                 c.font = bold
         if val is not None:
-            c = ws.cell(i, 2, safe_cell_text(val) if isinstance(val, str) else val)
+            c = ws.cell(i, 2, T.xlsx_cell(val) if isinstance(val, str) else val)
             c.alignment = Alignment(wrap_text=True, vertical="top", horizontal="left")
             if isinstance(val, str) and len(val) > 80:
                 ws.row_dimensions[i].height = LINE_HEIGHT * (len(val) // 70 + 1)
-    ws.column_dimensions["A"].width = 78
-    ws.column_dimensions["B"].width = 70
+    ws.column_dimensions["A"].width = 40
+    ws.column_dimensions["B"].width = 90
+    print_setup(ws, pages_wide=1)
+
+
+def print_setup(ws, pages_wide: int = 1) -> None:
+    """A4 landscape, ``pages_wide`` pages wide (as many long as needed), narrow margins, footer."""
     ws.page_setup.orientation = "landscape"
-    ws.page_setup.fitToWidth = 1
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    ws.page_setup.fitToWidth = pages_wide
     ws.page_setup.fitToHeight = 0
     ws.sheet_properties.pageSetUpPr.fitToPage = True
+    ws.page_margins.left = ws.page_margins.right = 0.4
+    ws.page_margins.top = ws.page_margins.bottom = 0.5
+    ws.print_options.gridLines = True
+    ws.oddFooter.center.text = "Page &P of &N"
+    ws.oddFooter.left.text = "exactband audit"
 
 
 def _deterministic(data: bytes) -> bytes:

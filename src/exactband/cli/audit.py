@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import math
 import sys
 
 from .common import add_command, add_workers_option, check_precision, check_workers
@@ -19,9 +18,14 @@ high, value, dispersion, c1, gamma1, c2, gamma2, and id (carried into the report
 A mapping file is TOML: optional family / kind / dispersion / decimal_mark keys and a
 [columns] table of OURS = "THEIR COLUMN NAME".
 
-Verdicts: ok; finding (cutoff, gamma, size, unbiasedness; with a diagnosis such as
-equal-tailed, end-anchored tails, conservative non-randomised, gammas rounded to k
-decimals, cutoff convention shifted by one, neighbouring n or alpha); invalid.
+Verdicts: ok only when the cutoffs are exact, each gamma agrees within the decimals
+its cell prints (rounded or truncated: inferred per column, or --gamma-rounding), and
+the size the row's printed numbers attain is at most alpha (tolerance 1e-12 of alpha).
+finding: cutoff, gamma, size (with a diagnosis such as equal-tailed, end-anchored
+tails, conservative non-randomised, gammas rounded or truncated to k decimals, gammas
+or cutoff columns swapped, cutoff convention shifted by one, neighbouring n or alpha);
+invalid: a row that cannot be read or that the solvers decline (with the reason).
+"row N" is the N-th data row (header not counted); reports also give the file line.
 Exit code: 0 every row ok, 1 any finding or invalid row, 2 the input is unusable.
 Reports in DIR: audit-report.csv, audit-report.xlsx, audit-summary.json.
 """
@@ -51,9 +55,9 @@ def add_parser(sub) -> None:
     g.add_argument("--max-rows", metavar="N", default="20000",
                    help="refuse files with more data rows than this (default 20000)")
     j = p.add_argument_group("judging")
-    j.add_argument("--gamma-tol", metavar="X",
-                   help="absolute gamma tolerance for every row (default: half a unit in the last "
-                        "decimal they printed, inferred per column)")
+    j.add_argument("--gamma-rounding", metavar="MODE", choices=["round", "truncate"],
+                   help="how their gammas were cut to the decimals printed: round or truncate "
+                        "(default: inferred per column from the file)")
     j.add_argument("--precision", metavar="D", default="50",
                    help="significant digits of the high-precision solver (default 50)")
     add_workers_option(j)
@@ -85,21 +89,9 @@ def options(args):
     for k in ("family", "kind", "dispersion"):
         if getattr(args, k) is not None:
             consts[k] = getattr(args, k)
-    tol = None
-    if args.gamma_tol is not None:
-        from ..errors import ExactbandError
-        from ..strict import real
-
-        try:
-            tol = real("--gamma-tol", args.gamma_tol)
-        except ExactbandError:
-            tol = math.nan
-        if not (math.isfinite(tol) and 0 <= tol < 0.5):
-            raise AuditInputError(f"invalid --gamma-tol = {args.gamma_tol!r}: a number with "
-                                  "0 <= X < 0.5")
     return Options(mapping=mapping, constants=consts, decimal_mark=args.decimal_mark or mark,
-                   gamma_tol=tol, max_rows=_int("max-rows", args.max_rows, 1), sheet=args.sheet,
-                   delimiter=args.delimiter, encoding=args.encoding)
+                   gamma_rounding=args.gamma_rounding, max_rows=_int("max-rows", args.max_rows, 1),
+                   sheet=args.sheet, delimiter=args.delimiter, encoding=args.encoding)
 
 
 def progress_printer(total: int):
