@@ -167,7 +167,7 @@ def build_sections(tset) -> list:
             heading=f"Table {number}. {KIND_TITLE[kind]} ({KINDS[kind].optimality}), "
                     f"alpha = {plain(alpha)}",
             hypothesis=hypothesis_text(kind, spec.family),
-            rule=rule_text(kind, spec.random_digits),
+            rule=rule_text(kind, spec.random_digits, spec.family),
             columns=cols, rows=cells, group_starts=starts))
     return out
 

@@ -45,21 +45,33 @@ def _digits(d: int) -> str:
     return f"read {d} random digits as a number (0 to {10 ** d - 1})"
 
 
-def rule_text(kind: str, d: int) -> str:
-    """The rule of one section in words, with the random-digit procedure."""
+def _sides(kind: str, family: str) -> dict:
+    """Each side the kind rejects on, in words with the family's symbol."""
+    from ..kinds import KINDS
+
+    k = KINDS[kind]
+    return dict(zip(k.sides, k.rejection_sides(WORDS[family][0])))
+
+
+def rule_text(kind: str, d: int, family: str = "poisson") -> str:
+    """The rule of one section in words, naming the side of each rejection, with the
+    random-digit procedure."""
     read = _digits(d)
+    side = _sides(kind, family)
     if kind in ("band", "point"):
-        return (f"Reject H0 if Y < c1 or Y > c2. If Y = c1, {read}: reject if it is below t1. "
-                f"If Y = c2, the same with t2. Otherwise (c1 < Y < c2) do not reject. "
-                f"If c1 = c2, read the digits once and reject if the number is below t1 + t2.")
+        return (f"Reject H0 if Y < c1 ({side['below']}) or Y > c2 ({side['above']}). "
+                f"If Y = c1, {read}: reject ({side['below'].split(' (')[0]}) if it is below "
+                f"t1. If Y = c2, the same with t2 ({side['above'].split(' (')[0]}). Otherwise "
+                f"(c1 < Y < c2) do not reject. If c1 = c2, read the digits once and reject if "
+                f"the number is below t1 + t2.")
     if kind == "upper":
-        return (f"Reject H0 if Y > c2. If Y = c2, {read}: reject if it is below t2. "
-                f"Otherwise (Y < c2) do not reject.")
+        return (f"Reject H0 if Y > c2 ({side['above']}). If Y = c2, {read}: reject if it is "
+                f"below t2. Otherwise (Y < c2) do not reject.")
     if kind == "lower":
-        return (f"Reject H0 if Y < c1. If Y = c1, {read}: reject if it is below t1. "
-                f"Otherwise (Y > c1) do not reject.")
-    return (f"Reject H0 (conclude it lies inside the band) if c1 < Y < c2. If Y = c1, {read}: "
-            f"reject if it is below t1. If Y = c2, the same with t2. "
+        return (f"Reject H0 if Y < c1 ({side['below']}). If Y = c1, {read}: reject if it is "
+                f"below t1. Otherwise (Y > c1) do not reject.")
+    return (f"Reject H0 if c1 < Y < c2 (equivalence shown: {side['inside']}). If Y = c1, "
+            f"{read}: reject if it is below t1. If Y = c2, the same with t2. "
             f"Otherwise (Y < c1 or Y > c2) do not reject.")
 
 
@@ -125,7 +137,7 @@ def cover_blocks(tset, sections_) -> list:
     b.append(("heading", "The rules"))
     for k in kinds:
         b.append(("para", f"{KIND_TITLE[k]}, {hypothesis_text(k, spec.family)}: "
-                          f"{rule_text(k, d)}"))
+                          f"{rule_text(k, d, spec.family)}"))
     b.append(("heading", f"Randomisation at a cutoff with {d} random digits"))
     b.append(("para", f"Each gamma in the tables is the probability of rejecting H0 when Y "
                       f"falls exactly on its cutoff. In the field it is applied with random "
