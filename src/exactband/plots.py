@@ -101,8 +101,11 @@ def theta_axis_label(design: Design) -> str:
     return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
 
 
-def _g(x):
-    return "-" if x is None else f"{x:.4f}"
+def _g(x, exact=None, random_digits=None):
+    """A gamma truncated, never rounded: its first d decimals are the threshold."""
+    from .words import gamma_text
+
+    return "-" if x is None else gamma_text(x, exact, random_digits, places=4)
 
 
 def design_caption(design: Design, random_digits: int | None = None) -> str:
@@ -112,7 +115,7 @@ def design_caption(design: Design, random_digits: int | None = None) -> str:
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
              f"{pretty(design.hypothesis())}; {fam.n_word} = {_num(design.n)}; "
              f"alpha = {_num(design.alpha)}."]
-    parts.append(_cutoff_text(design))
+    parts.append(_cutoff_text(design, random_digits))
     if random_digits:
         t1, t2 = design.thresholds(random_digits)
         ts = [f"t{i} = {t} at c{i}" for i, t in ((1, t1), (2, t2)) if t is not None]
@@ -123,13 +126,16 @@ def design_caption(design: Design, random_digits: int | None = None) -> str:
     return " ".join(parts)
 
 
-def _cutoff_text(design: Design) -> str:
+def _cutoff_text(design: Design, random_digits=None) -> str:
     cut = []
     if design.c1 is not None:
-        cut.append(f"c1 = {design.c1}, gamma1 = {_g(design.gamma1)}")
+        cut.append(f"c1 = {design.c1}, gamma1 = "
+                   f"{_g(design.gamma1, design.gamma1_decimal, random_digits)}")
     if design.c2 is not None:
-        cut.append(f"c2 = {design.c2}, gamma2 = {_g(design.gamma2)}")
-    return "; ".join(cut) + "."
+        cut.append(f"c2 = {design.c2}, gamma2 = "
+                   f"{_g(design.gamma2, design.gamma2_decimal, random_digits)}")
+    text = "; ".join(cut)
+    return text if text.endswith("...") else text + "."
 
 
 def _size_text(sizes) -> str:
@@ -177,8 +183,9 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
 
     ``frame`` is ``oc.operating_characteristics(design, ...)`` (computed here when
     omitted).  The null region is shaded, the alpha line drawn, the design named
-    in the caption.  A lower panel shows each rule's power minus the randomised
-    rule's (the curves nearly coincide in the main panel).  Returns a Figure.
+    in the caption.  A lower panel shows each rule's curve minus the randomised
+    rule's, of the same quantity as the top panel (power, or OC), so the signs
+    agree (the curves nearly coincide in the main panel).  Returns a Figure.
     """
     col = _curve_col(curve)
     if frame is None:
@@ -195,7 +202,7 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
         _shade_null(a, design, x0, x1, label=a is ax)
         a.grid(True, color="0.8", linewidth=0.5)
     _alpha_line(ax, design.alpha, curve)
-    base = frame["power_randomized"].to_numpy(float)
+    base = frame[f"{col}_randomized"].to_numpy(float)  # lower panel: same quantity as the top
     for i, rule in enumerate(("randomized", "conservative", "digits")):
         st = dict(STYLE[rule])
         label = rule_label(rule, d)
@@ -203,12 +210,13 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
             label += f"; size {_size_text(sizes[rule])}"
         every = (0.02 + 0.03 * i, 0.09)
         ax.plot(th, frame[f"{col}_{rule}"].to_numpy(float), label=label, markevery=every, **st)
-        dx.plot(th, frame[f"power_{rule}"].to_numpy(float) - base, markevery=every, **st)
+        dx.plot(th, frame[f"{col}_{rule}"].to_numpy(float) - base, markevery=every, **st)
     ax.set_xlim(x0, x1)
     ax.set_ylim(-0.02, 1.02)
     ax.set_ylabel(_y_label(curve))
     dx.set_xlabel(theta_axis_label(design))
-    dx.set_ylabel("power minus\nrandomised power", fontsize=8.5)
+    dx.set_ylabel("power minus\nrandomised power" if col == "power"
+                  else "OC minus\nrandomised OC", fontsize=8.5)
     title = "Power function" if curve == "power" else "Operating characteristic (OC) curve"
     ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
     caption = design_caption(design, d) + (
@@ -220,12 +228,35 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
 
 
 def _footer(foot, ax, caption, width=125):
-    """An axes-free strip under the charts: the legend of ``ax`` and the caption."""
+    """An axes-free strip under the charts: the legend of ``ax`` on top, the caption below.
+
+    After a first layout the strip is made taller until the legend's box and the
+    caption's box do not overlap (``footer_boxes`` gives them).  Returns the
+    (legend, caption) artists.
+    """
     foot.set_axis_off()
-    foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=2, fontsize=8,
-                frameon=False, bbox_to_anchor=(0.5, 1.0))
-    foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5, ha="left",
-              va="bottom", transform=foot.transAxes)
+    legend = foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=2,
+                         fontsize=8, frameon=False, bbox_to_anchor=(0.5, 1.0))
+    text = foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5,
+                     ha="left", va="bottom", transform=foot.transAxes)
+    foot.figure._exactband_footer = (legend, text)
+    gs = foot.get_subplotspec().get_gridspec()
+    ratios = list(gs.get_height_ratios() or [1.0] * gs.nrows)
+    row = foot.get_subplotspec().rowspan.start
+    for _ in range(12):
+        leg, cap = footer_boxes(foot.figure)
+        if leg.y0 > cap.y1 + 2:  # pixels of clear space between them
+            break
+        ratios[row] *= 1.25
+        gs.set_height_ratios(ratios)
+    return legend, text
+
+
+def footer_boxes(fig):
+    """Display-space boxes (legend, caption) of a figure's footer, after a layout."""
+    legend, text = fig._exactband_footer
+    fig.draw_without_rendering()
+    return legend.get_window_extent(), text.get_window_extent()
 
 
 # -- planning: power against n ---------------------------------------------------------
