@@ -339,10 +339,9 @@ def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", rando
             raise _error("rules", r, "randomized, conservative, digits")
     if paper not in PAGE_INCHES:
         raise _error("paper", paper, "A4 or Letter")
-    from .oc import default_thetas
+    from .oc import shared_thetas
 
-    widest = min(designs, key=lambda x: x.n)
-    theta = default_thetas(widest, points)
+    theta = shared_thetas(designs, points)  # one x-range for every row of charts
     rows = []
     for alpha in sorted({x.alpha for x in designs}):
         group = sorted((x for x in designs if x.alpha == alpha), key=lambda x: x.n)
