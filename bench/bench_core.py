@@ -113,7 +113,7 @@ def main(argv=None) -> int:
     fam = get_family("poisson")
     t0 = time.perf_counter()
     for row in small.itertuples():
-        precise.solve(fam, "band", row.n, row.alpha, low=row.low, high=row.high, digits=50)
+        precise.solve(fam, "band", row.n, row.alpha, low=row.low, high=row.high, precision=50)
     t_prec = time.perf_counter() - t0
     print(f"precise solver (50 digits): {args.precise_subset} band designs with n*theta <= 1000 "
           f"in {t_prec:.2f} s = {args.precise_subset / t_prec:,.1f} designs/s "

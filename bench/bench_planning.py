@@ -30,10 +30,10 @@ def main() -> int:
     rows = [
         ("OC frame, 201 thetas x 3 rules (default range)",
          lambda: operating_characteristics(d)),
-        ("plan randomized, fast solver only",
+        ("plan randomised, fast solver only",
          lambda: plan("poisson", "band", alternatives=[1.6, 3.0], target=0.9, verify=False,
                       **BAND)),
-        ("plan randomized, boundary designs verified (50 digits)",
+        ("plan randomised, boundary designs verified (50 digits)",
          lambda: plan("poisson", "band", alternatives=[1.6, 3.0], target=0.9, **BAND)),
         ("plan conservative, verified",
          lambda: plan("poisson", "band", alternatives=[1.6, 3.0], target=0.9,
@@ -44,7 +44,7 @@ def main() -> int:
         ("plan conservative, binomial upper p0=0.1 vs 0.11, target 0.95, fast only",
          lambda: plan("binomial", "upper", value=0.1, alpha=0.05, alternatives=[0.11],
                       target=0.95, rule="conservative", verify=False)),
-        ("decide at a cutoff (design given)", lambda: decide(d, 39, digits="4821")),
+        ("decide at a cutoff (design given)", lambda: decide(d, 39, digits_read="482")),
     ]
     for name, fn in rows:
         sec, res = timed(fn, 3 if "step 0.01" in name or "0.11" in name else 5)

@@ -131,12 +131,12 @@ def breakdown(spec_path: Path, out: Path) -> None:
     sols = api.fast_solve(problems)
     times["fast solver (all designs)"] = time.perf_counter() - t
     t = time.perf_counter()
-    designs = api.verify_many(problems, sols, spec.digits)
+    designs = api.verify_many(problems, sols, spec.precision)
     times[f"high-precision verification ({os.cpu_count()} processes)"] = time.perf_counter() - t
     t = time.perf_counter()
     rows = tuple(derive(d, spec) for d in designs)
     times["digit-rule and conservative sizes (1 process)"] = time.perf_counter() - t
-    tset = TableSet(spec, rows, summarise(designs, spec.digits),
+    tset = TableSet(spec, rows, summarise(designs, spec.precision),
                     random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE))
     import exactband.tables.publish as gen
 
@@ -170,7 +170,7 @@ def breakdown(spec_path: Path, out: Path) -> None:
     per = defaultdict(list)
     for i in sample:
         t0 = time.perf_counter()
-        api.verify_one(problems[i], sols[i], spec.digits)
+        api.verify_one(problems[i], sols[i], spec.precision)
         per[problems[i].kind.name].append(time.perf_counter() - t0)
     print("high-precision verification per design, one process (400 random designs):")
     for kind, xs in sorted(per.items()):

@@ -46,14 +46,14 @@ def _tset(text: str, name: str, folder: Path):
     path.write_text(text, encoding="utf-8")
     spec = load_spec(path)
     problems = grid.expand(spec)
-    unchecked = CrossCheck(True, 0.0, 0.0, 0.0, spec.digits)  # the writers print the summary
+    unchecked = CrossCheck(True, 0.0, 0.0, 0.0, spec.precision)  # the writers print the summary
     designs = [replace(api.from_fast(p, s), check=unchecked)
                for p, s in zip(problems, api.fast_solve(problems))]
     rows = tuple(B.derive(d, spec) for d in designs)
     t0 = time.perf_counter()
     oc = B.oc_build.compute(spec, rows)
     t_oc = time.perf_counter() - t0
-    tset = B.TableSet(spec, rows, B.summarise([], spec.digits), "", oc)
+    tset = B.TableSet(spec, rows, B.summarise([], spec.precision), "", oc)
     return tset, t_oc
 
 

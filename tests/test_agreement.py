@@ -66,7 +66,7 @@ def test_solvers_agree_on_thousands_of_random_designs():
     bad = []
     for p, sol in zip(problems, sols):
         d = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                          value=p.value, dispersion=p.dispersion, digits=50)
+                          value=p.value, dispersion=p.dispersion, precision=50)
         cc = compare(p.kind.name, p.alpha, sol, d, 50)
         worst_phi = max(worst_phi, cc.max_phi_diff)
         worst_size = max(worst_size, cc.fast_size_error)

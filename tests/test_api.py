@@ -22,7 +22,7 @@ def test_design_fields_and_types(band):
     assert type(band.c1) is int and type(band.c2) is int
     assert type(band.gamma1) is float and type(band.gamma2) is float
     assert 0 <= band.gamma1 < 1 and 0 <= band.gamma2 < 1
-    assert band.verified and band.digits == 50
+    assert band.verified and band.precision == 50
     assert band.points == (2.0, 2.5) and len(band.sizes) == 2
     assert band.size_low == pytest.approx(0.05, abs=1e-15)
     assert band.family == "poisson" and band.kind == "band" and band.n == 25

@@ -27,19 +27,19 @@ def test_band_every_branch(band):
     c1, c2 = band.c1, band.c2
     t1, t2 = band.thresholds(4)
     assert (c1, c2) == (39, 76) and (t1, t2) == (1339, 6505)
-    below = decide(band, c1 - 5, digits="0000")
-    assert below.reject and below.digits is None and "below c1" in below.region
-    at_c1_low = decide(band, c1, digits=f"{t1 - 1:04d}")
-    assert at_c1_low.reject and at_c1_low.digits == "1338" and at_c1_low.threshold == t1
-    at_c1_high = decide(band, c1, digits=f"{t1:04d}")  # equal to t: not below, accept
+    below = decide(band, c1 - 5, digits_read="0000")
+    assert below.reject and below.digits_read is None and "below c1" in below.region
+    at_c1_low = decide(band, c1, digits_read=f"{t1 - 1:04d}")
+    assert at_c1_low.reject and at_c1_low.digits_read == "1338" and at_c1_low.threshold == t1
+    at_c1_high = decide(band, c1, digits_read=f"{t1:04d}")  # equal to t: not below, accept
     assert not at_c1_high.reject and at_c1_high.digits_source == READ
-    assert not decide(band, c1, digits="4821").reject
-    between = decide(band, (c1 + c2) // 2, digits="0000")
-    assert not between.reject and between.digits is None and "between" in between.region
-    assert decide(band, c2, digits=f"{t2 - 1}").reject
-    assert not decide(band, c2, digits=f"{t2}").reject
+    assert not decide(band, c1, digits_read="4821").reject
+    between = decide(band, (c1 + c2) // 2, digits_read="0000")
+    assert not between.reject and between.digits_read is None and "between" in between.region
+    assert decide(band, c2, digits_read=f"{t2 - 1}").reject
+    assert not decide(band, c2, digits_read=f"{t2}").reject
     above = decide(band, c2 + 1)
-    assert above.reject and above.digits is None and "above c2" in above.region
+    assert above.reject and above.digits_read is None and "above c2" in above.region
     assert "above the band (rate per unit > 2.5)" in above.conclusion
     assert above.side == "above" and decide(band, c1 - 1).side == "below"
 
@@ -52,18 +52,18 @@ def test_equivalence_is_reversed(equiv):
     assert not decide(equiv, c1 - 1).reject and not decide(equiv, c2 + 1).reject
     assert "equivalence not shown" in decide(equiv, c2 + 1).conclusion
     if t1 > 0:
-        assert decide(equiv, c1, digits=f"{t1 - 1:03d}").reject
-    assert not decide(equiv, c1, digits=f"{t1:03d}").reject
+        assert decide(equiv, c1, digits_read=f"{t1 - 1:03d}").reject
+    assert not decide(equiv, c1, digits_read=f"{t1:03d}").reject
     if t2 > 0:
-        assert decide(equiv, c2, digits=f"{t2 - 1:03d}").reject
-    assert not decide(equiv, c2, digits=f"{t2:03d}").reject
+        assert decide(equiv, c2, digits_read=f"{t2 - 1:03d}").reject
+    assert not decide(equiv, c2, digits_read=f"{t2:03d}").reject
 
 
 def test_one_sided_kinds():
     up = exactband.design("binomial", "upper", n=80, value=0.05, alpha=0.05)
     assert decide(up, up.c2 + 1).reject and not decide(up, up.c2 - 1).reject
     t = up.thresholds(3)[1]
-    assert decide(up, up.c2, digits=f"{max(t - 1, 0):03d}").reject == (t > 0)
+    assert decide(up, up.c2, digits_read=f"{max(t - 1, 0):03d}").reject == (t > 0)
     lo = exactband.design("poisson", "lower", n=10, value=3, alpha=0.05)
     assert decide(lo, lo.c1 - 1).reject and not decide(lo, lo.c1 + 1).reject
     assert "below the value (rate per unit < 3)" in decide(lo, 0).conclusion
@@ -73,14 +73,14 @@ def test_digit_rule_rejects_exactly_t_of_the_10_to_d_digit_strings(band):
     # every 3-digit string in turn: the rule rejects for exactly t = floor(gamma * 1000)
     # of them, i.e. with probability t / 10**3 <= gamma (common practice of digit tables)
     t1 = band.thresholds(3)[0]
-    hits = sum(decide(band, band.c1, digits=f"{k:03d}").reject for k in range(1000))
+    hits = sum(decide(band, band.c1, digits_read=f"{k:03d}").reject for k in range(1000))
     assert hits == t1 == 133
 
 
 def test_conservative_never_rejects_at_a_cutoff(band):
     for y in (band.c1, band.c2):
-        d = decide(band, y, rule="conservative", digits="0000")
-        assert not d.reject and d.digits is None and d.randomization_point
+        d = decide(band, y, rule="conservative", digits_read="0000")
+        assert not d.reject and d.digits_read is None and d.randomization_point
     assert decide(band, band.c1 - 1, rule="conservative").reject
 
 
@@ -94,20 +94,20 @@ def test_drawn_digits_come_from_secrets_and_are_printed(band, monkeypatch):
     monkeypatch.setattr(decide_module.secrets, "randbelow", fake)
     d = decide(band, band.c1)
     # drawn digits: the one default of tables, power and plan (3)
-    assert calls == [10 ** 3] and d.digits == "007" and d.digits_source == DRAWN
+    assert calls == [10 ** 3] and d.digits_read == "007" and d.digits_source == DRAWN
     assert d.reject  # 7 < 133
     assert "007" in d.describe()
     d3 = decide(band, band.c2, random_digits=3)
-    assert calls[-1] == 1000 and d3.digits == "007"
+    assert calls[-1] == 1000 and d3.digits_read == "007"
 
 
 def test_bad_input_is_one_line(band):
     binom = exactband.design("binomial", "upper", n=20, value=0.1, alpha=0.05)
     cases = [(band, dict(y=-1), "y"), (band, dict(y=2.5), "y"), (band, dict(y="ten"), "y"),
-             (binom, dict(y=21), "y"), (band, dict(y=39, digits="48a1"), "digits"),
-             (band, dict(y=39, digits=" "), "digits"), (band, dict(y=39, digits="-12"), "digits"),
-             (band, dict(y=39, digits="482", random_digits=4), "digits"),
-             (band, dict(y=39, digits="1234567890"), "digits"),
+             (binom, dict(y=21), "y"), (band, dict(y=39, digits_read="48a1"), "digits-read"),
+             (band, dict(y=39, digits_read=" "), "digits-read"), (band, dict(y=39, digits_read="-12"), "digits-read"),
+             (band, dict(y=39, digits_read="482", random_digits=4), "digits-read"),
+             (band, dict(y=39, digits_read="1234567890"), "digits-read"),
              (band, dict(y=39, random_digits=0), "random-digits"),
              (band, dict(y=39, rule="lenient"), "rule")]
     for des, kw, field in cases:
@@ -152,11 +152,11 @@ def test_table_row_by_number_and_by_options(table, band):
     assert tr.random_digits == 3  # inferred from the printed thresholds
     tr2 = table_rule(table, kind="band", n="25", alpha="0.05")
     assert tr2.row == 1
-    dec = decide(tr.design, band.c1, digits="132", random_digits=tr.random_digits,
+    dec = decide(tr.design, band.c1, digits_read="132", random_digits=tr.random_digits,
                  thresholds=tr.thresholds)
     assert dec.reject and dec.threshold == 133
     with pytest.raises(DecideError, match="exactly 3"):
-        decide(tr.design, band.c1, digits="1320", random_digits=tr.random_digits,
+        decide(tr.design, band.c1, digits_read="1320", random_digits=tr.random_digits,
                thresholds=tr.thresholds)
 
 
@@ -169,7 +169,7 @@ def test_table_thresholds_are_used_as_printed(tmp_path, band):
         csv.writer(fh).writerows(rows)
     tr = table_rule(p, 1)
     assert tr.thresholds[0] == 12 and tr.random_digits == 2
-    assert not decide(tr.design, band.c1, digits="12", random_digits=2,
+    assert not decide(tr.design, band.c1, digits_read="12", random_digits=2,
                       thresholds=tr.thresholds).reject
     rows[1][COLUMNS.index("threshold1")] = "40"  # far off: refused
     with open(p, "w", newline="", encoding="utf-8") as fh:
@@ -206,7 +206,7 @@ def test_cli_decide_text_and_json(capsys, table):
     assert "REJECT H0" in out and "DO NOT" not in out and "1338" in out
     assert main(["decide", *BAND, "--y", "39", "--digits", "4821", "--json"]) == 0
     js = json.loads(capsys.readouterr().out)
-    assert js["digits"] == "4821" and js["reject"] is False and js["threshold"] == 1339
+    assert js["digits_read"] == "4821" and js["reject"] is False and js["threshold"] == 1339
     assert main(["decide", "--table", str(table), "--row", "2", "--y", "0", "--json"]) == 0
     js = json.loads(capsys.readouterr().out)
     assert js["inputs"]["kind"] == "equivalence" and js["reject"] is False
@@ -246,6 +246,6 @@ def test_tails_meeting_at_one_point():
     prob = make_problem("poisson", "band", n=1, alpha=0.05, low=2, high=2.5)
     d = Design(prob, 3, 0.2, 3, 0.3, ())
     assert d.thresholds(3) == (200, 300)
-    assert decide(d, 3, digits="499").reject and not decide(d, 3, digits="500").reject
-    assert "c1 = c2 = 3" in decide(d, 3, digits="500").region
+    assert decide(d, 3, digits_read="499").reject and not decide(d, 3, digits_read="500").reject
+    assert "c1 = c2 = 3" in decide(d, 3, digits_read="500").region
     assert decide(d, 2).reject and decide(d, 4).reject

@@ -62,10 +62,10 @@ def test_bad_input_gives_one_clear_line(change, field, text):
     assert text in msg, msg
 
 
-@pytest.mark.parametrize("digits", [0, 5, 19, 1001, 50.5, "many", True])
-def test_bad_digits(digits):
-    with pytest.raises(DesignError, match="invalid digits"):
-        exactband.design("poisson", "upper", n=3, value=1, alpha=0.05, digits=digits)
+@pytest.mark.parametrize("precision", [0, 5, 19, 1001, 50.5, "many", True])
+def test_bad_precision(precision):
+    with pytest.raises(DesignError, match="invalid precision"):
+        exactband.design("poisson", "upper", n=3, value=1, alpha=0.05, precision=precision)
 
 
 def test_batch_reports_the_bad_row():

@@ -16,11 +16,11 @@ BAND = ["--family", "poisson", "--kind", "band", "--low", "2", "--high", "2.5",
 def test_power_csv_and_json(capsys):
     assert main(["power", *BAND, "--n", "25", "--theta", "1.6,2,2.5,3"]) == 0
     f = pd.read_csv(io.StringIO(capsys.readouterr().out))
-    assert list(f.columns) == ["theta", "in_null", "power_randomized", "power_conservative",
-                               "power_digits", "oc_randomized", "oc_conservative", "oc_digits"]
+    assert list(f.columns) == ["theta", "in_null", "power_randomised", "power_conservative",
+                               "power_digits", "oc_randomised", "oc_conservative", "oc_digits"]
     assert f.in_null.tolist() == [False, True, True, False]
     d = exactband.design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
-    assert f.power_randomized.tolist() == [float(x) for x in d.power([1.6, 2, 2.5, 3])]
+    assert f.power_randomised.tolist() == [float(x) for x in d.power([1.6, 2, 2.5, 3])]
     assert main(["power", *BAND, "--n", "25", "--theta-range", "1:4", "--points", "7",
                  "--json", "--random-digits", "2"]) == 0
     js = json.loads(capsys.readouterr().out)
@@ -34,7 +34,7 @@ def test_power_default_range_and_files(tmp_path, capsys):
     assert main(["power", *BAND, "--n", "25", "--out", str(out), "--plot", str(png)]) == 0
     assert capsys.readouterr().out == ""
     f = pd.read_csv(out)
-    assert len(f) >= 201 and f.power_randomized.iloc[0] > 0.99 and f.power_randomized.iloc[-1] > 0.99
+    assert len(f) >= 201 and f.power_randomised.iloc[0] > 0.99 and f.power_randomised.iloc[-1] > 0.99
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert main(["power", *BAND, "--n", "25", "--plot", str(svg), "--curve", "oc"]) == 0
     first = svg.read_bytes()
@@ -77,7 +77,7 @@ def test_plan_text_json_and_plot(tmp_path, capsys):
     assert main(["plan", *BAND, "--alternatives", "1.6,3.0", "--target", "0.9", "--json",
                  "--no-verify"]) == 0
     js = json.loads(capsys.readouterr().out)
-    assert js["n"] == 97 and js["n_from"] == 97 and js["rule"] == "randomized"
+    assert js["n"] == 97 and js["n_from"] == 97 and js["rule"] == "randomised"
     assert [p["alternative"] for p in js["power"]] == [1.6, 3.0]
     assert min(p["power"] for p in js["power"]) >= 0.9
     assert js["design"]["c1"] is not None

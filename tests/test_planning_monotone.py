@@ -68,7 +68,7 @@ def cases(draw):
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(cases())
-def test_randomized_power_is_non_decreasing_in_n(case):
+def test_randomised_power_is_non_decreasing_in_n(case):
     fam, kind, alpha, hyp, disp, n, step, alt = case
     assert not K.in_null(kind, alt, hyp.get("low"), hyp.get("high"), hyp.get("value"))
     ns = [n, n + step, n + 2 * step]

@@ -44,7 +44,7 @@ def test_power_is_alpha_at_the_constraint_points(designs):
         for point in d.points:
             assert abs(d.power(point) - d.alpha) <= 1e-12, (d.kind, d.family, point)
         f = operating_characteristics(d, list(d.points))
-        assert np.all(np.abs(f.power_randomized - d.alpha) <= 1e-12)
+        assert np.all(np.abs(f.power_randomised - d.alpha) <= 1e-12)
 
 
 def test_unbiased_and_level_alpha(designs):
@@ -55,18 +55,18 @@ def test_unbiased_and_level_alpha(designs):
         f = operating_characteristics(d, points=301)
         null = f.in_null.to_numpy()
         eps = 1e-12
-        assert np.all(f.power_randomized[null] <= d.alpha + eps), d.kind
-        assert np.all(f.power_randomized[~null] >= d.alpha - eps), d.kind
+        assert np.all(f.power_randomised[null] <= d.alpha + eps), d.kind
+        assert np.all(f.power_randomised[~null] >= d.alpha - eps), d.kind
         for rule in ("conservative", "digits"):
             assert np.all(f[f"power_{rule}"][null] <= d.alpha + eps), (d.kind, rule)
         # the rules are ordered pointwise: conservative <= digits <= randomised
         assert np.all(f.power_conservative <= f.power_digits + eps)
-        assert np.all(f.power_digits <= f.power_randomized + eps)
+        assert np.all(f.power_digits <= f.power_randomised + eps)
 
 
 def test_oc_is_one_minus_power(designs):
     f = operating_characteristics(designs[0])
-    for rule in ("randomized", "conservative", "digits"):
+    for rule in ("randomised", "conservative", "digits"):
         assert np.array_equal(f[f"oc_{rule}"].to_numpy(), 1.0 - f[f"power_{rule}"].to_numpy())
     assert np.allclose(designs[0].oc([1.5, 3]), 1.0 - designs[0].power([1.5, 3]), atol=0)
 
@@ -166,7 +166,7 @@ def test_power_sheet_for_the_spreadsheet(designs):
     assert len(sheet) == 6
     row = sheet.iloc[1]
     assert row.theta == 2.0 and bool(row.in_null)
-    assert row.power_randomized == pytest.approx(0.05, abs=1e-12)
+    assert row.power_randomised == pytest.approx(0.05, abs=1e-12)
 
 
 def test_bad_thetas_are_one_line_errors(designs):

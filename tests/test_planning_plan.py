@@ -26,7 +26,7 @@ def brute_force(fam, kind, hyp, disp, alts, target, step, count, digits=3):
     for k in range(1, count + 1):
         n = step * k
         d = exactband.design(fam, kind, n=n, alpha=0.05, dispersion=disp, verify=False, **hyp)
-        rules = {"randomized": d, "conservative": d.nonrandomized(),
+        rules = {"randomised": d, "conservative": d.nonrandomized(),
                  "digits": d.digit_rule(digits)}
         rows.append((n, {r: float(np.min(np.atleast_1d(x.power(alts)))) for r, x in
                          rules.items()}))
@@ -44,7 +44,7 @@ def first_and_from(rows, rule, target):
 def test_plan_matches_brute_force(case):
     fam, kind, hyp, disp, alts, target, step, count = case
     rows = brute_force(fam, kind, hyp, disp, alts, target, step, count)
-    for rule in ("randomized", "conservative", "digits"):
+    for rule in ("randomised", "conservative", "digits"):
         r = plan(fam, kind, alpha=0.05, alternatives=alts, target=target, dispersion=disp,
                  rule=rule, step=step, verify=False, **hyp)
         first, frm = first_and_from(rows, rule, target)
@@ -56,7 +56,7 @@ def test_plan_matches_brute_force(case):
         assert min(r.power) >= target
         if r.power_below is not None:
             assert min(r.power_below) < target
-        if rule == "randomized":
+        if rule == "randomised":
             assert r.n_from == r.n
 
 
@@ -66,18 +66,18 @@ def test_conservative_power_is_saw_toothed():
     f = power_against_n(plan("poisson", "band", alpha=0.05, low=2, high=2.5, alternatives=[1.6],
                              target=0.9, rule="conservative", verify=False), ns=range(45, 70))
     assert np.any(np.diff(f.power_conservative.to_numpy()) < -1e-3)
-    assert np.all(np.diff(f.power_randomized.to_numpy()) >= -1e-12)
+    assert np.all(np.diff(f.power_randomised.to_numpy()) >= -1e-12)
 
 
 def test_verified_plan_reports_verified_designs():
     r = plan("poisson", "band", alpha=0.05, low=2, high=2.5, alternatives=[1.6, 3.0],
              target=0.9, rule="conservative")
     assert r.design.verified and r.design_from.verified
-    assert r.n_randomized <= r.n <= r.n_from <= r.n_certified
+    assert r.n_randomised <= r.n <= r.n_from <= r.n_certified
     assert r.design.n == r.n
     d = exactband.design("poisson", "band", n=r.n, alpha=0.05, low=2, high=2.5)
     assert np.allclose(r.power, d.nonrandomized().power([1.6, 3.0]), atol=1e-15)
-    assert np.allclose(r.power_randomized, d.power([1.6, 3.0]), atol=1e-15)
+    assert np.allclose(r.power_randomised, d.power([1.6, 3.0]), atol=1e-15)
     assert r.to_dict()["n"] == r.n
 
 

@@ -47,7 +47,7 @@ def test_fast_solver_size_is_exact_at_constraint_points(p):
 @given(problems(max_mean=800.0))
 def test_precise_solver_size_is_exact_at_constraint_points(p):
     d = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                      value=p.value, dispersion=p.dispersion, digits=50)
+                      value=p.value, dispersion=p.dispersion, precision=50)
     with mp.workdps(d.dps):
         from exactband.mpnum import dec
 

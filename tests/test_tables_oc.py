@@ -72,7 +72,7 @@ BAD = [
     ("n-not-list", spec_text("n = 10"), ["invalid oc.n = 10", "list"]),
     ("n-per-chart", spec_text("n_per_chart = 7"), ["invalid oc.n_per_chart = 7", "1 to 6"]),
     ("rules-unknown", spec_text('rules = ["exact"]'), ["invalid oc.rules[0] = exact",
-                                                       "randomized, conservative, digits"]),
+                                                       "randomised, conservative, digits"]),
     ("rules-repeat", spec_text('rules = ["conservative", "Conservative"]'),
      ["invalid oc.rules[1] = Conservative", "repeats oc.rules[0]"]),
     ("rules-empty", spec_text("rules = []"), ["invalid oc.rules = []", "a list of rules"]),
@@ -104,15 +104,15 @@ def test_oc_defaults_and_normal_form(tmp_path):
     spec = load_spec(write_spec(tmp_path, "ok", spec_text("thetas = [3.0, 1.0]")))
     oc = spec.oc
     assert oc.thetas == (1.0, 3.0) and oc.curves and oc.n == spec.n and oc.n_per_chart == 4
-    assert oc.rules == ("randomized", "conservative")
+    assert oc.rules == ("randomised", "conservative")
     assert spec.to_dict()["oc"] == {"thetas": [1.0, 3.0], "curves": True, "n": [10, 20],
-                                    "n_per_chart": 4, "rules": ["randomized", "conservative"]}
+                                    "n_per_chart": 4, "rules": ["randomised", "conservative"]}
     # no conservative rule in the spec: only the randomised rule is drawn by default
     text = spec_text("", BASE + "conservative = false\n")
-    assert load_spec(write_spec(tmp_path, "nocons", text)).oc.rules == ("randomized",)
+    assert load_spec(write_spec(tmp_path, "nocons", text)).oc.rules == ("randomised",)
     # British spelling accepted, stored in the library's spelling
     text = spec_text('rules = ["Randomised", "digits"]')
-    assert load_spec(write_spec(tmp_path, "brit", text)).oc.rules == ("randomized", "digits")
+    assert load_spec(write_spec(tmp_path, "brit", text)).oc.rules == ("randomised", "digits")
     assert load_spec(write_spec(tmp_path, "none", BASE)).oc is None
     assert "oc" not in load_spec(write_spec(tmp_path, "none", BASE)).to_dict()
 
@@ -203,7 +203,7 @@ def test_power_sheet_against_design_power_and_scipy(tset):
     assert tuple(thetas) == spec.oc.thetas and thetas == sorted(thetas)
     data = pd.read_csv(folder / f"{name}.csv")
     d = spec.random_digits
-    labels = {"randomized": "randomised", "digits": f"field, {d} digits",
+    labels = {"randomised": "randomised", "digits": f"field, {d} digits",
               "conservative": "conservative"}
     assert len(cells) == 3 * len(data)
     worst = 0.0
@@ -315,9 +315,9 @@ def test_field_rule_curve_within_bound(tmp_path):
         for chart in group.charts:
             assert [x.n for x in chart.designs] == [10, 40]
             for frame in chart.frames:
-                gap = np.abs(frame["power_digits"] - frame["power_randomized"]).max()
+                gap = np.abs(frame["power_digits"] - frame["power_randomised"]).max()
                 assert gap < bound
-                assert np.allclose(frame["oc_randomized"], 1 - frame["power_randomized"])
+                assert np.allclose(frame["oc_randomised"], 1 - frame["power_randomised"])
 
 
 def test_check_accepts_an_oc_set(root, capsys):

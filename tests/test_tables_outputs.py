@@ -161,7 +161,7 @@ def test_random_sample_reverified_with_precise_solver(tset):
               for k in ("low", "high", "value", "dispersion")}
         n = int(row["n"]) if row["family"] != "poisson" else float(row["n"])
         pd_ = precise.solve(get_family(row["family"]), row["kind"], n, float(row["alpha"]),
-                            digits=50, **kw)
+                            precision=50, **kw)
         theirs = (pd_.c1, None if pd_.gamma1 is None else float(pd_.gamma1), pd_.c2,
                   None if pd_.gamma2 is None else float(pd_.gamma2))
         ours = tuple(None if pd.isna(row[k]) else (int(row[k]) if k[0] == "c" else float(row[k]))
@@ -279,6 +279,6 @@ def test_manifest_hashes(tset):
                                  f"{name}.pdf"}
     for fname, digest in man["files"].items():
         assert hashlib.sha256((folder / fname).read_bytes()).hexdigest() == digest
-    assert man["versions"]["exactband"] and man["solver"]["digits"] == man["spec"]["digits"]
+    assert man["versions"]["exactband"] and man["solver"]["precision"] == man["spec"]["precision"]
     assert man["cross_check"]["max_phi_difference"] <= man["cross_check"]["phi_tolerance"]
     assert not list(folder.glob(".*"))  # no cache or temporary file left behind

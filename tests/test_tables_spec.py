@@ -65,7 +65,7 @@ BAD = [
     ("gamma-decimals", toml(gamma_decimals="0"), ["invalid gamma_decimals = 0", "1 to 10"]),
     ("conservative", toml(conservative='"yes"'), ["invalid conservative = yes", "true or false"]),
     ("paper", toml(paper='"A3"'), ["invalid paper = A3", "A4, Letter"]),
-    ("digits", toml(digits="10"), ["invalid digits = 10", "20 to 1000"]),
+    ("precision", toml(precision="10"), ["invalid precision = 10", "20 to 1000"]),
     ("seed", toml(random_seed="-1"), ["invalid random_seed = -1"]),
     ("grid-large", toml(n="{from = 1, to = 30000, step = 1}"),
      ["invalid grid size = 30000", "--allow-large"]),
@@ -144,7 +144,7 @@ def test_valid_spec_is_normalised(tmp_path):
     assert spec.n == (0.5, 0.75, 1.0, 1.25, 1.5)  # decimal steps, no drift
     assert spec.paper == "Letter" and spec.kinds == ("band", "upper")
     assert spec.values == (2.0, 3.5) and spec.bands == ((2.0, 2.5),)
-    assert (spec.gamma_decimals, spec.random_digits, spec.conservative, spec.digits) == (4, 3,
+    assert (spec.gamma_decimals, spec.random_digits, spec.conservative, spec.precision) == (4, 3,
                                                                                        True, 50)
     assert spec.size() == 5 * (1 + 2)
     assert len(spec.sha256) == 64 and spec.name == "fine"

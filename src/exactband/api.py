@@ -18,21 +18,37 @@ from .families.mptable import TableTooLarge
 from .params import Problem, make_problem
 from .solvers import fast, precise
 
-MIN_DIGITS, MAX_DIGITS = 20, 1000
+MIN_PRECISION, MAX_PRECISION = 20, 1000
+DEFAULT_PRECISION = 50  # significant digits of the verifying mpmath solver
 DECIMALS = 30  # significant digits of the gammas given as decimal strings
 
 
-def check_digits(digits) -> int:
-    allowed = f"digits must be a whole number from {MIN_DIGITS} to {MAX_DIGITS}"
-    if isinstance(digits, bool):
-        raise invalid("digits", digits, allowed)
+def check_precision(precision) -> int:
+    """The verifying solver's significant digits: a whole number in [MIN, MAX]_PRECISION."""
+    allowed = f"a whole number of significant digits from {MIN_PRECISION} to {MAX_PRECISION}"
+    if isinstance(precision, bool):
+        raise invalid("precision", precision, allowed)
     try:
-        d = float(digits)
-    except (TypeError, ValueError):
-        raise invalid("digits", digits, allowed) from None
-    if not math.isfinite(d) or d != int(d) or not MIN_DIGITS <= d <= MAX_DIGITS:
-        raise invalid("digits", digits, allowed)
+        d = float(precision)
+    except (TypeError, ValueError, OverflowError):
+        raise invalid("precision", precision, allowed) from None
+    if not math.isfinite(d) or d != int(d) or not MIN_PRECISION <= d <= MAX_PRECISION:
+        raise invalid("precision", precision, allowed)
     return int(d)
+
+
+def precision_alias(precision, digits, where: str = "design"):
+    """``digits=`` is the old name of ``precision=``: accepted with a DeprecationWarning."""
+    if digits is None:
+        return precision
+    import warnings
+
+    warnings.warn(f"{where}(digits=...) is deprecated; use precision=...", DeprecationWarning,
+                  stacklevel=3)
+    if precision is not None and precision != digits:
+        raise DesignError(f"invalid digits = {digits}: give precision only "
+                          f"(precision = {precision} was given too)")
+    return digits
 
 
 def label(p: Problem) -> str:
@@ -89,16 +105,16 @@ def from_fast(p: Problem, sol: tuple) -> Design:
     return Design(p, c1, g1, c2, g2, sizes)
 
 
-def verify_one(p: Problem, sol: tuple, digits: int) -> Design:
+def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
     try:
         pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                           value=p.value, dispersion=p.dispersion, digits=digits)
+                           value=p.value, dispersion=p.dispersion, precision=precision)
     except TableTooLarge as e:
         raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
                           f"high-precision check ({e} per probability table); use a smaller "
                           "n or the unverified fast path") from None
-    cc = compare(p.kind.name, p.alpha, sol, pd, digits)
+    cc = compare(p.kind.name, p.alpha, sol, pd, precision)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
     with mp.workdps(pd.dps):
@@ -111,12 +127,12 @@ def verify_one(p: Problem, sol: tuple, digits: int) -> Design:
         d1 = "0"
     if g2n != g2:
         d2 = "0"
-    return Design(p, c1, g1n, c2, g2n, sizes, verified=True, digits=digits,
+    return Design(p, c1, g1n, c2, g2n, sizes, verified=True, precision=precision,
                   gamma1_decimal=d1, gamma2_decimal=d2, check=cc)
 
 
 def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersion=None,
-           digits=50, verify=True) -> Design:
+           precision=None, verify=True, digits=None) -> Design:
     """Exact optimal test for one problem.
 
     Parameters
@@ -127,8 +143,9 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
     alpha : size, 0 < alpha < 1
     low, high : band ends (band, equivalence); value : (upper, lower, point)
     dispersion : known k > 0 (negative-binomial only)
-    digits : significant digits of the verifying mpmath solver (default 50)
+    precision : significant digits of the verifying mpmath solver (default 50)
     verify : compute with both solvers and require agreement (default True)
+    digits : deprecated alias of ``precision``
 
     Returns
     -------
@@ -147,7 +164,8 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
     """
     p = make_problem(family, kind, n=n, alpha=alpha, low=low, high=high, value=value,
                      dispersion=dispersion)
-    d = check_digits(digits)
+    precision = precision_alias(precision, digits)
+    d = check_precision(DEFAULT_PRECISION if precision is None else precision)
     sol = fast_solve([p])[0]
     if not verify:
         return from_fast(p, sol)
@@ -155,15 +173,15 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
 
 
 def _verify_task(args):
-    p, sol, digits = args
-    return verify_one(p, sol, digits)
+    p, sol, precision = args
+    return verify_one(p, sol, precision)
 
 
-def verify_many(problems, sols, digits, workers=None, progress=None) -> list:
+def verify_many(problems, sols, precision, workers=None, progress=None) -> list:
     """verify_one over many problems, in order, on ``workers`` processes (None: all cores)."""
     from .parallel import pmap
 
-    return pmap(_verify_task, [(p, s, digits) for p, s in zip(problems, sols)], workers,
+    return pmap(_verify_task, [(p, s, precision) for p, s in zip(problems, sols)], workers,
                 progress)
 
 

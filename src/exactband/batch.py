@@ -98,7 +98,7 @@ def _explain(frame, pos):
     raise DesignError(f"row {frame.index[pos]}: invalid row: check its values")  # pragma: no cover
 
 
-def designs(frame, *, verify=True, digits=50, workers=None):
+def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     """Batch form of ``design`` over a DataFrame.
 
     ``frame`` has columns family, kind, n, alpha and, where used, low, high,
@@ -106,7 +106,8 @@ def designs(frame, *, verify=True, digits=50, workers=None):
     c1, gamma1, c2, gamma2 added (c1/c2 as nullable integers).  ``verify=False``
     is the pure fast path; with ``verify=True`` every row is also solved in high
     precision (on ``workers`` processes, default all cores) and must agree.
-    A bad row raises DesignError naming the row.
+    A bad row raises DesignError naming the row.  ``precision`` is the verifying
+    solver's significant digits (default 50; ``digits`` is its deprecated alias).
     """
     import pandas as pd
 
@@ -117,7 +118,8 @@ def designs(frame, *, verify=True, digits=50, workers=None):
     if missing:
         raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
                           f"expected columns {', '.join(COLUMNS)}")
-    d = api.check_digits(digits)
+    precision = api.precision_alias(precision, digits, "designs")
+    d = api.check_precision(api.DEFAULT_PRECISION if precision is None else precision)
     size = len(frame)
     fams, knds = _text(frame, "family"), _text(frame, "kind")
     cols, unreadable = {}, np.zeros(size, dtype=bool)

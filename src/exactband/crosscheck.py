@@ -40,7 +40,7 @@ class CrossCheck:
     max_phi_diff: float  # max over the support of |phi_fast - phi_precise|
     fast_size_error: float  # max |E phi_fast - alpha| at the constraint points (precise)
     precise_size_error: float  # max |E phi_precise - alpha| (precise)
-    digits: int
+    precision: int
     reason: str = ""
 
     def summary(self) -> str:
@@ -85,7 +85,7 @@ def sizes_with_tables(kind: str, design: tuple, tables, dps: int) -> list:
     return out
 
 
-def compare(kind: str, alpha, fast: tuple, precise, digits: int) -> CrossCheck:
+def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossCheck:
     """Check a fast design against a precise one (see the module policy)."""
     from .mpnum import dec
 
@@ -101,4 +101,4 @@ def compare(kind: str, alpha, fast: tuple, precise, digits: int) -> CrossCheck:
     if not ok:
         reason = (f"max |phi difference| {dist:.3e} (tolerance {PHI_TOL:g}), "
                   f"fast-solver size error {ferr:.3e} (tolerance {SIZE_TOL:g})")
-    return CrossCheck(ok, dist, ferr, perr, digits, reason)
+    return CrossCheck(ok, dist, ferr, perr, precision, reason)

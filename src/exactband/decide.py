@@ -15,11 +15,12 @@ import math
 import secrets
 from dataclasses import dataclass
 
-from .design import Design, _num
+from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .errors import ExactbandError, invalid
-from .oc import DEFAULT_RANDOM_DIGITS
 from .words import gamma_text, side_words
-MODES = ("randomized", "conservative")
+
+MODES = ("randomised", "conservative")
+MODE_ALIASES = {"randomized": "randomised"}  # accepted spelling
 DRAWN = "drawn from the operating system's cryptographic generator"
 READ = "read by the inspector"
 
@@ -44,7 +45,7 @@ class Decision:
     gamma: float | None
     threshold: int | None
     random_digits: int | None
-    digits: str | None  # the digits used (None when none were needed)
+    digits_read: str | None  # the random digits used (None when none were needed)
     digits_source: str | None
     reject: bool
     reason: str
@@ -63,11 +64,11 @@ class Decision:
     def describe(self) -> str:
         d = self.design
         lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {_num(d.n)}, "
-                 f"alpha = {_num(d.alpha)}; rule: {self.rule.replace('randomized', 'randomised')}.",
+                 f"alpha = {_num(d.alpha)}; rule: {self.rule}.",
                  f"Observed Y = {self.y}: {self.region}.", self.reason]
-        if self.digits is not None:
-            lines.append(f"Random digits used: {self.digits} ({self.digits_source}); "
-                         f"as a number {int(self.digits)} "
+        if self.digits_read is not None:
+            lines.append(f"Random digits used: {self.digits_read} ({self.digits_source}); "
+                         f"as a number {int(self.digits_read)} "
                          f"{'<' if self.reject else '>='} threshold {self.threshold}.")
         else:
             lines.append("Random digits used: none (not needed for this Y).")
@@ -82,7 +83,7 @@ class Decision:
                 "gamma2": d.gamma2, "y": self.y, "rule": self.rule, "region": self.region,
                 "randomization_point": self.randomization_point, "gamma": self.gamma,
                 "random_digits": self.random_digits, "threshold": self.threshold,
-                "digits": self.digits, "digits_source": self.digits_source,
+                "digits_read": self.digits_read, "digits_source": self.digits_source,
                 "reject": self.reject, "decision": "reject H0" if self.reject else
                 "do not reject H0", "side": self.side, "side_words": self.side_words,
                 "conclusion": self.conclusion, "reason": self.reason, "notes": list(self.notes),
@@ -130,12 +131,12 @@ def check_digits_text(digits, need: int | None) -> str:
     """Random digits as typed: ASCII digits only, exactly ``need`` of them when fixed."""
     s = str(digits).strip()
     if not s or not s.isascii() or not s.isdigit():
-        raise _error("digits", digits, "only the digits 0-9, e.g. 4821")
+        raise _error("digits-read", digits, "only the digits 0-9, e.g. 482")
     if need is not None and len(s) != need:
-        raise _error("digits", digits, f"the rule reads exactly {need} random digits "
-                                       f"({len(s)} given)")
+        raise _error("digits-read", digits, f"the rule reads exactly {need} random digits "
+                                            f"({len(s)} given)")
     if len(s) > 9:
-        raise _error("digits", digits, "at most 9 random digits")
+        raise _error("digits-read", digits, "at most 9 random digits")
     return s
 
 
@@ -162,21 +163,23 @@ def _region(design: Design, y: int):
     return f"between c1 = {c1} and c2 = {c2}", None, not outside
 
 
-def decide(design: Design, y, *, rule="randomized", digits=None, random_digits=None,
-           thresholds=None) -> Decision:
+def decide(design: Design, y, *, rule="randomised", digits_read=None, random_digits=None,
+           thresholds=None, digits=None) -> Decision:
     """Decision for an observed total Y under ``design``.
 
     Parameters
     ----------
     design : Design (from ``exactband.design`` or a table row)
     y : observed total count
-    rule : "randomized" (default; randomise at the cutoffs with digits) or
-        "conservative" (never reject at a cutoff)
-    digits : the random digits the inspector read (a string such as "4821");
+    rule : "randomised" (default; randomise at the cutoffs with random digits;
+        "randomised" is accepted) or "conservative" (never reject at a cutoff)
+    digits_read : the random digits the inspector read (a string such as "482");
         None draws them from the operating system's cryptographic generator
     random_digits : d, the number of digits the rule reads (a table fixes it);
-        default len(digits), or DEFAULT_RANDOM_DIGITS (3, as tables, power and
-        plan) when drawing; a d other than 3 taken from the digits adds a note
+        default len(digits_read), or design.DEFAULT_RANDOM_DIGITS (3, as tables,
+        power and plan) when drawing; a d other than 3 taken from the digits
+        read adds a note
+    digits : deprecated alias of ``digits_read``
     thresholds : (t1, t2) as printed in a table; default floor(gamma * 10**d)
 
     Examples
@@ -184,13 +187,21 @@ def decide(design: Design, y, *, rule="randomized", digits=None, random_digits=N
     >>> import exactband
     >>> from exactband.decide import decide
     >>> d = exactband.design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
-    >>> decide(d, 39, digits="0999").reject      # t1 = floor(0.13399... * 10**4) = 1339
+    >>> decide(d, 39, digits_read="0999").reject      # t1 = floor(0.13399... * 10**4) = 1339
     True
     """
+    if digits is not None:
+        import warnings
+
+        warnings.warn("decide(digits=...) is deprecated; use digits_read=...",
+                      DeprecationWarning, stacklevel=2)
+        if digits_read is not None and digits_read != digits:
+            raise _error("digits", digits, "give digits_read only (digits is its old name)")
+        digits_read = digits
     mode = rule.strip().lower() if isinstance(rule, str) else rule
-    mode = {"randomised": "randomized"}.get(mode, mode)
+    mode = MODE_ALIASES.get(mode, mode)
     if mode not in MODES:
-        raise _error("rule", rule, "randomized or conservative")
+        raise _error("rule", rule, "randomised or conservative")
     yy = check_count(design, y)
     need = None
     if random_digits is not None:
@@ -200,12 +211,12 @@ def decide(design: Design, y, *, rule="randomized", digits=None, random_digits=N
             raise _error("random-digits", random_digits, "a whole number from 1 to 9") from None
         if str(need) != str(random_digits).strip() or not 1 <= need <= 9:
             raise _error("random-digits", random_digits, "a whole number from 1 to 9")
-    text = None if digits is None else check_digits_text(digits, need)
+    text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)
     notes = ()
     if need is None and d != DEFAULT_RANDOM_DIGITS:
         notes = (f"the rule reads {d} random digit{'s' if d > 1 else ''}, as many as were "
-                 f"given; printed tables, power and plan use {DEFAULT_RANDOM_DIGITS} unless "
+                 f"read; printed tables, power and plan use {DEFAULT_RANDOM_DIGITS} unless "
                  f"told otherwise (--random-digits).",)
     words, at, reject = _region(design, yy)
     gammas = (design.gamma1 or 0.0, design.gamma2 or 0.0)

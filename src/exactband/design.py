@@ -8,6 +8,7 @@ own test function, power and operating characteristic; it never formats tables.
 
 from __future__ import annotations
 
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -15,6 +16,8 @@ import numpy as np
 from . import kinds as K
 from .errors import DesignError
 from .params import Problem
+
+DEFAULT_RANDOM_DIGITS = 3  # random digits of the field rule: decide, tables, power, plan
 
 
 def _num(x) -> str:
@@ -48,10 +51,17 @@ class Design:
     gamma2: float | None
     sizes: tuple
     verified: bool = False
-    digits: int | None = None
+    precision: int | None = None
     gamma1_decimal: str | None = None
     gamma2_decimal: str | None = None
     check: object = field(default=None, compare=False)
+
+    @property
+    def digits(self):
+        """Deprecated name of ``precision`` (the verifying solver's significant digits)."""
+        warnings.warn("Design.digits is deprecated; use Design.precision", DeprecationWarning,
+                      stacklevel=2)
+        return self.precision
 
     # -- inputs ---------------------------------------------------------------
     @property
@@ -144,18 +154,17 @@ class Design:
         """
         return self.with_gammas(0.0, 0.0)
 
-    def thresholds(self, digits: int) -> tuple:
-        """Field randomisation thresholds t = floor(gamma * 10**digits) for (gamma1, gamma2).
+    def thresholds(self, random_digits: int = DEFAULT_RANDOM_DIGITS) -> tuple:
+        """Field randomisation thresholds t = floor(gamma * 10**d) for (gamma1, gamma2).
 
-        "If Y equals the cutoff, read ``digits`` random digits as a number and
+        "If Y equals the cutoff, read ``random_digits`` (d) random digits as a number and
         reject if it is below t."  Flooring keeps the size at or below the
         randomised rule's.  Uses the exact decimal gammas when verified, so a
         gamma such as 0.123 is never floored to 122 by binary rounding.
         """
         from decimal import ROUND_FLOOR, Decimal
 
-        if not isinstance(digits, int) or isinstance(digits, bool) or not 1 <= digits <= 9:
-            raise DesignError(f"invalid digits = {digits!r}: a whole number from 1 to 9")
+        digits = _random_digits(random_digits)
         scale = Decimal(10) ** digits
 
         def one(g, text):
@@ -177,10 +186,10 @@ class Design:
         sizes = tuple(float(base.power(t)) for t in self.points)
         return Design(self.problem, self.c1, g1, self.c2, g2, sizes)
 
-    def digit_rule(self, digits: int) -> "Design":
-        """The rule field staff apply with ``digits`` random digits: gamma = t / 10**digits."""
-        t1, t2 = self.thresholds(digits)
-        scale = 10 ** digits
+    def digit_rule(self, random_digits: int = DEFAULT_RANDOM_DIGITS) -> "Design":
+        """The rule field staff apply with d = ``random_digits`` digits: gamma = t / 10**d."""
+        t1, t2 = self.thresholds(random_digits)
+        scale = 10 ** _random_digits(random_digits)
         return self.with_gammas(None if t1 is None else t1 / scale,
                                 None if t2 is None else t2 / scale)
 
@@ -191,21 +200,19 @@ class Design:
             t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
             high=_num(self.high))
 
-    def describe(self, rule: str = "randomized", random_digits: int | None = None) -> str:
+    def describe(self, rule: str = "randomised", random_digits: int | None = None) -> str:
         """The decision rule in plain words, naming the side of H0 each rejection points to.
 
-        ``rule``: "randomized" (exact gammas, the default), "conservative" (never
-        reject at a cutoff) or "digits" (the field rule reading ``random_digits``
-        digits, default 3).
+        ``rule``: "randomised" (exact gammas, the default; "randomized" accepted),
+        "conservative" (never reject at a cutoff) or "digits" (the field rule
+        reading ``random_digits`` digits, default DEFAULT_RANDOM_DIGITS).
         """
-        from .words import RULE_NAMES, rule_lines
+        from .words import ALIASES, RULE_NAMES, rule_lines
 
-        key = {"randomised": "randomized"}.get(rule, rule)
+        key = ALIASES.get(rule, rule)
         if key not in RULE_NAMES:
             raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits")
         if key == "digits" and random_digits is None:
-            from .oc import DEFAULT_RANDOM_DIGITS
-
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
@@ -214,18 +221,18 @@ class Design:
                      f"{disp}, size alpha = {_num(self.alpha)}.")
         lines.append(self.hypothesis() + ".")
         lines.append("Y = the total count over the sample." if fam.name != "binomial"
-                     else "Y = the number of successes among the n trials.")
-        if key != "randomized":
+                     else "Y = the number of units with the attribute among the n inspected.")
+        if key != "randomised":
             lines.append({"conservative": "The conservative rule (no randomisation):",
                           "digits": f"The field rule with {random_digits} random digits:"}[key])
         lines.extend(rule_lines(self, key, random_digits))
         word = fam.theta_word
-        used = {"randomized": self, "conservative": self.nonrandomized()}.get(key)
+        used = {"randomised": self, "conservative": self.nonrandomized()}.get(key)
         used = used if used is not None else self.digit_rule(random_digits)
         sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, used.sizes))
         lines.append(f"Size (probability of rejecting H0) {sizes}.")
         if self.verified:
-            lines.append(f"Verified: the fast and the {self.digits}-digit solvers agree.")
+            lines.append(f"Verified: the fast and the {self.precision}-digit solvers agree.")
         return "\n".join(lines)
 
     def to_dict(self) -> dict:
@@ -234,5 +241,16 @@ class Design:
         out.update(c1=self.c1, gamma1=self.gamma1, c2=self.c2, gamma2=self.gamma2,
                    gamma1_decimal=self.gamma1_decimal, gamma2_decimal=self.gamma2_decimal,
                    size_low=self.size_low, size_high=self.size_high, verified=self.verified,
-                   digits=self.digits)
+                   precision=self.precision)
         return out
+
+
+def _random_digits(d) -> int:
+    """Number of random digits of a field rule: a whole number from 1 to 9."""
+    import numbers
+
+    if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
+        from .errors import show
+
+        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
+    return int(d)

@@ -33,7 +33,7 @@ class NGrid:
         self.rule = rule
         self.d = random_digits
         self.j = 1 if self.kind in ("upper", "lower") else 2
-        self.delta = {"randomized": 0.0, "conservative": 1.0,
+        self.delta = {"randomised": 0.0, "conservative": 1.0,
                       "digits": 10.0 ** -(random_digits or 0)}[rule]
         self.evaluations = 0
 
@@ -93,7 +93,7 @@ class NGrid:
 
     def rule_gammas(self, cut, rule):
         c1, g1, c2, g2 = cut
-        if rule == "randomized":
+        if rule == "randomised":
             return g1, g2
         if rule == "conservative":
             return np.zeros_like(g1), np.zeros_like(g2)
@@ -104,16 +104,16 @@ class NGrid:
         ns, cut = self.solve(ks)
         gam = self.rule_gammas(cut, rule)
         pr = np.array([self.power(ns, cut, a) for a in self.alts])
-        pw = pr if rule == "randomized" else np.array([self.power(ns, cut, a, gam)
+        pw = pr if rule == "randomised" else np.array([self.power(ns, cut, a, gam)
                                                         for a in self.alts])
         return ns, pw, pr, cut
 
-    def meets_randomized(self, ks, target):
-        _, _, pr, _ = self.powers(ks, "randomized")
+    def meets_randomised(self, ks, target):
+        _, _, pr, _ = self.powers(ks, "randomised")
         return np.all(pr >= target, axis=0)
 
     def certified(self, ks, target):
-        ns, _, pr, _ = self.powers(ks, "randomized")
+        ns, _, pr, _ = self.powers(ks, "randomised")
         bound = np.array([pr[i] - self.j * self.delta * self.modal(ns, a)
                           for i, a in enumerate(self.alts)])
         return np.all(bound >= target + CERT_MARGIN, axis=0)

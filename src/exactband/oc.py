@@ -2,7 +2,7 @@
 
 The three rules share the cutoffs of one Design:
 
-* ``randomized``: the exact UMP / UMPU test, gammas as solved;
+* ``randomised``: the exact UMP / UMPU test, gammas as solved;
 * ``conservative``: the randomisation dropped (gammas 0), size at most alpha;
 * ``digits``: the rule field staff apply with d random digits, gamma replaced by
   t / 10**d with t = floor(gamma * 10**d) (``Design.digit_rule``).
@@ -19,12 +19,11 @@ import math
 import numpy as np
 
 from . import kinds as K
-from .design import Design
+from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid
 from .families.base import as_real
 
-RULES = ("randomized", "conservative", "digits")
-DEFAULT_RANDOM_DIGITS = 3  # the table spec's default for random_digits
+RULES = ("randomised", "conservative", "digits")
 DEFAULT_POINTS = 201
 EDGE_TOL = 1e-3  # the default theta range ends where power is this close to its limit
 
@@ -53,7 +52,7 @@ def check_random_digits(d) -> int:
 
 def check_rule(rule) -> str:
     key = rule.strip().lower() if isinstance(rule, str) else rule
-    key = {"randomised": "randomized"}.get(key, key)
+    key = {"randomized": "randomised"}.get(key, key)  # accepted spelling
     if key not in RULES:
         raise _error("rule", rule, "allowed: " + ", ".join(RULES))
     return key
@@ -88,15 +87,15 @@ def check_thetas(design: Design, thetas, field: str = "theta") -> np.ndarray:
 
 
 def rule_designs(design: Design, random_digits: int = DEFAULT_RANDOM_DIGITS) -> dict:
-    """The three rules of a design as Designs: randomized, conservative, digits."""
+    """The three rules of a design as Designs: randomised, conservative, digits."""
     d = check_random_digits(random_digits)
-    return {"randomized": design, "conservative": design.nonrandomized(),
+    return {"randomised": design, "conservative": design.nonrandomized(),
             "digits": design.digit_rule(d)}
 
 
 def rule_label(rule: str, random_digits: int) -> str:
     """Plain words for a rule (legends, headers)."""
-    return {"randomized": "randomised rule (exact gammas)",
+    return {"randomised": "randomised rule (exact gammas)",
             "conservative": "conservative rule (no randomisation)",
             "digits": f"field rule ({random_digits} random digits)"}[rule]
 
@@ -212,7 +211,7 @@ def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
 # -- tables of power and OC -----------------------------------------------------
 def operating_characteristics(design: Design, theta=None, *, random_digits=DEFAULT_RANDOM_DIGITS,
                               points=DEFAULT_POINTS):
-    """Power and OC of the randomized, conservative and digit rules at each theta.
+    """Power and OC of the randomised, conservative and digit rules at each theta.
 
     Parameters
     ----------
@@ -224,8 +223,8 @@ def operating_characteristics(design: Design, theta=None, *, random_digits=DEFAU
 
     Returns
     -------
-    pandas.DataFrame with columns theta, in_null, power_randomized,
-    power_conservative, power_digits, oc_randomized, oc_conservative, oc_digits
+    pandas.DataFrame with columns theta, in_null, power_randomised,
+    power_conservative, power_digits, oc_randomised, oc_conservative, oc_digits
     (OC = 1 - power).  ``frame.attrs`` holds random_digits and the sizes of each
     rule at the constraint points.
 
@@ -235,7 +234,7 @@ def operating_characteristics(design: Design, theta=None, *, random_digits=DEFAU
     >>> from exactband.oc import operating_characteristics
     >>> d = exactband.design("poisson", "band", n=25, low=2, high=2.5, alpha=0.05)
     >>> f = operating_characteristics(d, [2.0, 3.0])
-    >>> round(float(f.power_randomized[0]), 12)
+    >>> round(float(f.power_randomised[0]), 12)
     0.05
     """
     import pandas as pd
@@ -261,7 +260,7 @@ def power_sheet(designs, thetas, *, random_digits=DEFAULT_RANDOM_DIGITS):
     For the spreadsheet sheet of power values: ``designs`` is a Design or a list
     of them (e.g. the rows of one table); ``thetas`` the values the spec states.
     Columns: family, kind, n, alpha, low, high, value, dispersion, theta, in_null,
-    power_randomized, power_conservative, power_digits.  Thetas outside a
+    power_randomised, power_conservative, power_digits.  Thetas outside a
     family's space raise PlanningError.
     """
     import pandas as pd
@@ -272,7 +271,7 @@ def power_sheet(designs, thetas, *, random_digits=DEFAULT_RANDOM_DIGITS):
     for des in designs:
         f = operating_characteristics(des, thetas, random_digits=random_digits)
         ident = des.problem.inputs()
-        f = f[["theta", "in_null", "power_randomized", "power_conservative", "power_digits"]]
+        f = f[["theta", "in_null", "power_randomised", "power_conservative", "power_digits"]]
         for pos, (key, val) in enumerate(ident.items()):
             f.insert(pos, key, [val] * len(f))
         frames.append(f)

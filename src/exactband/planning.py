@@ -65,7 +65,7 @@ class PlanResult:
     """Answer of ``plan``: n, n_from, the chosen designs and their power at each alternative.
 
     ``power`` is aligned with ``alternatives`` (the chosen rule at ``n``);
-    ``power_from`` likewise at ``n_from``; ``power_randomized`` is the randomised
+    ``power_from`` likewise at ``n_from``; ``power_randomised`` is the randomised
     rule's power at ``n``; ``power_below`` the chosen rule's power one step below
     ``n`` (None when n is the first grid point).  For the randomised rule
     ``n_from == n`` (its power is monotone in n).
@@ -89,9 +89,9 @@ class PlanResult:
     design_from: object
     power: tuple
     power_from: tuple
-    power_randomized: tuple
+    power_randomised: tuple
     power_below: tuple | None
-    n_randomized: float
+    n_randomised: float
     n_certified: float | None
     evaluations: int
     verified: bool
@@ -111,10 +111,10 @@ class PlanResult:
                        "dispersion": self.dispersion},
             "alternatives": list(self.alternatives), "target": self.target, "rule": self.rule,
             "random_digits": self.random_digits, "step": self.step,
-            "n": self.n, "n_from": self.n_from, "n_randomized": self.n_randomized,
+            "n": self.n, "n_from": self.n_from, "n_randomised": self.n_randomised,
             "n_certified": self.n_certified,
             "power": ptab(self.power), "power_from": ptab(self.power_from),
-            "power_randomized": ptab(self.power_randomized),
+            "power_randomised": ptab(self.power_randomised),
             "power_below": ptab(self.power_below),
             "evaluations": self.evaluations, "verified": self.verified,
             "notes": list(self.notes),
@@ -177,8 +177,8 @@ def _check_alternatives(problem, alternatives) -> tuple:
 
 # -- the planner ------------------------------------------------------------------
 def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, value=None,
-         dispersion=None, rule="randomized", random_digits=DEFAULT_RANDOM_DIGITS, step=None,
-         n_max=DEFAULT_N_MAX, verify=True, digits=50) -> PlanResult:
+         dispersion=None, rule="randomised", random_digits=DEFAULT_RANDOM_DIGITS, step=None,
+         n_max=DEFAULT_N_MAX, verify=True, precision=50) -> PlanResult:
     """Smallest n whose rule has power >= target at every alternative.
 
     Parameters
@@ -186,12 +186,12 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
     family, kind, alpha, low, high, value, dispersion : as for ``exactband.design``
     alternatives : number or list of numbers outside the null region
     target : power wanted at each alternative, alpha < target < 1
-    rule : "randomized" (default), "conservative" (gammas dropped) or "digits"
+    rule : "randomised" (default; "randomized" accepted), "conservative" (gammas dropped) or "digits"
         (the field rule with ``random_digits`` digits)
     step : grid of n: n = step, 2 step, ... (default 1; Poisson exposure may be
         fractional, the other families need a whole step)
     n_max : the search gives up (PlanningError) beyond this n
-    verify, digits : verify the reported designs with the ``digits``-digit solver
+    verify, precision : verify the reported designs with the ``precision``-digit solver
 
     Returns
     -------
@@ -224,11 +224,11 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
     k_max = int(math.floor(nmax / st + 1e-9))
 
     where = (f"raise n-max (now {nmax:g}) or choose alternatives farther from the null region")
-    k_r = first_k(lambda ks: grid.meets_randomized(ks, tgt), 1, k_max,
+    k_r = first_k(lambda ks: grid.meets_randomised(ks, tgt), 1, k_max,
                    f"the randomised rule does not reach power {tgt} at every alternative "
                    f"by n = {grid.n_of(k_max):g}: {where}")
     kw = dict(family=fam.name, kind=probe.kind.name, alpha=probe.alpha, low=probe.low,
-              high=probe.high, value=probe.value, dispersion=probe.dispersion, digits=digits,
+              high=probe.high, value=probe.value, dispersion=probe.dispersion, precision=precision,
               verify=verify)
     notes = []
     cache = {}
@@ -238,8 +238,8 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
             cache[k] = make_design(n=grid.n_of(k), **kw)
         return cache[k]
 
-    if rule == "randomized":
-        k_r = _settle_randomized(grid, k_r, tgt, des_at)
+    if rule == "randomised":
+        k_r = _settle_randomised(grid, k_r, tgt, des_at)
         k_first = k_from = k_r
         k_cert = None
     else:
@@ -252,7 +252,7 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
                 f"scanned (limit {SCAN_LIMIT}); choose a larger step")
         k_first, k_from = _scan(grid, k_r, k_cert, tgt, rule)
         notes.append(f"every n >= {grid.n_of(k_cert):g} certified by the bound "
-                     f"P_randomized - {grid.j} * {grid.delta:g} * (largest probability mass)")
+                     f"P_randomised - {grid.j} * {grid.delta:g} * (largest probability mass)")
 
     def rule_power(k):
         des = des_at(k)
@@ -262,7 +262,7 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
     des, pw = rule_power(k_first)
     des_from, pw_from = (des, pw) if k_from == k_first else rule_power(k_from)
     below = None if k_first == 1 else rule_power(k_first - 1)[1]
-    if rule != "randomized":
+    if rule != "randomised":
         checks = [(k_first, pw, True), (k_from, pw_from, True)]
         if k_first > 1:
             checks.append((k_first - 1, below, False))
@@ -279,12 +279,12 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
         high=probe.high, value=probe.value, dispersion=probe.dispersion, alternatives=alts,
         target=tgt, rule=rule, random_digits=d, step=st, n=grid.n_of(k_first),
         n_from=grid.n_of(k_from), design=des, design_from=des_from, power=pw,
-        power_from=pw_from, power_randomized=pr, power_below=below,
-        n_randomized=grid.n_of(k_r), n_certified=None if k_cert is None else grid.n_of(k_cert),
+        power_from=pw_from, power_randomised=pr, power_below=below,
+        n_randomised=grid.n_of(k_r), n_certified=None if k_cert is None else grid.n_of(k_cert),
         evaluations=grid.evaluations, verified=bool(verify), notes=tuple(notes))
 
 
-def _settle_randomized(grid, k, tgt, des_at):
+def _settle_randomised(grid, k, tgt, des_at):
     """Check the fast answer with the designs that will be reported (monotone: step by one)."""
     alts = list(grid.alts)
 
@@ -325,7 +325,7 @@ def power_against_n(result: PlanResult, ns=None):
 
     ``ns`` defaults to the grid from half the answer to 1.5 times ``n_from``
     (at most 600 points, evenly thinned if the grid is finer).  Returns a
-    DataFrame with columns n, alternative, power_randomized, power_conservative,
+    DataFrame with columns n, alternative, power_randomised, power_conservative,
     power_digits.
     """
     import pandas as pd
@@ -351,7 +351,7 @@ def power_against_n(result: PlanResult, ns=None):
     rows = []
     for a in result.alternatives:
         cols = {r: grid.power(ns_arr, cut, a, grid.rule_gammas(cut, r))
-                for r in ("randomized", "conservative", "digits")}
+                for r in ("randomised", "conservative", "digits")}
         rows.append(pd.DataFrame({"n": ns_arr, "alternative": a,
                                   **{f"power_{r}": v for r, v in cols.items()}}))
     return pd.concat(rows, ignore_index=True)

@@ -15,7 +15,7 @@ import textwrap
 from pathlib import Path
 
 
-from .design import Design, _num
+from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .oc import PlanningError, _error, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
@@ -23,7 +23,7 @@ PAGE_INCHES = {"A4": (8.27, 11.69), "Letter": (8.5, 11.0)}
 # randomised: solid black; conservative: dashed blue, circles; field digits: dash-dot
 # orange, triangles.  Lightness 0 / ~0.4 / ~0.65 keeps them apart in greyscale too.
 STYLE = {
-    "randomized": dict(color="black", linestyle="-", linewidth=2.0, marker=None, zorder=3),
+    "randomised": dict(color="black", linestyle="-", linewidth=2.0, marker=None, zorder=3),
     "conservative": dict(color="#0072B2", linestyle=(0, (6, 3)), linewidth=1.5, marker="o",
                          markersize=4.5, markerfacecolor="white", zorder=4),
     "digits": dict(color="#E69F00", linestyle=(0, (6, 2, 1.5, 2)), linewidth=1.5, marker="^",
@@ -36,7 +36,7 @@ N_STYLES = [dict(linestyle="-", marker=None, color="black", linewidth=1.8),
             dict(linestyle=(0, (10, 2)), marker="D", color="#009E73"),
             dict(linestyle=(0, (3, 1, 1, 1, 1, 1)), marker="v", color="#CC79A7",
                  markerfacecolor="white")]
-SHORT_RULE = {"randomized": "randomised rule", "conservative": "conservative rule",
+SHORT_RULE = {"randomised": "randomised rule", "conservative": "conservative rule",
               "digits": "field rule ({d} digits)"}  # chart titles; the page explains them
 NULL_SHADE = dict(color="0.88", zorder=0, linewidth=0)
 
@@ -178,7 +178,7 @@ def _y_label(curve: str) -> str:
 
 
 # -- one design: three rules ---------------------------------------------------------
-def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, size=(8.0, 7.2)):
+def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAULT_RANDOM_DIGITS, size=(8.0, 7.2)):
     """Power (or OC) curves of the randomised, conservative and field rules of one design.
 
     ``frame`` is ``oc.operating_characteristics(design, ...)`` (computed here when
@@ -202,8 +202,8 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=3, siz
         _shade_null(a, design, x0, x1, label=a is ax)
         a.grid(True, color="0.8", linewidth=0.5)
     _alpha_line(ax, design.alpha, curve)
-    base = frame[f"{col}_randomized"].to_numpy(float)  # lower panel: same quantity as the top
-    for i, rule in enumerate(("randomized", "conservative", "digits")):
+    base = frame[f"{col}_randomised"].to_numpy(float)  # lower panel: same quantity as the top
+    for i, rule in enumerate(("randomised", "conservative", "digits")):
         st = dict(STYLE[rule])
         label = rule_label(rule, d)
         if rule in sizes:
@@ -279,21 +279,21 @@ def plan_figure(result, frame, *, size=None):
         ax.tick_params(labelbottom=False)
     des = result.design
     fam = des.problem.family
-    rules = ["randomized"] if result.rule == "randomized" else ["randomized", result.rule]
-    d = result.random_digits or 3
+    rules = ["randomised"] if result.rule == "randomised" else ["randomised", result.rule]
+    d = result.random_digits or DEFAULT_RANDOM_DIGITS
     for ax, a in zip(axes, alts):
         sub = frame[frame["alternative"] == a]
         ns = sub["n"].to_numpy(float)
         for rule in rules:
             st = dict(STYLE[rule])
-            if rule != "randomized":  # every grid point: the saw-tooth is the message
+            if rule != "randomised":  # every grid point: the saw-tooth is the message
                 st.update(linewidth=0.8, markersize=3.5 if len(ns) <= 200 else 0)
             ax.plot(ns, sub[f"power_{rule}"].to_numpy(float), label=rule_label(rule, d), **st)
         ax.axhline(result.target, color="0.25", linewidth=0.9, linestyle=(0, (1, 2)),
                    label=f"target power {result.target:g}")
-        if result.rule != "randomized":
-            ax.axvline(result.n_randomized, color="0.6", linewidth=1.0, linestyle=(0, (1, 1)),
-                       label=f"n = {_num(result.n_randomized)} (randomised rule)")
+        if result.rule != "randomised":
+            ax.axvline(result.n_randomised, color="0.6", linewidth=1.0, linestyle=(0, (1, 1)),
+                       label=f"n = {_num(result.n_randomised)} (randomised rule)")
         ax.axvline(result.n, color="0.15", linewidth=1.2, linestyle=(0, (4, 1, 1, 1)),
                    label=f"n = {_num(result.n)} (smallest n meeting the target)")
         if result.n_from != result.n:
@@ -304,7 +304,7 @@ def plan_figure(result, frame, *, size=None):
     unit = "exposure units" if not fam.integer_n else ("trials" if fam.name == "binomial"
                                                        else "units")
     axes[-1].set_xlabel(f"{fam.n_word} ({unit}; grid step {_num(result.step)})")
-    rule_words = {"randomized": "randomised rule", "conservative": "conservative rule",
+    rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
@@ -316,7 +316,7 @@ def plan_figure(result, frame, *, size=None):
 
 
 # -- a page of OC curves for one band (tables) ----------------------------------------------
-def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", random_digits=3,
+def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", random_digits=DEFAULT_RANDOM_DIGITS,
              n_per_chart=4, charts_per_page=4, paper="A4", title=None, points=161):
     """Page-sized figures of OC (or power) curves for the designs of one hypothesis.
 
@@ -334,9 +334,10 @@ def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", rando
     if len(key) != 1:
         raise PlanningError("invalid designs: a page shows one hypothesis; the designs differ "
                             "in family, kind or hypothesis values")
+    rules = tuple({"randomized": "randomised"}.get(r, r) for r in rules)  # accepted spelling
     for r in rules:
         if r not in STYLE:
-            raise _error("rules", r, "randomized, conservative, digits")
+            raise _error("rules", r, "randomised, conservative, digits")
     if paper not in PAGE_INCHES:
         raise _error("paper", paper, "A4 or Letter")
     from .oc import shared_thetas
@@ -362,7 +363,7 @@ def oc_pages(designs, *, rules=("randomized", "conservative"), curve="oc", rando
     return pages
 
 
-def draw_oc_page(charts, *, rules, curve="oc", random_digits=3, size=PAGE_INCHES["A4"],
+def draw_oc_page(charts, *, rules, curve="oc", random_digits=DEFAULT_RANDOM_DIGITS, size=PAGE_INCHES["A4"],
                  heading=None, note=True):
     """One figure of OC (or power) curves drawn from data computed elsewhere.
 

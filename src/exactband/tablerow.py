@@ -16,14 +16,13 @@ from decimal import ROUND_FLOOR, Decimal
 from pathlib import Path
 
 from .decide import DecideError, _error
-from .design import Design
+from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError
 from .params import make_problem
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
             "c2", "gamma2")
 FILTERS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
-DEFAULT_TABLE_DIGITS = 3  # the table spec's default random_digits
 
 
 @dataclass(frozen=True)
@@ -196,7 +195,7 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
     printed = any(t is not None for t in ts)
     if d is None:
         d = _infer_digits((g1, g2), ts) if printed else None
-        d = DEFAULT_TABLE_DIGITS if d is None else d
+        d = DEFAULT_RANDOM_DIGITS if d is None else d
     ts = tuple(_floor_t(g, d) if g is not None and t is None else t
                for g, t in zip((g1, g2), ts))
     for i, (g, t) in enumerate(zip((g1, g2), ts), start=1):

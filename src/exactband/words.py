@@ -9,7 +9,8 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, Decimal
 
-RULE_NAMES = ("randomized", "conservative", "digits")
+RULE_NAMES = ("randomised", "conservative", "digits")
+ALIASES = {"randomized": "randomised"}  # accepted spelling
 GAMMA_PLACES = 6  # decimals a gamma shows at least
 
 
@@ -82,12 +83,13 @@ def _at_cutoff(design, i: int, c: int, side: str, rule: str, d: int | None) -> s
             f"else do not reject.")
 
 
-def rule_lines(design, rule: str = "randomized", random_digits: int | None = None) -> list:
+def rule_lines(design, rule: str = "randomised", random_digits: int | None = None) -> list:
     """The rule in plain words, one line per region of Y, naming the side of each rejection.
 
-    ``rule``: "randomized" (the exact gammas), "conservative" (never reject at a
+    ``rule``: "randomised" (the exact gammas), "conservative" (never reject at a
     cutoff) or "digits" (the field rule with ``random_digits`` digits).
     """
+    rule = ALIASES.get(rule, rule)
     if rule not in RULE_NAMES:
         raise ValueError(f"unknown rule {rule!r}")
     kind, c1, c2 = design.problem.kind, design.c1, design.c2

@@ -110,7 +110,7 @@ def provenance(result) -> dict:
                   "decimal_mark": t.decimal_mark},
         "exactband": __version__, "python": platform.python_version(),
         "scipy": scipy.__version__, "mpmath": mpmath.__version__,
-        "solver_digits": result.digits, "tolerance_rule": TOLERANCE_RULE,
+        "solver_precision": result.precision, "tolerance_rule": TOLERANCE_RULE,
         "notes": list(t.notes),
     }
 

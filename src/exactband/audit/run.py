@@ -8,7 +8,7 @@ from collections import Counter
 from dataclasses import dataclass
 from pathlib import Path
 
-from ..api import check_digits
+from ..api import DEFAULT_PRECISION, check_precision
 from .table import Options, Table, load
 from .verdicts import Verdict, judge
 
@@ -19,7 +19,7 @@ class AuditResult:
     sha256: str
     table: Table
     verdicts: list
-    digits: int
+    precision: int
 
     @property
     def counts(self) -> Counter:
@@ -39,15 +39,15 @@ class AuditResult:
 
 
 def _task(args) -> Verdict:
-    row, digits = args
-    return judge(row, digits)
+    row, precision = args
+    return judge(row, precision)
 
 
-def judge_rows(rows, digits=50, workers=1, progress=None) -> list:
+def judge_rows(rows, precision=DEFAULT_PRECISION, workers=1, progress=None) -> list:
     """judge() over rows in order, on ``workers`` processes when there are many."""
     from ..parallel import pmap
 
-    return pmap(_task, [(r, digits) for r in rows], workers, progress, max_chunk=32)
+    return pmap(_task, [(r, precision) for r in rows], workers, progress, max_chunk=32)
 
 
 def _sha256(path: Path) -> str:
@@ -58,13 +58,13 @@ def _sha256(path: Path) -> str:
     return h.hexdigest()
 
 
-def audit(path, opts: Options | None = None, *, digits=50, workers=1, progress=None) -> AuditResult:
+def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=1, progress=None) -> AuditResult:
     """Read ``path`` (CSV or XLSX) and judge every row; raises AuditInputError if unusable.
 
     ``progress(total)`` may return a callback that is called as rows finish.
     """
     opts = opts or Options()
-    d = check_digits(digits)
+    d = check_precision(precision)
     table = load(path, opts)
     workers = (os.cpu_count() or 1) if workers is None else max(1, int(workers))
     tick = progress(len(table.rows)) if progress else None

@@ -54,11 +54,11 @@ def _num(x) -> str:
     return f"{x:.6g}"
 
 
-def _ours(p, digits):
+def _ours(p, precision):
     sol = fast_solve([p])[0]
     pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
-                       value=p.value, dispersion=p.dispersion, digits=digits)
-    cc = compare(p.kind.name, p.alpha, sol, pd, digits)
+                       value=p.value, dispersion=p.dispersion, precision=precision)
+    cc = compare(p.kind.name, p.alpha, sol, pd, precision)
     if not cc.agree:
         return None, None, pd
     with mp.workdps(pd.dps):
@@ -72,12 +72,12 @@ def _ours(p, digits):
     return floats, text, pd
 
 
-def judge(row: Row, digits: int = 50) -> Verdict:
+def judge(row: Row, precision: int = 50) -> Verdict:
     """The verdict for one row (with the diagnosis when there is a finding)."""
     if row.error is not None:
         return Verdict(row, "invalid", ["invalid"], [row.error])
     p, theirs, tol = row.problem, row.theirs, row.tol
-    ours, text, pd = _ours(p, digits)
+    ours, text, pd = _ours(p, precision)
     if ours is None:
         return Verdict(row, "invalid", ["invalid"],
                        ["exactband's two solvers disagree on this design; no verdict (report it)"])

@@ -176,7 +176,7 @@ def _summary_sheet(ws, result, s, bold):
              ("columns used", ", ".join(f"{k} <- {v}" for k, v in prov["input"]["columns"].items())),
              ("ignored columns", ", ".join(prov["input"]["ignored_columns"]) or "(none)"),
              ("exactband", prov["exactband"]), ("scipy", prov["scipy"]), ("mpmath", prov["mpmath"]),
-             ("python", prov["python"]), ("solver digits", prov["solver_digits"]),
+             ("python", prov["python"]), ("solver precision", prov["solver_precision"]),
              ("tolerance rule", TOLERANCE_RULE)]
     rows += [("note", n) for n in prov["notes"]]
     rows += [(None, None), ("caution", CAUTION)]

@@ -124,7 +124,7 @@ def run(args) -> int:
                else _int("workers", args.workers, 1))
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
         raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
-    result = audit(args.file, opts, digits=check_precision(args.precision), workers=workers,
+    result = audit(args.file, opts, precision=check_precision(args.precision), workers=workers,
                    progress=progress_printer)
     if args.report is not None:
         reports.write(result, args.report)

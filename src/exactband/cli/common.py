@@ -18,8 +18,8 @@ def add_command(sub, name: str, summary: str, description: str, example: str):
 
 def add_design_options(p: argparse.ArgumentParser, required: bool = True,
                        include_n: bool = True) -> None:
-    """The design options; the solver precision is --precision (--digits is left free
-    for the random digits an inspector reads)."""
+    """The design options; the solver precision is --precision (the random digits an
+    inspector reads are decide's --digits-read)."""
     g = p.add_argument_group("design")
     g.add_argument("--family", required=required, metavar="NAME", help=FAMILY_HELP)
     g.add_argument("--kind", required=required, metavar="KIND", help=KIND_HELP)
@@ -40,17 +40,12 @@ def add_design_options(p: argparse.ArgumentParser, required: bool = True,
 
 def check_precision(value) -> int:
     """--precision as the solvers' digits; the message names the option the user typed."""
-    from ..api import MAX_DIGITS, MIN_DIGITS, check_digits
-    from ..errors import DesignError, invalid
+    from ..api import check_precision as check
 
-    try:
-        return check_digits(value)
-    except DesignError:
-        raise invalid("precision", value, f"a whole number of significant digits from "
-                      f"{MIN_DIGITS} to {MAX_DIGITS}") from None
+    return check(value)
 
 
 def design_kwargs(args) -> dict:
     args.precision = check_precision(args.precision)
     return dict(n=args.n, alpha=args.alpha, low=args.low, high=args.high, value=args.value,
-                dispersion=args.dispersion, digits=args.precision)
+                dispersion=args.dispersion, precision=args.precision)

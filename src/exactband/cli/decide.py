@@ -8,11 +8,11 @@ from .output import emit, json_text, require
 EXAMPLE = """\
 examples:
   exactband decide --family poisson --kind band --n 25 --low 2 --high 2.5 --alpha 0.05 \\
-      --y 39 --digits 4821
-      Y = 39 is the lower cutoff: the 4 digits 4821 are compared with the threshold
-      t1 = floor(gamma1 * 10^4); reject if 4821 < t1
+      --y 39 --digits-read 482
+      Y = 39 is the lower cutoff: the 3 digits 482 are compared with the threshold
+      t1 = floor(gamma1 * 10^3); reject if 482 < t1
   exactband decide --table output/demo/demo.csv --kind band --n 25 --alpha 0.05 \\
-      --low 2 --high 2.5 --y 39 --digits 482
+      --low 2 --high 2.5 --y 39 --digits-read 482
       the rule as printed in a generated table (its thresholds and number of digits)
   exactband decide ... --y 39            digits drawn from the operating system's
                                          cryptographic generator, and printed
@@ -23,6 +23,8 @@ The digits used are always printed, so the decision can be checked later.
 
 
 def add_parser(sub) -> None:
+    from ..design import DEFAULT_RANDOM_DIGITS
+
     p = add_command(
         sub, "decide", "decision for an observed count (randomisation by digits)",
         "Apply a design (given by its parameters or by a row of a generated "
@@ -34,12 +36,13 @@ def add_parser(sub) -> None:
     g = p.add_argument_group("observation and randomisation")
     g.add_argument("--y", "--count", dest="y", metavar="Y", help="the observed total count "
                    "(required)")
-    g.add_argument("--digits", metavar="DIGITS",
-                   help="random digits read by the inspector, e.g. 4821 (their number is the "
-                        "rule's number of digits); omitted: drawn from the operating system")
+    g.add_argument("--digits-read", "--digits", dest="digits_read", metavar="DIGITS",
+                   help="random digits read by the inspector, e.g. 482 (their number is the "
+                        "rule's number of digits); omitted: drawn from the operating system "
+                        "(--digits is the old name)")
     g.add_argument("--random-digits", metavar="D",
-                   help="number of digits the rule reads (default: the table's, else the "
-                        "number of --digits given, else 4)")
+                   help=f"number of digits the rule reads (default: the table's, else the "
+                        f"number of --digits-read given, else {DEFAULT_RANDOM_DIGITS})")
     g.add_argument("--conservative", action="store_true",
                    help="the conservative rule: never reject at a cutoff")
     t = p.add_argument_group("design from a generated table")
@@ -57,14 +60,14 @@ def run(args) -> int:
     from ..decide import DecideError, decide
 
     require(args, ("y",), "decide")
-    rule = "conservative" if args.conservative else "randomized"
+    rule = "conservative" if args.conservative else "randomised"
     if args.table:
         from ..tablerow import table_rule
 
         tr = table_rule(args.table, args.row, args.random_digits, family=args.family,
                         kind=args.kind, n=args.n, alpha=args.alpha, low=args.low,
                         high=args.high, value=args.value, dispersion=args.dispersion)
-        dec = decide(tr.design, args.y, rule=rule, digits=args.digits,
+        dec = decide(tr.design, args.y, rule=rule, digits_read=args.digits_read,
                      random_digits=tr.random_digits, thresholds=tr.thresholds)
         if tr.note:
             from dataclasses import replace
@@ -77,8 +80,9 @@ def run(args) -> int:
         require(args, ("family", "kind", "n", "alpha"), "decide")
         d = design(args.family, args.kind, n=args.n, alpha=args.alpha, low=args.low,
                    high=args.high, value=args.value, dispersion=args.dispersion,
-                   digits=check_precision(args.precision))
-        dec = decide(d, args.y, rule=rule, digits=args.digits, random_digits=args.random_digits)
+                   precision=check_precision(args.precision))
+        dec = decide(d, args.y, rule=rule, digits_read=args.digits_read,
+                     random_digits=args.random_digits)
         source = "computed from the parameters" + (" and verified" if d.verified else "")
     if args.json:
         out = dec.to_dict()

@@ -40,7 +40,7 @@ def design_json(d) -> dict:
         "c1": d.c1, "gamma1": d.gamma1, "c2": d.c2, "gamma2": d.gamma2,
         "gamma1_decimal": d.gamma1_decimal, "gamma2_decimal": d.gamma2_decimal,
         "sizes": {name: s for name, s in zip(names, d.sizes)},
-        "verified": d.verified, "digits": d.digits,
+        "verified": d.verified, "precision": d.precision,
         "max_phi_difference": None if cc is None else cc.max_phi_diff,
         "rule": d.describe().splitlines(),
     }

@@ -19,6 +19,8 @@ examples:
 
 
 def add_parser(sub) -> None:
+    from ..design import DEFAULT_RANDOM_DIGITS
+
     p = add_command(
         sub, "plan", "sample size: smallest n reaching a target power",
         "Find the smallest n (on the grid step, 2*step, ...) at which the chosen "
@@ -31,11 +33,12 @@ def add_parser(sub) -> None:
     g.add_argument("--alternatives", metavar="LIST",
                    help="comma-separated theta values outside the null region (required)")
     g.add_argument("--target", metavar="P", help="power wanted, alpha < P < 1 (required)")
-    g.add_argument("--rule", default="randomized", metavar="RULE",
-                   help="randomized (default), conservative (no randomisation) or digits "
+    g.add_argument("--rule", default="randomised", metavar="RULE",
+                   help="randomised (default; randomized is accepted), conservative (no randomisation) or digits "
                         "(the field rule with --random-digits)")
-    g.add_argument("--random-digits", default="3", metavar="D",
-                   help="digits of the field rule for --rule digits (default 3)")
+    g.add_argument("--random-digits", default=str(DEFAULT_RANDOM_DIGITS), metavar="D",
+                   help=f"digits of the field rule for --rule digits "
+                        f"(default {DEFAULT_RANDOM_DIGITS})")
     g.add_argument("--step", metavar="S",
                    help="grid of n: S, 2S, 3S... (default 1; poisson exposure may be "
                         "fractional, e.g. 0.5)")
@@ -64,17 +67,17 @@ def text_report(r) -> str:
     from ..design import _num
 
     fam = r.design.problem.family
-    rule = {"randomized": "randomised rule", "conservative": "conservative rule",
+    rule = {"randomised": "randomised rule", "conservative": "conservative rule",
             "digits": f"field rule with {r.random_digits} random digits"}[r.rule]
     alts = ", ".join(_num(a) for a in r.alternatives)
     lines = [f"Smallest {fam.n_word} (grid step {_num(r.step)}) with power >= {r.target:g} at "
              f"{fam.theta_word} {alts}, {rule}:", f"  n = {_num(r.n)}"]
-    if r.rule != "randomized":
+    if r.rule != "randomised":
         how = (f"checked one by one up to n = {_num(r.n_certified)}, certified beyond"
                if r.n_certified > r.n_from else
                f"certified from n = {_num(r.n_certified)} on")
         lines.append(f"  n_from = {_num(r.n_from)}  (every larger n meets the target: {how})")
-        lines.append(f"  the randomised rule needs n = {_num(r.n_randomized)}")
+        lines.append(f"  the randomised rule needs n = {_num(r.n_randomised)}")
     lines.append(f"Power at n = {_num(r.n)}: {_powers(r, r.power)}")
     if r.power_below is not None:
         lines.append(f"Power at n = {_num(r.n - r.step)}: {_powers(r, r.power_below)}")
@@ -100,7 +103,7 @@ def run(args) -> int:
     r = plan(args.family, args.kind, alpha=args.alpha, alternatives=args.alternatives,
              target=args.target, low=args.low, high=args.high, value=args.value,
              dispersion=args.dispersion, rule=args.rule, random_digits=args.random_digits,
-             step=args.step, n_max=args.n_max, verify=not args.no_verify, digits=check_precision(args.precision))
+             step=args.step, n_max=args.n_max, verify=not args.no_verify, precision=check_precision(args.precision))
     if plot is not None:
         from ..plots import plan_figure, save_figure
 

@@ -13,7 +13,7 @@ examples:
       --theta 1.6,2,2.5,3 --json
   exactband power ... --theta-range 1:4 --points 61 --plot oc.png --out oc.csv
 
-Columns: theta, in_null, power_randomized, power_conservative, power_digits and
+Columns: theta, in_null, power_randomised, power_conservative, power_digits and
 oc_* = 1 - power_*.  'digits' is the rule the field applies with D random digits
 (threshold t = floor(gamma * 10^D)); 'conservative' drops the randomisation.
 Every number is an exact sum of probabilities, not a simulation.
@@ -21,6 +21,8 @@ Every number is an exact sum of probabilities, not a simulation.
 
 
 def add_parser(sub) -> None:
+    from ..design import DEFAULT_RANDOM_DIGITS
+
     p = add_command(
         sub, "power", "power and OC curves of a design's three rules",
         "Power (probability of rejecting H0) and OC (1 - power) of the randomised, "
@@ -32,8 +34,9 @@ def add_parser(sub) -> None:
     g.add_argument("--theta-range", metavar="LO:HI", help="evenly spaced values from LO to HI")
     g.add_argument("--points", default="201", metavar="N",
                    help="number of values in a range (default 201)")
-    p.add_argument("--random-digits", default="3", metavar="D",
-                   help="random digits of the field rule, 1 to 9 (default 3, as the tables)")
+    p.add_argument("--random-digits", default=str(DEFAULT_RANDOM_DIGITS), metavar="D",
+                   help=f"random digits of the field rule, 1 to 9 (default "
+                        f"{DEFAULT_RANDOM_DIGITS}, as the tables)")
     p.add_argument("--json", action="store_true", help="JSON instead of CSV")
     p.add_argument("--out", metavar="FILE", help="write the CSV / JSON to FILE instead of stdout")
     p.add_argument("--plot", metavar="FILE", help="also draw the curves to FILE (.png or .svg)")

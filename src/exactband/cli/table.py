@@ -24,12 +24,12 @@ A spec (TOML; every key is described in README.md):
   bands = [[2.0, 2.5]]                      # for band and equivalence
   values = [2.5]                            # for upper, lower and point
   # optional: dispersion (negative-binomial), gamma_decimals = 4, random_digits = 3,
-  # conservative = true, paper = "A4" | "Letter", digits = 50, random_seed,
+  # conservative = true, paper = "A4" | "Letter", precision = 50, random_seed,
   # random_digit_pages = 1
   [oc]                                      # optional, last: what the rules catch
   thetas = [1.5, 3.0]                       # spreadsheet sheet 'Power' at these values
   # curves = true (PDF pages of OC curves), n = [...] (the n drawn),
-  # n_per_chart = 4 (1 to 6), rules = ["randomized", "conservative"] (or "digits")
+  # n_per_chart = 4 (1 to 6), rules = ["randomised", "conservative"] (or "digits")
 
 Every design is computed by the fast solver and confirmed by the high-precision
 solver before any file is written; a disagreement stops the run (exit 1).  An

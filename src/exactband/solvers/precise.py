@@ -52,7 +52,7 @@ class PreciseDesign:
     tables: tuple = field(default=(), repr=False, compare=False)  # one per constraint point
 
 
-def working_dps(digits: int, kind: str, low=None, high=None, alpha=None) -> int:
+def working_dps(precision: int, kind: str, low=None, high=None, alpha=None) -> int:
     """Digits to work with: requested + guard + what a narrow band costs.
 
     An equivalence design works with its complement of size 1 - alpha, which
@@ -65,12 +65,12 @@ def working_dps(digits: int, kind: str, low=None, high=None, alpha=None) -> int:
         rel = (high - low) / high
         if rel < 1:
             extra += int(math.ceil(-math.log10(rel))) if rel > 0 else 0
-    return int(digits) + GUARD_DIGITS + extra
+    return int(precision) + GUARD_DIGITS + extra
 
 
-def _table(family, theta, n, k, digits, alpha, moments=False):
-    """Table whose truncated mass is below alpha * 10**-(digits + 12)."""
-    thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(digits + 12))
+def _table(family, theta, n, k, precision, alpha, moments=False):
+    """Table whose truncated mass is below alpha * 10**-(precision + 12)."""
+    thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
     return MpTable(family.mp_law(theta, n, k), thr, moments=moments)
 
 
@@ -197,15 +197,15 @@ def equivalence_expectation(T, c1, g1, c2, g2):
 
 
 def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
-          digits: int = 50) -> PreciseDesign:
-    """Solve one design at ``digits`` significant digits (plus guard digits)."""
-    dps = working_dps(digits, kind, low, high, alpha)
+          precision: int = 50) -> PreciseDesign:
+    """Solve one design at ``precision`` significant digits (plus guard digits)."""
+    dps = working_dps(precision, kind, low, high, alpha)
     with mp.workdps(dps):
         tol = mp.mpf(10) ** (-(dps - 8))
         A = dec(alpha)
         k = dispersion
         if kind in ("upper", "lower"):
-            T = _table(family, value, n, k, digits, alpha)
+            T = _table(family, value, n, k, precision, alpha)
             if kind == "upper":
                 c2 = T.first_sf_at_most(A)
                 g2 = (A - T.sf(c2)) / T.pmf(c2)
@@ -216,15 +216,15 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
             size = T.cdf(c1 - 1) + g1 * T.pmf(c1)
             return PreciseDesign(c1, g1, None, None, (size,), None, dps, T.truncated, (T,))
         if kind == "point":
-            T = _table(family, value, n, k, digits, alpha, moments=True)
+            T = _table(family, value, n, k, precision, alpha, moments=True)
             cond = _Moment(T, A)
             c1, g1, c2, g2 = _two_tailed(T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
             return PreciseDesign(c1, g1, c2, g2, (size,), cond.residual(c1, g1, c2, g2), dps,
                                  T.truncated, (T,))
         if kind in ("band", "equivalence"):
-            Tl = _table(family, low, n, k, digits, alpha)
-            Th = _table(family, high, n, k, digits, alpha)
+            Tl = _table(family, low, n, k, precision, alpha)
+            Th = _table(family, high, n, k, precision, alpha)
             # each table must also cover where the other end's law lives
             both = (min(Tl.lo, Th.lo), max(Tl.hi, Th.hi))
             Tl.extend(*both)

@@ -40,7 +40,7 @@ class Verification:
     """The cross-check summary of a table set."""
 
     rows: int
-    digits: int
+    precision: int
     max_phi_diff: float
     max_fast_size_error: float
     max_precise_size_error: float
@@ -82,7 +82,7 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
         for start in range(0, len(todo), CHUNK):
             idx = todo[start:start + CHUNK]
             ds = api.verify_many([problems[i] for i in idx], sols[start:start + CHUNK],
-                                 spec.digits, workers=workers, progress=progress)
+                                 spec.precision, workers=workers, progress=progress)
             cache.save(ds)
             done.update(zip(idx, ds))
     except VerificationError:
@@ -94,7 +94,7 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
                         f"verified: {e}") from None
     designs = [done[i] for i in range(len(problems))]
     rows = tuple(derive(d, spec) for d in designs)
-    return TableSet(spec, rows, summarise(designs, spec.digits),
+    return TableSet(spec, rows, summarise(designs, spec.precision),
                     random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE),
                     oc_build.compute(spec, rows))
 
@@ -107,10 +107,10 @@ def derive(d: Design, spec: TableSpec) -> Row:
     return Row(d, t, digit, cons)
 
 
-def summarise(designs, digits: int) -> Verification:
+def summarise(designs, precision: int) -> Verification:
     checks = [d.check for d in designs]
     return Verification(
-        rows=len(designs), digits=digits,
+        rows=len(designs), precision=precision,
         max_phi_diff=max((c.max_phi_diff for c in checks), default=0.0),
         max_fast_size_error=max((c.fast_size_error for c in checks), default=0.0),
         max_precise_size_error=max((c.precise_size_error for c in checks), default=0.0))

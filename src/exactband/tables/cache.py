@@ -27,7 +27,7 @@ class VerifyCache:
 
     def __init__(self, out_dir, spec):
         self.dir = Path(out_dir) / f".{spec.name}.verify-cache"
-        self.stamp = {"format": FORMAT, "spec_sha256": spec.sha256, "digits": spec.digits,
+        self.stamp = {"format": FORMAT, "spec_sha256": spec.sha256, "precision": spec.precision,
                       "versions": versions()}
         self._next = 0
 
@@ -81,13 +81,13 @@ def _record(d: Design) -> dict:
     c = d.check
     return {"key": grid.key(d.problem), "c1": d.c1, "gamma1": d.gamma1, "c2": d.c2,
             "gamma2": d.gamma2, "gamma1_decimal": d.gamma1_decimal,
-            "gamma2_decimal": d.gamma2_decimal, "sizes": list(d.sizes), "digits": d.digits,
-            "check": [c.agree, c.max_phi_diff, c.fast_size_error, c.precise_size_error, c.digits]}
+            "gamma2_decimal": d.gamma2_decimal, "sizes": list(d.sizes), "precision": d.precision,
+            "check": [c.agree, c.max_phi_diff, c.fast_size_error, c.precise_size_error, c.precision]}
 
 
 def _restore(problem, rec: dict) -> Design:
-    agree, phi, fse, pse, digits = rec["check"]
+    agree, phi, fse, pse, precision = rec["check"]
     return Design(problem, rec["c1"], rec["gamma1"], rec["c2"], rec["gamma2"],
-                  tuple(rec["sizes"]), verified=True, digits=rec["digits"],
+                  tuple(rec["sizes"]), verified=True, precision=rec["precision"],
                   gamma1_decimal=rec["gamma1_decimal"], gamma2_decimal=rec["gamma2_decimal"],
-                  check=CrossCheck(agree, phi, fse, pse, digits))
+                  check=CrossCheck(agree, phi, fse, pse, precision))

@@ -80,7 +80,7 @@ def _check_one(mpath: Path, workers, progress) -> tuple:
         return findings + [f"{csv_name}: {e}"], ""
     findings += _check_rows(spec, rows, workers, progress)
     summary = (f"{len(files)} files match their SHA-256; {len(rows)} rows re-verified with the "
-               f"{spec.digits}-digit solver: all agree")
+               f"{spec.precision}-digit solver: all agree")
     return findings, summary
 
 
@@ -125,7 +125,7 @@ def _check_rows(spec, rows, workers, progress) -> list:
     if progress:
         progress(0, total=len(problems))
     try:
-        designs = api.verify_many(problems, sols, spec.digits, workers=workers, progress=progress)
+        designs = api.verify_many(problems, sols, spec.precision, workers=workers, progress=progress)
     except VerificationError as e:
         return [f"{spec.name}.csv: {e}"]
     for i, (row, d) in enumerate(zip(rows, designs)):

@@ -26,7 +26,7 @@ def manifest_bytes(tset, files: dict) -> bytes:
         "spec": spec.to_dict(),
         "versions": versions(tset.oc is not None),
         "solver": {"fast": "vectorised float solver (scipy laws)",
-                   "precise": "mpmath solver (own mpmath laws)", "digits": v.digits},
+                   "precise": "mpmath solver (own mpmath laws)", "precision": v.precision},
         "cross_check": {"rows": len(tset.rows), "rows_verified": v.rows,
                         "max_phi_difference": v.max_phi_diff,
                         "max_fast_size_error": v.max_fast_size_error,

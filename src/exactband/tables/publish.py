@@ -57,6 +57,8 @@ def generate(spec_path, out_dir, *, allow_large=False, workers=None, progress=No
              log=None) -> list:
     """Write the table set of ``spec_path`` into ``out_dir``; return the paths written."""
     spec = load_spec(spec_path, allow_large=allow_large)
+    for note in spec.notes if log else ():
+        log(note)
     out = check_out_dir(out_dir)
     existed = out.exists()
     _remove_stale_parts(out, spec.name)

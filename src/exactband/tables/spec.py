@@ -8,7 +8,7 @@ and its grid have passed.
 
 Keys (see README): title, scenario, family, dispersion, kinds, alpha, n (list
 or ``{from, to, step}``), bands, values, gamma_decimals, random_digits,
-conservative, paper, digits, random_seed, random_digit_pages, and the optional
+conservative, paper, precision (old name: digits), random_seed, random_digit_pages, and the optional
 ``[oc]`` table (spec_oc: power values and OC curves in the set).
 """
 
@@ -20,6 +20,7 @@ import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
 
+from ..design import DEFAULT_RANDOM_DIGITS
 from ..errors import show
 from ..families import FAMILIES, get_family
 from ..kinds import KINDS
@@ -31,8 +32,9 @@ GRID_LIMIT = 20_000  # designs in one set without --allow-large
 MAX_SPEC_BYTES = 1_000_000
 
 KEYS = ("title", "scenario", "family", "dispersion", "kinds", "alpha", "n", "bands", "values",
-        "gamma_decimals", "random_digits", "conservative", "paper", "digits", "random_seed",
+        "gamma_decimals", "random_digits", "conservative", "paper", "precision", "random_seed",
         "random_digit_pages", "oc")
+OLD_KEYS = {"digits": "precision"}  # old name -> new name: accepted, with one note
 REQUIRED = ("title", "family", "kinds", "alpha", "n")
 PAPERS = {"a4": "A4", "letter": "Letter"}
 _NAME_RE = re.compile(r"[A-Za-z0-9][A-Za-z0-9._-]*")
@@ -59,14 +61,15 @@ class TableSpec:
     bands: tuple
     values: tuple
     gamma_decimals: int = 4
-    random_digits: int = 3
+    random_digits: int = DEFAULT_RANDOM_DIGITS
     conservative: bool = True
     paper: str = "A4"
-    digits: int = 50
+    precision: int = 50
     random_seed: int | None = None
     random_digit_pages: int = 1
     oc: OcSpec | None = None  # the optional [oc] table (power values, OC curves)
     where: str = field(default="", compare=False)  # the path as the user gave it (messages)
+    notes: tuple = field(default=(), compare=False)  # e.g. an old key name that was accepted
 
     @property
     def seed(self) -> int:
@@ -85,7 +88,7 @@ class TableSpec:
             "dispersion": self.dispersion, "kinds": list(self.kinds), "alpha": list(self.alpha),
             "n": list(self.n), "bands": [list(b) for b in self.bands], "values": list(self.values),
             "gamma_decimals": self.gamma_decimals, "random_digits": self.random_digits,
-            "conservative": self.conservative, "paper": self.paper, "digits": self.digits,
+            "conservative": self.conservative, "paper": self.paper, "precision": self.precision,
             "random_seed": self.seed, "random_digit_pages": self.random_digit_pages,
         }
         if self.oc is not None:
@@ -136,6 +139,7 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
                  allow_large: bool = False) -> TableSpec:
     """Validate a spec given as a mapping (the parsed TOML, or a manifest's spec)."""
     v = Checker(where)
+    data, notes = _renamed_keys(v, data)
     unknown = [k for k in data if k not in KEYS]
     if unknown:
         raise v.fail(f"unknown key {show(unknown[0])}: allowed keys are {', '.join(KEYS)}")
@@ -157,23 +161,42 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
     ns = n_values(v, fam, data["n"])
     bands, values = hypotheses(v, fam, kinds, data)
     gd = v.integer("gamma_decimals", data.get("gamma_decimals", 4), 1, 10)
-    rd = v.integer("random_digits", data.get("random_digits", 3), 2, 4)
+    rd = v.integer("random_digits", data.get("random_digits", DEFAULT_RANDOM_DIGITS), 2, 4)
     conservative = data.get("conservative", True)
     if not isinstance(conservative, bool):
         raise v.bad("conservative", conservative, "true or false (without quotes)")
     paper = v.choice("paper", data.get("paper", "A4"), tuple(PAPERS.values()))
-    digits = v.integer("digits", data.get("digits", 50), 20, 1000)
+    precision = v.integer("precision", data.get("precision", 50), 20, 1000)
     seed = data.get("random_seed")
     if seed is not None:
         seed = v.integer("random_seed", seed, 0, 2**63 - 1)
     pages = v.integer("random_digit_pages", data.get("random_digit_pages", 1), 0, 20)
     oc = parse_oc(v, fam, data["oc"], ns, conservative) if "oc" in data else None
     spec = TableSpec(name, source, sha256, title, scenario, fam.name, dispersion, kinds,
-                     alphas, ns, bands, values, gd, rd, conservative, paper, digits, seed, pages,
-                     oc, where=where)
+                     alphas, ns, bands, values, gd, rd, conservative, paper, precision, seed, pages,
+                     oc, where=where, notes=tuple(notes))
     _check_size(v, spec, allow_large)
     _check_curve_pages(v, spec)
     return spec
+
+
+def _renamed_keys(v: Checker, data: dict):
+    """Old key names (``digits``) read as the new ones, each with one note."""
+    notes = []
+    for old, new in OLD_KEYS.items():
+        if old in data:
+            if new in data:
+                raise v.fail(f"both {old!r} and {new!r} are given: keep {new!r} only "
+                             f"({old!r} is its old name)")
+            data = {(new if k == old else k): val for k, val in data.items()}
+            notes.append(f"{where_of(v)}note: the key {old!r} is now called {new!r}; "
+                         f"read as {new} = {show_value(data[new])}")
+    return data, notes
+
+
+def where_of(v: Checker) -> str:
+    w = getattr(v, "where", "")
+    return f"{w}: " if w else ""
 
 
 def _check_size(v: Checker, spec: TableSpec, allow_large: bool) -> None:

@@ -7,7 +7,7 @@
     curves = true                        # PDF pages of OC curves (default true)
     n = [10, 25, 50]                     # the n drawn (default: every n of the spec)
     n_per_chart = 4                      # curves per chart, 1 to 6 (default 4)
-    rules = ["randomized", "conservative"]   # one column of charts per rule
+    rules = ["randomised", "conservative"]   # one column of charts per rule
 
 Every check raises SpecError with one line naming the file, the key (``oc.thetas[2]``),
 the value and what is allowed, like the other keys (spec_keys.Checker).
@@ -22,8 +22,8 @@ from ..errors import DesignError
 from .spec_keys import TWO_POINT, Checker
 
 OC_KEYS = ("thetas", "curves", "n", "n_per_chart", "rules")
-RULES = ("randomized", "conservative", "digits")
-RULE_ALIASES = {"randomised": "randomized"}
+RULES = ("randomised", "conservative", "digits")
+RULE_ALIASES = {"randomized": "randomised"}  # accepted spelling
 MAX_THETAS = 12  # columns of the Power sheet: still readable across a landscape page
 MAX_PER_CHART = 6  # curves one chart can keep apart in greyscale (line style and marker)
 MAX_PAGES = 120  # pages of OC curves in one PDF (each takes about a second to draw)
@@ -89,7 +89,7 @@ def parse_oc(v: Checker, fam, value, spec_n: tuple, conservative: bool) -> OcSpe
     if "n" in value:
         ns = _subset_n(v, value["n"], spec_n)
     per = v.integer("oc.n_per_chart", value.get("n_per_chart", 4), 1, MAX_PER_CHART)
-    default = ["randomized", "conservative"] if conservative else ["randomized"]
+    default = ["randomised", "conservative"] if conservative else ["randomised"]
     rules = tuple(_rules(v, value.get("rules", default)))
     return OcSpec(thetas, curves, ns, per, rules)
 
@@ -123,7 +123,7 @@ def _subset_n(v: Checker, value, spec_n: tuple) -> tuple:
 def _rules(v: Checker, value) -> list:
     if not isinstance(value, list) or not value:
         raise v.bad("oc.rules", value, f"a list of rules from {', '.join(RULES)}, e.g. "
-                    'rules = ["randomized", "conservative"]')
+                    'rules = ["randomised", "conservative"]')
     out = []
     for i, x in enumerate(value):
         key = x.strip().lower() if isinstance(x, str) else x

@@ -204,7 +204,7 @@ def legend(spec) -> list:
         "high, or at value), truncated; 'random digits' for the rule with thresholds, "
         "'no randomisation' for the conservative rule.",
         f"Every row was computed by the fast solver and confirmed by an independent "
-        f"{spec.digits}-digit solver before anything was written (see the provenance page).",
+        f"{spec.precision}-digit solver before anything was written (see the provenance page).",
     ]
 
 
@@ -218,7 +218,7 @@ def provenance_rows(tset, csv_sha256: str) -> list:
     rows = [("Title", spec.title), ("Spec file", spec.source), ("Spec SHA-256", spec.sha256)]
     rows += [(name, ver) for name, ver in versions(tset.oc is not None).items()]
     rows += [
-        ("Verifying solver", f"mpmath, {v.digits} significant digits, independent of the fast "
+        ("Verifying solver", f"mpmath, {v.precision} significant digits, independent of the fast "
                              f"(scipy) solver"),
         ("Designs verified", f"{v.rows} of {v.rows}"),
         ("Largest |phi difference|", f"{v.max_phi_diff:.3g} (tolerance {PHI_TOL:g})"),

@@ -17,7 +17,7 @@ CONTRACT = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion"
             "c2", "gamma2", "size_low", "size_high", "conservative_size_low",
             "conservative_size_high", "threshold1", "threshold2")
 EXTRA = ("random_digits", "digit_rule_size_low", "digit_rule_size_high", "gamma1_decimal",
-         "gamma2_decimal", "verified_digits", "max_phi_difference")
+         "gamma2_decimal", "verified_precision", "max_phi_difference")
 COLUMNS = CONTRACT + EXTRA
 
 
@@ -44,7 +44,7 @@ def csv_row(row, random_digits: int) -> list:
             *_pair(d.sizes), *_pair(row.conservative_sizes),
             _int(row.thresholds[0]), _int(row.thresholds[1]),
             str(random_digits), *_pair(row.digit_sizes),
-            d.gamma1_decimal or "", d.gamma2_decimal or "", _int(d.digits),
+            d.gamma1_decimal or "", d.gamma2_decimal or "", _int(d.precision),
             repr(float(d.check.max_phi_diff))]
 
 

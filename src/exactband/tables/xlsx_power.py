@@ -22,7 +22,7 @@ from .texts import hypothesis_at
 from .write_xlsx import BOLD, CENTER, FONT, MEDIUM, THIN, _page, heading_rows
 
 SHEET = "Power"
-RULE_ORDER = ("randomized", "digits", "conservative")  # exact, as applied, without digits
+RULE_ORDER = ("randomised", "digits", "conservative")  # exact, as applied, without digits
 IN_NULL = PatternFill("solid", fgColor="D9D9D9")
 ITALIC = Font(name=FONT, italic=True)
 POWER_FORMAT = "0.0000"
@@ -34,7 +34,7 @@ ID_ALIGN = (Alignment(horizontal="center"), Alignment(horizontal="center"),
 
 
 def rule_text(rule: str, d: int) -> str:
-    return {"randomized": "randomised", "digits": f"field, {d} digits",
+    return {"randomised": "randomised", "digits": f"field, {d} digits",
             "conservative": "conservative"}[rule]
 
 
