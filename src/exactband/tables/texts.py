@@ -7,7 +7,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
-from .layout import KIND_TITLE, WORDS, plain
+from .layout import KIND_TITLE, WORDS, gamma_places, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
            "sampling plans and the consequences of a decision come from the governing "
@@ -198,7 +198,7 @@ def legend(spec) -> list:
         f"n: {n_is}." + (f" Dispersion k = {plain(spec.dispersion)} throughout."
                                    if spec.dispersion is not None else ""),
         f"c1, c2: the cutoffs for Y. gamma1, gamma2: the randomisation probabilities at the "
-        f"cutoffs, truncated to {spec.gamma_decimals} decimals (full precision in "
+        f"cutoffs, truncated to {gamma_places(spec)} decimals (full precision in "
         f"{spec.name}.csv). t1, t2: the thresholds for {spec.random_digits} random digits.",
         "Sizes: the probability of rejecting H0 at the ends of the null hypothesis (at low and "
         "high, or at value), truncated; 'random digits' for the rule with thresholds, "
