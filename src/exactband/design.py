@@ -162,7 +162,7 @@ class Design:
         randomised rule's.  Uses the exact decimal gammas when verified, so a
         gamma such as 0.123 is never floored to 122 by binary rounding.
         """
-        from decimal import ROUND_FLOOR, Decimal
+        from decimal import ROUND_FLOOR, Decimal, localcontext
 
         digits = _random_digits(random_digits)
         scale = Decimal(10) ** digits
@@ -171,7 +171,8 @@ class Design:
             if g is None:
                 return None
             exact = Decimal(text) if text is not None else Decimal(repr(g))
-            return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
+            with localcontext(prec=80):  # exact product: 30 digits never round up to t + 1
+                return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
 
         return one(self.gamma1, self.gamma1_decimal), one(self.gamma2, self.gamma2_decimal)
 

@@ -227,7 +227,7 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
     return fig
 
 
-def _footer(foot, ax, caption, width=125):
+def _footer(foot, ax, caption, width=None):
     """An axes-free strip under the charts: the legend of ``ax`` on top, the caption below.
 
     After a first layout the strip is made taller until the legend's box and the
@@ -235,11 +235,29 @@ def _footer(foot, ax, caption, width=125):
     (legend, caption) artists.
     """
     foot.set_axis_off()
-    legend = foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=2,
-                         fontsize=8, frameon=False, bbox_to_anchor=(0.5, 1.0))
+    fig = foot.figure
+    if width is None:  # characters of 7.5 pt text across the figure (125 on 8 inches)
+        width = max(40, int(125 * fig.get_figwidth() / 8.0))
+
+    from matplotlib.transforms import blended_transform_factory
+
+    centre = blended_transform_factory(fig.transFigure, foot.transAxes)
+
+    def make_legend(ncols):  # centred on the figure (not the axes) so a wide one fits
+        leg = foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=ncols,
+                          fontsize=8, frameon=False, bbox_to_anchor=(0.5, 1.0),
+                          bbox_transform=centre)
+        leg.set_in_layout(False)  # placed by the loop below, not by constrained layout
+        return leg
+
+    legend = make_legend(2)
     text = foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5,
-                     ha="left", va="bottom", transform=foot.transAxes)
-    foot.figure._exactband_footer = (legend, text)
+                     ha="left", va="bottom", transform=foot.transAxes, in_layout=False)
+    fig._exactband_footer = (legend, text)
+    if footer_boxes(fig)[0].width > 0.98 * fig.bbox.width:  # two columns do not fit
+        legend.remove()
+        legend = make_legend(1)
+        fig._exactband_footer = (legend, text)
     gs = foot.get_subplotspec().get_gridspec()
     ratios = list(gs.get_height_ratios() or [1.0] * gs.nrows)
     row = foot.get_subplotspec().rowspan.start
@@ -247,7 +265,8 @@ def _footer(foot, ax, caption, width=125):
         leg, cap = footer_boxes(foot.figure)
         if leg.y0 > cap.y1 + 2:  # pixels of clear space between them
             break
-        ratios[row] *= 1.25
+        need = leg.height + cap.height + 8.0  # the strip's height in pixels that fits both
+        ratios[row] *= max(1.05, need / max(foot.get_window_extent().height, 1.0))
         gs.set_height_ratios(ratios)
     return legend, text
 

@@ -7,7 +7,7 @@ the Design (its cutoffs, gammas, exact decimal gammas and thresholds).
 
 from __future__ import annotations
 
-from decimal import ROUND_FLOOR, Decimal
+from decimal import ROUND_FLOOR, Decimal, localcontext
 
 RULE_NAMES = ("randomised", "conservative", "digits")
 ALIASES = {"randomized": "randomised"}  # accepted spelling
@@ -33,7 +33,8 @@ def gamma_text(gamma, exact: str | None = None, random_digits: int | None = None
     k = max(places, random_digits or 0)
     if x == 0:
         return "0"
-    cut = x.quantize(Decimal(1).scaleb(-k), rounding=ROUND_FLOOR)
+    with localcontext(prec=80):
+        cut = x.quantize(Decimal(1).scaleb(-k), rounding=ROUND_FLOOR)
     text = format(cut, "f")
     if cut != x:
         return text + "..."

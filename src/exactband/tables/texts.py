@@ -225,8 +225,9 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Largest size error, fast solver", f"{v.max_fast_size_error:.3g} "
                                             f"(tolerance {SIZE_TOL:g})"),
         ("Largest size error, precise solver", f"{v.max_precise_size_error:.3g}"),
-        ("Random digits", f"{spec.random_digit_pages} page(s) of {DIGITS_PER_PAGE} from "
-                          f"Python random.Random({spec.seed})"),
+        ("Random digits", f"{spec.random_digit_pages} "
+                          f"page{'s' if spec.random_digit_pages != 1 else ''} of "
+                          f"{DIGITS_PER_PAGE:,} digits from Python random.Random({spec.seed})"),
         ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),
         ("Hashes of all files", f"{spec.name}.manifest.json"),
     ]
@@ -248,5 +249,6 @@ def oc_provenance(tset) -> str:
         charts = sum(len(g.charts) for g in oc.groups)
         parts.append(f"OC curves: {charts} charts, {CURVE_POINTS} values of "
                      f"{WORDS[spec.family][0]} per curve, the designs verified above")
-    return ("; ".join(parts) + ". Exact sums of probabilities over the law of Y (float "
-            "laws of the fast solver), no simulation.")
+    return ("; ".join(parts) + ". Each value is a sum of the exact probabilities of Y "
+            "(the law of the verified design), evaluated in double precision with scipy's "
+            "distribution functions; no simulation.")
