@@ -32,6 +32,12 @@ ROOT = Path(__file__).resolve().parents[1]
 
 
 @pytest.fixture(scope="module")
+def ocset(tmp_path_factory):
+    """The small OC table set of the table tests, generated once for this module."""
+    return built(str(tmp_path_factory.mktemp("words")), "oc", OC)
+
+
+@pytest.fixture(scope="module")
 def band():
     return exactband.design("binomial", "band", n=500, low=0.01, high=0.03, alpha=0.05)
 
@@ -138,8 +144,8 @@ def test_digit_count_note(band):
     assert decide(band, band.c1, digits_read="1", random_digits=1).notes == ()  # asked for
 
 
-def test_table_digit_count_other_than_the_tables(tmp_path, capsys):
-    folder = built(str(tmp_path), "oc", OC)
+def test_table_digit_count_other_than_the_tables(ocset, capsys):
+    folder = ocset
     csv = str(folder / "oc.csv")
     from exactband.tablerow import table_rule
 
@@ -205,14 +211,17 @@ def _apart(fig):
 
 @pytest.mark.parametrize("curve", ["power", "oc"])
 def test_legend_never_over_the_caption(curve):
+    from exactband.oc import operating_characteristics
     from exactband.plots import oc_figure
 
-    for d in (exactband.design("binomial", "band", n=200, low=0.01, high=0.03, alpha=0.05),
+    for d in (exactband.design("binomial", "band", n=200, low=0.01, high=0.03, alpha=0.05,
+                               verify=False),
               exactband.design("negative-binomial", "equivalence", n=40, low=1.5, high=2.5,
-                               alpha=0.05, dispersion=2.5)):
-        _apart(oc_figure(d, curve=curve, random_digits=3))
-    # a narrow figure: long caption lines wrap into more lines
-    _apart(oc_figure(d, curve=curve, size=(6.0, 6.0)))
+                               alpha=0.05, dispersion=2.5, verify=False)):
+        frame = operating_characteristics(d, points=41)
+        _apart(oc_figure(d, frame, curve=curve))
+    # a narrow figure: a two-column legend does not fit, caption lines wrap into more lines
+    _apart(oc_figure(d, frame, curve=curve, size=(6.0, 6.0)))
 
 
 def test_plan_figure_legend_apart():
@@ -272,12 +281,12 @@ def test_oc_pages_share_one_x_range_per_band(tmp_path):
 
 
 # -- printed sheets -------------------------------------------------------------------------
-def test_sheets_shade_by_band_and_group_digits(tmp_path):
+def test_sheets_shade_by_band_and_group_digits(ocset):
     import openpyxl
 
     from exactband.tables.layout import digit_pages
 
-    folder = built(str(tmp_path), "oc", OC)
+    folder = ocset
     wb = openpyxl.load_workbook(folder / "oc.xlsx")
     ws = wb[wb.sheetnames[1]]  # Table 1: band test, one band of three n
     fills = [ws.cell(row=r, column=1).fill.fgColor.rgb for r in range(6, 6 + 3)]
@@ -297,7 +306,7 @@ def test_sheets_shade_by_band_and_group_digits(tmp_path):
     assert max(sum(map(len, gs)) for p in pages for _, gs in p) == 48
 
 
-def test_pdf_zebra_by_band_and_cover_sides(tmp_path):
+def test_pdf_zebra_by_band_and_cover_sides(ocset):
     from pypdf import PdfReader
 
     from exactband.tables.write_pdf import _shaded_runs, band_index
@@ -307,6 +316,6 @@ def test_pdf_zebra_by_band_and_cover_sides(tmp_path):
     assert band_index(sec) == [0] * 5 + [1] * 4 + [2] * 3
     assert _shaded_runs(sec, 0, 12) == [(5, 9)]  # the second band only, never across a line
     assert _shaded_runs(sec, 6, 6) == [(0, 3)]  # a page starting inside it
-    folder = built(str(tmp_path), "oc", OC)
+    folder = ocset
     cover = " ".join(PdfReader(folder / "oc.pdf").pages[0].extract_text().split())
     assert "below the band (rate < low)" in cover and "above the value (rate > value)" in cover
