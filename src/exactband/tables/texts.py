@@ -89,6 +89,15 @@ def _pad(x: int, d: int) -> str:
     return str(x).zfill(d)
 
 
+def _side_short(kind: str, cutoff: str) -> str:
+    """'below the band' for a rejection at c1 of a band test (the side without numbers)."""
+    from ..kinds import KINDS
+
+    k = KINDS[kind]
+    side = "inside" if "inside" in k.sides else "below" if cutoff == "c1" else "above"
+    return k.side_text(side, "").split(" (")[0]
+
+
 def example_lines(section, d: int) -> list:
     """A worked example on the first row of a section (real numbers of the table)."""
     if not section.rows:
@@ -113,7 +122,8 @@ def example_lines(section, d: int) -> list:
             continue
         low, high = _pad(tv // 2, d), _pad(tv + (top - tv) // 2, d)
         lines.append(f"If Y = {cells[c]}: read {d} digits, say {low}; {int(low)} is below "
-                     f"{tv}: reject. Had they been {high}: {int(high)} is not below {tv}: "
+                     f"{tv}: reject ({_side_short(section.kind, c)}). Had they been {high}: "
+                     f"{int(high)} is not below {tv}: "
                      f"do not reject.")
     return lines
 
