@@ -319,3 +319,37 @@ def test_pdf_zebra_by_band_and_cover_sides(ocset):
     folder = ocset
     cover = " ".join(PdfReader(folder / "oc.pdf").pages[0].extract_text().split())
     assert "below the band (rate < low)" in cover and "above the value (rate > value)" in cover
+
+
+# -- the power CSV: thetas as meant, powers to their accuracy ---------------------------------
+def test_power_csv_thetas_and_accuracy(capsys):
+    import io
+
+    import mpmath as mp
+    import pandas as pd
+
+    from exactband import kinds as K
+    from exactband.cli.power import POWER_DECIMALS
+
+    from .conftest import table
+
+    assert main(["power", "--family", "binomial", "--kind", "upper", "--n", "20", "--value",
+                 "0.05", "--alpha", "0.05", "--theta-range", "0.01:0.2", "--points", "20"]) == 0
+    text = capsys.readouterr().out
+    assert "0.04999999" not in text and "\r\n0.05,true,0.05000000000000," in text
+    f = pd.read_csv(io.StringIO(text), dtype=str)
+    assert all(len(x.split(".")[1]) == POWER_DECIMALS for x in f.power_randomised)
+    # the accuracy the CSV claims: Design.power against a 50-digit mpmath sum of the same
+    # test function (conftest.table: masses by recurrence from mpmath loggamma/exp);
+    # measured worst over 900 random (design, theta) pairs: 1.9e-15 (5x margin)
+    for fam, kind, kw, thetas in (
+            ("poisson", "band", dict(low=2, high=2.5), (1.0, 2.0, 2.6, 4.0)),
+            ("binomial", "point", dict(value=0.1), (0.02, 0.1, 0.2)),
+            ("negative-binomial", "equivalence", dict(low=1, high=2, dispersion=2), (0.9, 1.5))):
+        d = exactband.design(fam, kind, n=60, alpha=0.05, verify=False, **kw)
+        for t in thetas:
+            T = table(d.problem.family, t, d.n, d.dispersion, 50)
+            with mp.workdps(50):
+                e = K.expectation(kind, d.c1, mp.mpf(d.gamma1), d.c2, mp.mpf(d.gamma2),
+                                  T.cdf, T.sf, T.pmf)
+            assert abs(d.power(t) - float(e)) < 10.0 ** -POWER_DECIMALS

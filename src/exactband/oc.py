@@ -165,9 +165,18 @@ def default_thetas(design: Design, points: int = DEFAULT_POINTS, extra=()) -> np
         left -= pad
     if fam.theta_ok(right + pad):
         right += pad
-    grid = np.linspace(left, right, pts)
+    grid = snap(np.linspace(left, right, pts))
     grid = grid[fam.theta_ok_array(grid)]
     return np.unique(np.concatenate([grid, np.array(design.points, float), extra]))
+
+
+def snap(grid) -> np.ndarray:
+    """Grid values rounded to 12 significant digits: 0.05, not 0.04999999999999997.
+
+    The points of an evenly spaced grid are arbitrary; rounded, they print as
+    the decimals they are meant to be (the power is computed at the rounded value).
+    """
+    return np.array([float(f"{x:.12g}") for x in np.asarray(grid, dtype=float)])
 
 
 def _bottom(fam):
@@ -203,7 +212,7 @@ def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
     right = right + pad if fam.theta_ok(right + pad) else right
     if first.kind == "upper" and _bottom(fam) is not None:
         left = _bottom(fam)  # all of H0: theta from the bottom of the space up to value
-    grid = np.linspace(left, right, pts)
+    grid = snap(np.linspace(left, right, pts))
     grid = grid[fam.theta_ok_array(grid)]
     return np.unique(np.concatenate([grid, np.array(first.points, float)]))
 
