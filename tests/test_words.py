@@ -200,7 +200,7 @@ def test_readme_decide_example_is_at_a_cutoff(tmp_path, capsys):
 
 # -- figures ----------------------------------------------------------------------------
 def _apart(fig):
-    from exactband.plots import footer_boxes
+    from exactband.figfooter import footer_boxes
 
     leg, cap = footer_boxes(fig)
     w, h = fig.bbox.width, fig.bbox.height

@@ -11,11 +11,11 @@ no dates in the metadata).  The figures draw data computed elsewhere
 from __future__ import annotations
 
 import io
-import textwrap
 from pathlib import Path
 
 
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
+from .figfooter import add_footer
 from .oc import PlanningError, _error, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
@@ -223,59 +223,8 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
         " Sizes are the probabilities of rejecting H0 at "
         f"{', '.join(_num(p) for p in design.points)} (6 decimals); the conservative and field "
         "rules never exceed alpha. All values are exact sums of probabilities.")
-    _footer(foot, ax, caption)
+    add_footer(foot, ax, caption)
     return fig
-
-
-def _footer(foot, ax, caption, width=None):
-    """An axes-free strip under the charts: the legend of ``ax`` on top, the caption below.
-
-    After a first layout the strip is made taller until the legend's box and the
-    caption's box do not overlap (``footer_boxes`` gives them).  Returns the
-    (legend, caption) artists.
-    """
-    foot.set_axis_off()
-    fig = foot.figure
-    if width is None:  # characters of 7.5 pt text across the figure (125 on 8 inches)
-        width = max(40, int(125 * fig.get_figwidth() / 8.0))
-
-    from matplotlib.transforms import blended_transform_factory
-
-    centre = blended_transform_factory(fig.transFigure, foot.transAxes)
-
-    def make_legend(ncols):  # centred on the figure (not the axes) so a wide one fits
-        leg = foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=ncols,
-                          fontsize=8, frameon=False, bbox_to_anchor=(0.5, 1.0),
-                          bbox_transform=centre)
-        leg.set_in_layout(False)  # placed by the loop below, not by constrained layout
-        return leg
-
-    legend = make_legend(2)
-    text = foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5,
-                     ha="left", va="bottom", transform=foot.transAxes, in_layout=False)
-    fig._exactband_footer = (legend, text)
-    if footer_boxes(fig)[0].width > 0.98 * fig.bbox.width:  # two columns do not fit
-        legend.remove()
-        legend = make_legend(1)
-        fig._exactband_footer = (legend, text)
-    gs = foot.get_subplotspec().get_gridspec()
-    ratios = list(gs.get_height_ratios() or [1.0] * gs.nrows)
-    row = foot.get_subplotspec().rowspan.start
-    for _ in range(12):
-        leg, cap = footer_boxes(foot.figure)
-        if leg.y0 > cap.y1 + 2:  # pixels of clear space between them
-            break
-        need = leg.height + cap.height + 8.0  # the strip's height in pixels that fits both
-        ratios[row] *= max(1.05, need / max(foot.get_window_extent().height, 1.0))
-        gs.set_height_ratios(ratios)
-    return legend, text
-
-
-def footer_boxes(fig):
-    """Display-space boxes (legend, caption) of a figure's footer, after a layout."""
-    legend, text = fig._exactband_footer
-    fig.draw_without_rendering()
-    return legend.get_window_extent(), text.get_window_extent()
 
 
 # -- planning: power against n ---------------------------------------------------------
@@ -330,7 +279,7 @@ def plan_figure(result, frame, *, size=None):
                f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
                f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
                f"Design at n = {_num(result.n)}: {_cutoff_text(des)}")
-    _footer(foot, axes[0], caption)
+    add_footer(foot, axes[0], caption)
     return fig
 
 
