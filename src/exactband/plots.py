@@ -275,10 +275,17 @@ def plan_figure(result, frame, *, size=None):
     rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
+    rule_at = _cutoff_text(des, d if result.rule == "digits" else None)
+    if result.rule == "conservative":
+        rule_at = (rule_at if rule_at.endswith("...") else rule_at[:-1]) + (
+            " (the randomised rule's gammas: never used, no rejection at a cutoff).")
+    elif result.rule == "digits":
+        rule_at += f" Thresholds t = floor(gamma x 10^{d}): " + ", ".join(
+            f"t{i} = {t}" for i, t in enumerate(des.thresholds(d), start=1) if t is not None) + "."
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
                f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
                f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
-               f"Design at n = {_num(result.n)}: {_cutoff_text(des)}")
+               f"The {rule_words} at n = {_num(result.n)}: {rule_at}")
     add_footer(foot, axes[0], caption)
     return fig
 
