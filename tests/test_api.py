@@ -69,9 +69,13 @@ def test_power_is_vectorised_and_exact(band):
 
 def test_describe_states_the_rule(band):
     text = band.describe()
-    assert "Reject H0 if Y <= 38 or Y >= 77" in text
-    assert "If Y = 39: reject with probability" in text
-    assert "If Y = 76: reject with probability" in text
+    # each rejection names its side of H0 (issue 11)
+    assert ("Reject H0 if Y <= 38: the data indicate the rate per unit lies below the band "
+            "(rate per unit < 2).") in text
+    assert ("Reject H0 if Y >= 77: the data indicate the rate per unit lies above the band "
+            "(rate per unit > 2.5).") in text
+    assert "If Y = 39: with probability gamma1 = 0.133995... reject, below the band;" in text
+    assert "If Y = 76: with probability gamma2 = 0.650554... reject, above the band;" in text
 
 
 def test_unverified_fast_path_matches():

@@ -17,7 +17,7 @@ CMD = ["design", "--family", "poisson", "--kind", "band", "--n", "25", "--low", 
 def test_design_prints_rule_and_numbers(capsys):
     assert main(CMD) == 0
     out = capsys.readouterr().out
-    assert "Reject H0 if Y <= 38 or Y >= 77." in out
+    assert "Reject H0 if Y <= 38: " in out and "Reject H0 if Y >= 77: " in out
     assert "c1 = 39" in out and "c2 = 76" in out
     assert "solvers agree" in out
 

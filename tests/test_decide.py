@@ -40,7 +40,8 @@ def test_band_every_branch(band):
     assert not decide(band, c2, digits_read=f"{t2}").reject
     above = decide(band, c2 + 1)
     assert above.reject and above.digits_read is None and "above c2" in above.region
-    assert "outside 2 to 2.5" in above.conclusion
+    assert "above the band (rate per unit > 2.5)" in above.conclusion
+    assert above.side == "above" and decide(band, c1 - 1).side == "below"
 
 
 def test_equivalence_is_reversed(equiv):
@@ -65,7 +66,7 @@ def test_one_sided_kinds():
     assert decide(up, up.c2, digits_read=f"{max(t - 1, 0):03d}").reject == (t > 0)
     lo = exactband.design("poisson", "lower", n=10, value=3, alpha=0.05)
     assert decide(lo, lo.c1 - 1).reject and not decide(lo, lo.c1 + 1).reject
-    assert "below 3" in decide(lo, 0).conclusion
+    assert "below the value (rate per unit < 3)" in decide(lo, 0).conclusion
 
 
 def test_digit_rule_rejects_exactly_t_of_the_10_to_d_digit_strings(band):
@@ -92,8 +93,9 @@ def test_drawn_digits_come_from_secrets_and_are_printed(band, monkeypatch):
 
     monkeypatch.setattr(decide_module.secrets, "randbelow", fake)
     d = decide(band, band.c1)
+    # drawn digits: the one default of tables, power and plan (3)
     assert calls == [10 ** 3] and d.digits_read == "007" and d.digits_source == DRAWN
-    assert d.reject  # 7 < 1339
+    assert d.reject  # 7 < 133
     assert "007" in d.describe()
     d3 = decide(band, band.c2, random_digits=3)
     assert calls[-1] == 1000 and d3.digits_read == "007"

@@ -16,6 +16,7 @@ from dataclasses import dataclass
 
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .errors import ExactbandError, invalid
+from .words import gamma_text, side_words
 
 MODES = ("randomised", "conservative")
 MODE_ALIASES = {"randomized": "randomised"}  # accepted spelling
@@ -47,10 +48,17 @@ class Decision:
     digits_source: str | None
     reject: bool
     reason: str
+    side: str | None = None  # below / above / inside / outside: where a rejection points
+    notes: tuple = ()  # remarks printed before the decision (e.g. an unusual digit count)
+
+    @property
+    def side_words(self) -> str | None:
+        """The side of a rejection in words, e.g. 'below the band (p < 0.01)'; None if kept."""
+        return None if self.side is None else side_words(self.design, self.side)
 
     @property
     def conclusion(self) -> str:
-        return conclusion(self.design, self.reject)
+        return conclusion(self.design, self.reject, self.side)
 
     def describe(self) -> str:
         d = self.design
@@ -63,6 +71,7 @@ class Decision:
                          f"{'<' if self.reject else '>='} threshold {self.threshold}.")
         else:
             lines.append("Random digits used: none (not needed for this Y).")
+        lines += [f"Note: {n}" for n in self.notes]
         lines.append(f"Decision: {'REJECT H0' if self.reject else 'DO NOT REJECT H0'}"
                      f" - {self.conclusion}.")
         return "\n".join(lines)
@@ -75,24 +84,30 @@ class Decision:
                 "random_digits": self.random_digits, "threshold": self.threshold,
                 "digits_read": self.digits_read, "digits_source": self.digits_source,
                 "reject": self.reject, "decision": "reject H0" if self.reject else
-                "do not reject H0", "conclusion": self.conclusion, "reason": self.reason,
+                "do not reject H0", "side": self.side, "side_words": self.side_words,
+                "conclusion": self.conclusion, "reason": self.reason, "notes": list(self.notes),
                 "hypothesis": d.hypothesis()}
 
 
-def conclusion(design: Design, reject: bool) -> str:
-    """What rejecting (or not) means for this kind, in words."""
+def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
+    """What rejecting (or not) means, naming the side of H0 the data point to.
+
+    ``side`` is ``Kind.rejection_side`` of the observed Y (below, above, inside,
+    outside); without it a rejection is described by the kind's only side, or
+    as 'outside'.
+    """
+    from .words import the
+
     t = design.problem.family.theta_word
-    low, high, value = _num(design.low), _num(design.high), _num(design.value)
+    low, high = _num(design.low), _num(design.high)
     if not reject:
         if design.kind == "equivalence":
             return f"equivalence not shown: the data do not establish {low} < {t} < {high}"
         return "the data are consistent with " + design.hypothesis()[4:]
-    return {"band": f"the data indicate the {t} lies outside {low} to {high}",
-            "point": f"the data indicate the {t} differs from {value}",
-            "upper": f"the data indicate the {t} exceeds {value}",
-            "lower": f"the data indicate the {t} is below {value}",
-            "equivalence": f"equivalence shown: the data indicate {low} < {t} < {high}",
-            }[design.kind]
+    sides = design.problem.kind.sides
+    side = side or (sides[0] if len(sides) == 1 else "outside")
+    what = f"the data indicate {the(t)} lies {side_words(design, side)}"
+    return ("equivalence shown: " + what) if side == "inside" else what
 
 
 def check_count(design: Design, y) -> int:
@@ -160,7 +175,9 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
     digits_read : the random digits the inspector read (a string such as "482");
         None draws them from the operating system's cryptographic generator
     random_digits : d, the number of digits the rule reads (a table fixes it);
-        default len(digits_read), or design.DEFAULT_RANDOM_DIGITS (3) when drawing
+        default len(digits_read), or design.DEFAULT_RANDOM_DIGITS (3, as tables,
+        power and plan) when drawing; a d other than 3 taken from the digits
+        read adds a note
     digits : deprecated alias of ``digits_read``
     thresholds : (t1, t2) as printed in a table; default floor(gamma * 10**d)
 
@@ -200,33 +217,47 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
             raise _error("random-digits", random_digits, "a whole number from 1 to 9")
     text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)
+    notes = ()
+    if need is None and d != DEFAULT_RANDOM_DIGITS:
+        notes = (f"the rule reads {d} random digit{'s' if d > 1 else ''}, as many as were "
+                 f"read; printed tables, power and plan use {DEFAULT_RANDOM_DIGITS} unless "
+                 f"told otherwise (--random-digits).",)
     words, at, reject = _region(design, yy)
     gammas = (design.gamma1 or 0.0, design.gamma2 or 0.0)
+    exacts = (design.gamma1_decimal, design.gamma2_decimal)
+    side = design.problem.kind.rejection_side(yy, design.c1, design.c2)
+
+    def made(*args, **kw):
+        rej = args[-2]
+        return Decision(design, yy, mode, *args, side=side if rej else None, notes=notes, **kw)
+
     if at is None:
         why = "outside the cutoffs" if reject else "inside the cutoffs"
         if design.kind == "equivalence":
             why = "strictly between the cutoffs" if reject else "outside the cutoffs"
-        return Decision(design, yy, mode, words, False, None, None, None, None, None,
-                        bool(reject), f"Y is {why}: the rule "
-                        f"{'rejects' if reject else 'does not reject'} without randomisation.")
+        return made(words, False, None, None, None, None, None, bool(reject),
+                    f"Y is {why}: the rule "
+                    f"{'rejects' if reject else 'does not reject'} without randomisation.")
     gamma = sum(gammas) if at == 0 else gammas[at - 1]
+    exact = None if at == 0 else exacts[at - 1]
     if gamma == 0.0:
-        return Decision(design, yy, mode, words, False, 0.0, None, None, None, None, False,
-                        "At this cutoff gamma = 0: the rule does not reject.")
+        return made(words, False, 0.0, None, None, None, None, False,
+                    "At this cutoff gamma = 0: the rule does not reject.")
     if mode == "conservative":
-        return Decision(design, yy, mode, words, True, gamma, None, None, None, None, False,
-                        f"At this cutoff the randomised rule rejects with probability "
-                        f"{gamma:.6f}; the conservative rule does not reject.")
+        return made(words, True, gamma, None, None, None, None, False,
+                    f"At this cutoff the randomised rule rejects with probability "
+                    f"{gamma_text(gamma, exact)}; the conservative rule does not reject.")
     ts = design.thresholds(d) if thresholds is None else thresholds
     t = (ts[0] or 0) + (ts[1] or 0) if at == 0 else ts[at - 1]
+    g = gamma_text(gamma, exact, d)
     if t == 0:
-        return Decision(design, yy, mode, words, True, gamma, 0, d, None, None, False,
-                        f"At this cutoff gamma = {gamma:.6f} and the {d}-digit threshold is 0: "
-                        "the field rule does not reject.")
+        return made(words, True, gamma, 0, d, None, None, False,
+                    f"At this cutoff gamma = {g} and the {d}-digit threshold is 0: "
+                    "the field rule does not reject.")
     source = READ
     if text is None:
         text, source = f"{secrets.randbelow(10 ** d):0{d}d}", DRAWN
-    return Decision(design, yy, mode, words, True, gamma, int(t), d, text, source,
-                    int(text) < t,
-                    f"Randomise: gamma = {gamma:.6f}; read {d} random digits as a number and "
-                    f"reject if it is below t = floor(gamma x 10^{d}) = {t}.")
+    name = "t1 + t2" if at == 0 else f"t{at}"
+    return made(words, True, gamma, int(t), d, text, source, int(text) < t,
+                f"Randomise: gamma = {g}; read {d} random digits as a number and reject if it "
+                f"is below {name} = {t} (floor(gamma x 10^{d})).")

@@ -162,7 +162,7 @@ class Design:
         randomised rule's.  Uses the exact decimal gammas when verified, so a
         gamma such as 0.123 is never floored to 122 by binary rounding.
         """
-        from decimal import ROUND_FLOOR, Decimal
+        from decimal import ROUND_FLOOR, Decimal, localcontext
 
         digits = _random_digits(random_digits)
         scale = Decimal(10) ** digits
@@ -171,7 +171,8 @@ class Design:
             if g is None:
                 return None
             exact = Decimal(text) if text is not None else Decimal(repr(g))
-            return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
+            with localcontext(prec=80):  # exact product: 30 digits never round up to t + 1
+                return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
 
         return one(self.gamma1, self.gamma1_decimal), one(self.gamma2, self.gamma2_decimal)
 
@@ -200,8 +201,20 @@ class Design:
             t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
             high=_num(self.high))
 
-    def describe(self) -> str:
-        """The decision rule in plain words."""
+    def describe(self, rule: str = "randomised", random_digits: int | None = None) -> str:
+        """The decision rule in plain words, naming the side of H0 each rejection points to.
+
+        ``rule``: "randomised" (exact gammas, the default; "randomized" accepted),
+        "conservative" (never reject at a cutoff) or "digits" (the field rule
+        reading ``random_digits`` digits, default DEFAULT_RANDOM_DIGITS).
+        """
+        from .words import ALIASES, RULE_NAMES, rule_lines
+
+        key = ALIASES.get(rule, rule)
+        if key not in RULE_NAMES:
+            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits")
+        if key == "digits" and random_digits is None:
+            random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
         disp = f", dispersion k = {_num(self.dispersion)}" if self.dispersion is not None else ""
@@ -213,9 +226,14 @@ class Design:
             lines.append(note)
         lines.append("Y = the total count over the sample." if fam.name != "binomial"
                      else "Y = the number of units with the attribute among the n inspected.")
-        lines.extend(_rule_lines(self))
+        if key != "randomised":
+            lines.append({"conservative": "The conservative rule (no randomisation):",
+                          "digits": f"The field rule with {random_digits} random digits:"}[key])
+        lines.extend(rule_lines(self, key, random_digits))
         word = fam.theta_word
-        sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, self.sizes))
+        used = {"randomised": self, "conservative": self.nonrandomized()}.get(key)
+        used = used if used is not None else self.digit_rule(random_digits)
+        sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, used.sizes))
         lines.append(f"Size (probability of rejecting H0) {sizes}.")
         if self.verified:
             lines.append(f"Verified: the fast and the {self.precision}-digit solvers agree.")
@@ -240,55 +258,3 @@ def _random_digits(d) -> int:
 
         raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
     return int(d)
-
-
-def _prob(g) -> str:
-    return f"{g:.6f}".rstrip("0").rstrip(".") if g else "0"
-
-
-def _rule_lines(d: Design) -> list:
-    kind, c1, g1, c2, g2 = d.kind, d.c1, d.gamma1, d.c2, d.gamma2
-    out = []
-    if kind == "upper":
-        out.append(f"Reject H0 if Y >= {c2 + 1}.")
-        if g2:
-            out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
-        out.append(f"If Y <= {c2 - 1 if g2 else c2}: do not reject.")
-        return out
-    if kind == "lower":
-        out.append(f"Reject H0 if Y <= {c1 - 1}." if c1 > 0 else "Never reject outright (c1 = 0).")
-        if g1:
-            out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
-        out.append(f"If Y >= {c1 + 1 if g1 else c1}: do not reject.")
-        return out
-    if kind in ("band", "point"):
-        if c1 == c2:
-            out.append(f"Reject H0 if Y != {c1}; if Y = {c1}, reject with probability "
-                       f"{_prob(g1 + g2)}.")
-            return out
-        tails = []
-        if c1 > 0:
-            tails.append(f"Y <= {c1 - 1}")
-        tails.append(f"Y >= {c2 + 1}")
-        out.append("Reject H0 if " + " or ".join(tails) + ".")
-        if g1:
-            out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
-        else:
-            out.append(f"If Y = {c1}: do not reject (gamma1 = 0).")
-        if g2:
-            out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
-        else:
-            out.append(f"If Y = {c2}: do not reject (gamma2 = 0).")
-        if c2 - c1 > 1:
-            out.append(f"If {c1 + 1} <= Y <= {c2 - 1}: do not reject.")
-        return out
-    # equivalence: reject in the middle
-    if c2 - c1 > 1:
-        out.append(f"Reject H0 (conclude {d.low} < {d.problem.family.theta_word} < {d.high}) "
-                   f"if {c1 + 1} <= Y <= {c2 - 1}.")
-    if g1:
-        out.append(f"If Y = {c1}: reject with probability {_prob(g1)} (gamma1 = {g1!r}).")
-    if g2:
-        out.append(f"If Y = {c2}: reject with probability {_prob(g2)} (gamma2 = {g2!r}).")
-    out.append(f"If Y <= {c1 - 1 if g1 else c1} or Y >= {c2 + 1 if g2 else c2}: do not reject.")
-    return out

@@ -31,20 +31,56 @@ class Kind:
     uses_c2: bool
     optimality: str
     summary: str  # null hypothesis with {t} for the parameter name
+    sides: tuple = ()  # where the rule rejects: "below", "above" (of H0) or "inside" (the band)
 
     @property
     def two_point(self) -> bool:
         return self.takes == ("low", "high")
 
+    def rejection_side(self, y, c1, c2) -> str | None:
+        """Side of H0 a rejection at the observed total y points to (None: y between c1 and c2).
+
+        "below" or "above" the band or value (the tails of band, point, lower and
+        upper tests), "inside" the band (equivalence), "outside" for a band or
+        point test whose two cutoffs meet at y (a rejection there names no side).
+        """
+        if "inside" in self.sides:
+            return "inside" if c1 <= y <= c2 else None
+        low_tail = self.uses_c1 and y <= c1
+        high_tail = self.uses_c2 and y >= c2
+        if low_tail and high_tail:
+            return "outside"
+        return "below" if low_tail else "above" if high_tail else None
+
+    def side_text(self, side: str, t: str, low="low", high="high", value="value") -> str:
+        """A rejection's side in words, e.g. 'below the band (p < 0.01)'."""
+        where = "the band" if self.two_point else "the value"
+        lo, hi = (low, high) if self.two_point else (value, value)
+        if side == "below":
+            return f"below {where} ({t} < {lo})"
+        if side == "above":
+            return f"above {where} ({t} > {hi})"
+        if side == "inside":
+            return f"inside the band ({lo} < {t} < {hi})"
+        if side == "outside":
+            return f"outside {where} ({t} < {lo} or {t} > {hi})"
+        raise ValueError(f"unknown side {side!r}")
+
+    def rejection_sides(self, t: str, low="low", high="high", value="value") -> tuple:
+        """The words of each side the rule can reject on (in the order of ``sides``)."""
+        return tuple(self.side_text(s, t, low, high, value) for s in self.sides)
+
 
 KINDS: dict[str, Kind] = {
     k.name: k
     for k in (
-        Kind("upper", ("value",), False, True, "UMP", "{t} <= {value}"),
-        Kind("lower", ("value",), True, False, "UMP", "{t} >= {value}"),
-        Kind("point", ("value",), True, True, "UMPU", "{t} = {value}"),
-        Kind("band", ("low", "high"), True, True, "UMPU", "{low} <= {t} <= {high}"),
-        Kind("equivalence", ("low", "high"), True, True, "UMP", "{t} <= {low} or {t} >= {high}"),
+        Kind("upper", ("value",), False, True, "UMP", "{t} <= {value}", ("above",)),
+        Kind("lower", ("value",), True, False, "UMP", "{t} >= {value}", ("below",)),
+        Kind("point", ("value",), True, True, "UMPU", "{t} = {value}", ("below", "above")),
+        Kind("band", ("low", "high"), True, True, "UMPU", "{low} <= {t} <= {high}",
+             ("below", "above")),
+        Kind("equivalence", ("low", "high"), True, True, "UMP", "{t} <= {low} or {t} >= {high}",
+             ("inside",)),
     )
 }
 

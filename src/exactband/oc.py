@@ -166,9 +166,56 @@ def default_thetas(design: Design, points: int = DEFAULT_POINTS, extra=()) -> np
         left -= pad
     if fam.theta_ok(right + pad):
         right += pad
-    grid = np.linspace(left, right, pts)
+    grid = snap(np.linspace(left, right, pts))
     grid = grid[fam.theta_ok_array(grid)]
     return np.unique(np.concatenate([grid, np.array(design.points, float), extra]))
+
+
+def snap(grid) -> np.ndarray:
+    """Grid values rounded to 12 significant digits: 0.05, not 0.04999999999999997.
+
+    The points of an evenly spaced grid are arbitrary; rounded, they print as
+    the decimals they are meant to be (the power is computed at the rounded value).
+    """
+    return np.array([float(f"{x:.12g}") for x in np.asarray(grid, dtype=float)])
+
+
+def _bottom(fam):
+    """The lower end of the parameter space when it is 0 (rates, proportions, means), else None."""
+    return None if fam.theta_ok(-1.0) else 0.0
+
+
+def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
+    """One theta grid for designs of one hypothesis that differ in n and alpha.
+
+    The range covers the null region and the climb of the power of every
+    design (the union of their ``default_thetas`` ranges, each end where the
+    randomised rule's power is within 1e-3 of its limit); for an upper test
+    (H0: theta <= value) it starts at the bottom of the parameter space, so all
+    of H0 shows.  Charts drawn on it share one x-range, so the null region looks
+    the same in every row of a page.  The constraint points are included exactly.
+    """
+    designs = list(designs)
+    if not designs:
+        raise _error("designs", "[]", "at least one design is required")
+    keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
+    if len(keys) != 1:
+        raise PlanningError("invalid designs: one x-range is shared by designs of one "
+                            "hypothesis; these differ in family, kind or hypothesis values")
+    pts = check_points(points)
+    first = designs[0]
+    fam = first.problem.family
+    lo, hi = min(first.points), max(first.points)
+    left = min(_edge(x, lo, -1) for x in designs)
+    right = max(_edge(x, hi, +1) for x in designs)
+    pad = 0.03 * (right - left)
+    left = left - pad if fam.theta_ok(left - pad) else left
+    right = right + pad if fam.theta_ok(right + pad) else right
+    if first.kind == "upper" and _bottom(fam) is not None:
+        left = _bottom(fam)  # all of H0: theta from the bottom of the space up to value
+    grid = snap(np.linspace(left, right, pts))
+    grid = grid[fam.theta_ok_array(grid)]
+    return np.unique(np.concatenate([grid, np.array(first.points, float)]))
 
 
 # -- tables of power and OC -----------------------------------------------------

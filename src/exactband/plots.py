@@ -11,11 +11,11 @@ no dates in the metadata).  The figures draw data computed elsewhere
 from __future__ import annotations
 
 import io
-import textwrap
 from pathlib import Path
 
 
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
+from .figfooter import add_footer
 from .oc import PlanningError, _error, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
@@ -101,8 +101,11 @@ def theta_axis_label(design: Design) -> str:
     return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
 
 
-def _g(x):
-    return "-" if x is None else f"{x:.4f}"
+def _g(x, exact=None, random_digits=None):
+    """A gamma truncated, never rounded: its first d decimals are the threshold."""
+    from .words import gamma_text
+
+    return "-" if x is None else gamma_text(x, exact, random_digits, places=4)
 
 
 def design_caption(design: Design, random_digits: int | None = None) -> str:
@@ -112,7 +115,7 @@ def design_caption(design: Design, random_digits: int | None = None) -> str:
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
              f"{pretty(design.hypothesis())}; {fam.n_word} = {_num(design.n)}; "
              f"alpha = {_num(design.alpha)}."]
-    parts.append(_cutoff_text(design))
+    parts.append(_cutoff_text(design, random_digits))
     if random_digits:
         t1, t2 = design.thresholds(random_digits)
         ts = [f"t{i} = {t} at c{i}" for i, t in ((1, t1), (2, t2)) if t is not None]
@@ -123,13 +126,16 @@ def design_caption(design: Design, random_digits: int | None = None) -> str:
     return " ".join(parts)
 
 
-def _cutoff_text(design: Design) -> str:
+def _cutoff_text(design: Design, random_digits=None) -> str:
     cut = []
     if design.c1 is not None:
-        cut.append(f"c1 = {design.c1}, gamma1 = {_g(design.gamma1)}")
+        cut.append(f"c1 = {design.c1}, gamma1 = "
+                   f"{_g(design.gamma1, design.gamma1_decimal, random_digits)}")
     if design.c2 is not None:
-        cut.append(f"c2 = {design.c2}, gamma2 = {_g(design.gamma2)}")
-    return "; ".join(cut) + "."
+        cut.append(f"c2 = {design.c2}, gamma2 = "
+                   f"{_g(design.gamma2, design.gamma2_decimal, random_digits)}")
+    text = "; ".join(cut)
+    return text if text.endswith("...") else text + "."
 
 
 def _size_text(sizes) -> str:
@@ -177,8 +183,9 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
 
     ``frame`` is ``oc.operating_characteristics(design, ...)`` (computed here when
     omitted).  The null region is shaded, the alpha line drawn, the design named
-    in the caption.  A lower panel shows each rule's power minus the randomised
-    rule's (the curves nearly coincide in the main panel).  Returns a Figure.
+    in the caption.  A lower panel shows each rule's curve minus the randomised
+    rule's, of the same quantity as the top panel (power, or OC), so the signs
+    agree (the curves nearly coincide in the main panel).  Returns a Figure.
     """
     col = _curve_col(curve)
     if frame is None:
@@ -195,7 +202,7 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
         _shade_null(a, design, x0, x1, label=a is ax)
         a.grid(True, color="0.8", linewidth=0.5)
     _alpha_line(ax, design.alpha, curve)
-    base = frame["power_randomised"].to_numpy(float)
+    base = frame[f"{col}_randomised"].to_numpy(float)  # lower panel: same quantity as the top
     for i, rule in enumerate(("randomised", "conservative", "digits")):
         st = dict(STYLE[rule])
         label = rule_label(rule, d)
@@ -203,29 +210,21 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
             label += f"; size {_size_text(sizes[rule])}"
         every = (0.02 + 0.03 * i, 0.09)
         ax.plot(th, frame[f"{col}_{rule}"].to_numpy(float), label=label, markevery=every, **st)
-        dx.plot(th, frame[f"power_{rule}"].to_numpy(float) - base, markevery=every, **st)
+        dx.plot(th, frame[f"{col}_{rule}"].to_numpy(float) - base, markevery=every, **st)
     ax.set_xlim(x0, x1)
     ax.set_ylim(-0.02, 1.02)
     ax.set_ylabel(_y_label(curve))
     dx.set_xlabel(theta_axis_label(design))
-    dx.set_ylabel("power minus\nrandomised power", fontsize=8.5)
+    dx.set_ylabel("power minus\nrandomised power" if col == "power"
+                  else "OC minus\nrandomised OC", fontsize=8.5)
     title = "Power function" if curve == "power" else "Operating characteristic (OC) curve"
     ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
     caption = design_caption(design, d) + (
         " Sizes are the probabilities of rejecting H0 at "
         f"{', '.join(_num(p) for p in design.points)} (6 decimals); the conservative and field "
         "rules never exceed alpha. All values are exact sums of probabilities.")
-    _footer(foot, ax, caption)
+    add_footer(foot, ax, caption)
     return fig
-
-
-def _footer(foot, ax, caption, width=125):
-    """An axes-free strip under the charts: the legend of ``ax`` and the caption."""
-    foot.set_axis_off()
-    foot.legend(*ax.get_legend_handles_labels(), loc="upper center", ncols=2, fontsize=8,
-                frameon=False, bbox_to_anchor=(0.5, 1.0))
-    foot.text(0.0, 0.0, "\n".join(textwrap.wrap(caption, width)), fontsize=7.5, ha="left",
-              va="bottom", transform=foot.transAxes)
 
 
 # -- planning: power against n ---------------------------------------------------------
@@ -276,11 +275,18 @@ def plan_figure(result, frame, *, size=None):
     rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
+    rule_at = _cutoff_text(des, d if result.rule == "digits" else None)
+    if result.rule == "conservative":
+        rule_at = (rule_at if rule_at.endswith("...") else rule_at[:-1]) + (
+            " (the randomised rule's gammas: never used, no rejection at a cutoff).")
+    elif result.rule == "digits":
+        rule_at += f" Thresholds t = floor(gamma x 10^{d}): " + ", ".join(
+            f"t{i} = {t}" for i, t in enumerate(des.thresholds(d), start=1) if t is not None) + "."
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
                f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
                f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
-               f"Design at n = {_num(result.n)}: {_cutoff_text(des)}")
-    _footer(foot, axes[0], caption)
+               f"The {rule_words} at n = {_num(result.n)}: {rule_at}")
+    add_footer(foot, axes[0], caption)
     return fig
 
 
@@ -309,10 +315,9 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
             raise _error("rules", r, "randomised, conservative, digits")
     if paper not in PAGE_INCHES:
         raise _error("paper", paper, "A4 or Letter")
-    from .oc import default_thetas
+    from .oc import shared_thetas
 
-    widest = min(designs, key=lambda x: x.n)
-    theta = default_thetas(widest, points)
+    theta = shared_thetas(designs, points)  # one x-range for every row of charts
     rows = []
     for alpha in sorted({x.alpha for x in designs}):
         group = sorted((x for x in designs if x.alpha == alpha), key=lambda x: x.n)

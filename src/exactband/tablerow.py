@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import csv
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from decimal import ROUND_FLOOR, Decimal
 from pathlib import Path
 
@@ -30,8 +30,15 @@ class TableRule:
     design: Design
     thresholds: tuple  # (t1, t2), None where unused
     random_digits: int
-    row: int  # 1-based data row
+    row: int  # 1-based data row (the header is not counted)
     path: str
+    note: str | None = None  # set when the digits asked for differ from the table's
+    table_random_digits: int | None = None  # the table's own count when it differs
+
+    @property
+    def printed_random_digits(self) -> int:
+        """The number of random digits the table's printed thresholds are for."""
+        return self.random_digits if self.table_random_digits is None else self.table_random_digits
 
 
 def _cell(row, name):
@@ -171,20 +178,28 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         c2 = g2 = None
     base = Design(prob, c1, g1, c2, g2, ())
     design = base.with_gammas(g1, g2)
+    decimals = [_cell(r, f"gamma{i}_decimal") for i in (1, 2)]
+    for i, (g, text) in enumerate(zip((g1, g2), decimals), start=1):
+        try:  # the 30-digit gamma, if the table has it and it is this gamma
+            ok = text is not None and g is not None and abs(float(Decimal(text)) - g) <= 1e-15
+        except ArithmeticError:
+            ok = False
+        decimals[i - 1] = text if ok else None
+    design = replace(design, gamma1_decimal=decimals[0], gamma2_decimal=decimals[1])
     ts = tuple(_number(where, f"threshold{i}", _cell(r, f"threshold{i}"), whole=True)
                for i in (1, 2))
     ts = (ts[0] if kind.uses_c1 else None, ts[1] if kind.uses_c2 else None)
     col = _cell(r, "random_digits")
-    d = None
+    d = asked = None
     for source, value in (("random_digits", col), ("random-digits", random_digits)):
         if value is not None:
             dd = _number(where, source, str(value), whole=True)
             if not 1 <= dd <= 9:
                 raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9")
-            if d is not None and dd != d:
-                raise DecideError(f"invalid random-digits = {random_digits}: the table reads "
-                                  f"{d} random digits")
-            d = dd if d is None else d
+            if source == "random_digits":
+                d = dd
+            else:
+                asked = dd
     printed = any(t is not None for t in ts)
     if d is None:
         d = _infer_digits((g1, g2), ts) if printed else None
@@ -195,4 +210,13 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         if g is not None and t is not None and abs(_floor_t(g, d) - t) > 1:
             raise DecideError(f"{where}: threshold{i} = {t} does not match floor(gamma{i} x 10^{d})"
                               f" = {_floor_t(g, d)}; is the number of random digits {d}?")
+    if asked is not None and asked != d:
+        # the user asks for another number of digits than the table prints: thresholds
+        # from the row's gammas for that d, and say so
+        t_new = design.thresholds(asked)
+        note = (f"the table's rule reads {d} random digits; this decision reads {asked} "
+                f"(--random-digits), so the thresholds are floor(gamma x 10^{asked}) = "
+                + ", ".join(f"t{i} = {t}" for i, t in ((1, t_new[0]), (2, t_new[1]))
+                            if t is not None) + ", not the printed ones.")
+        return TableRule(design, t_new, asked, k, str(path), note, d)
     return TableRule(design, ts, d, k, str(path))

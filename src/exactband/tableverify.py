@@ -81,9 +81,10 @@ def check_row(tr: TableRule, cells: dict) -> None:
         d = verify_one(p, fast_solve([p])[0], _precision(cells))
     except ExactbandError as e:
         raise DecideError(f"{where}: its design cannot be verified: {e}") from None
-    t1, t2 = d.thresholds(tr.random_digits)
+    printed = tr.printed_random_digits  # the printed thresholds follow the table's count
+    t1, t2 = d.thresholds(printed)
     cons = d.nonrandomized().sizes
-    digit = d.digit_rule(tr.random_digits).sizes
+    digit = d.digit_rule(printed).sizes
     want = {"c1": d.c1, "c2": d.c2, "gamma1": d.gamma1, "gamma2": d.gamma2,
             "gamma1_decimal": d.gamma1_decimal, "gamma2_decimal": d.gamma2_decimal,
             "threshold1": t1, "threshold2": t2, "size_low": d.size_low,

@@ -50,7 +50,8 @@ def add_parser(sub) -> None:
     t.add_argument("--table", metavar="FILE.csv",
                    help="machine-readable table CSV; the row is picked by --row or by the "
                         "design options given")
-    t.add_argument("--row", metavar="K", help="1-based data row of the table")
+    t.add_argument("--row", metavar="N", help="row N of the table: the N-th data row, 1-based "
+                   "(the header line is not counted; row 1 is the first design)")
     p.add_argument("--json", action="store_true", help="print one JSON object instead of text")
     p.set_defaults(run=run)
 
@@ -69,6 +70,10 @@ def run(args) -> int:
                         high=args.high, value=args.value, dispersion=args.dispersion)
         dec = decide(tr.design, args.y, rule=rule, digits_read=args.digits_read,
                      random_digits=tr.random_digits, thresholds=tr.thresholds)
+        if tr.note:
+            from dataclasses import replace
+
+            dec = replace(dec, notes=dec.notes + (tr.note,))
         source = f"table {tr.path}, row {tr.row} (the row matches a fresh solve)"
     else:
         if args.row is not None:

@@ -83,7 +83,8 @@ def text_report(r) -> str:
         lines.append(f"Power at n = {_num(r.n - r.step)}: {_powers(r, r.power_below)}")
     if r.n_from != r.n:
         lines.append(f"Power at n_from = {_num(r.n_from)}: {_powers(r, r.power_from)}")
-    lines += ["", f"The design at n = {_num(r.n)}:", r.design.describe()]
+    lines += ["", f"The {rule} at n = {_num(r.n)}:",
+              r.design.describe(rule=r.rule, random_digits=r.random_digits or None)]
     if r.design.check is not None:
         lines.append(r.design.check.summary())
     return "\n".join(lines) + "\n"

@@ -16,7 +16,9 @@ examples:
 Columns: theta, in_null, power_randomised, power_conservative, power_digits and
 oc_* = 1 - power_*.  'digits' is the rule the field applies with D random digits
 (threshold t = floor(gamma * 10^D)); 'conservative' drops the randomisation.
-Every number is an exact sum of probabilities, not a simulation.
+Every number is an exact sum of probabilities, not a simulation, evaluated in
+double precision: the CSV rounds powers to 14 decimals (their accuracy); thetas
+of a range are rounded to 12 significant digits (0.05, not 0.04999999999999997).
 """
 
 
@@ -47,6 +49,19 @@ def add_parser(sub) -> None:
     p.set_defaults(run=run)
 
 
+POWER_DECIMALS = 14  # double-precision sums: absolute error below 1e-14 (tests/test_words.py)
+
+
+def rounded(frame):
+    """The CSV's view: powers and OCs rounded to their accuracy, 14 decimals (a power
+    below 5e-15 prints as 0.00000000000000, i.e. below the accuracy)."""
+    out = frame.copy()
+    for col in out.columns:
+        if col.startswith(("power_", "oc_")):
+            out[col] = [f"{x:.{POWER_DECIMALS}f}" for x in out[col]]
+    return out
+
+
 def thetas_from_args(design, args):
     """The theta values asked for (None: the default range)."""
     import numpy as np
@@ -67,7 +82,9 @@ def thetas_from_args(design, args):
     lo, hi = (check_thetas(design, [x], "theta-range")[0] for x in parts)
     if not lo < hi:
         raise PlanningError(f"invalid theta-range = {args.theta_range}: {allowed}")
-    return np.linspace(lo, hi, check_points(args.points))
+    from ..oc import snap
+
+    return snap(np.linspace(lo, hi, check_points(args.points)))
 
 
 def run(args) -> int:
@@ -97,6 +114,6 @@ def run(args) -> int:
                           "sizes": {k: list(v) for k, v in frame.attrs["sizes"].items()},
                           "rows": frame_records(frame)})
     else:
-        text = frame_csv(frame)
+        text = frame_csv(rounded(frame))
     emit(text, args.out)
     return 0

@@ -106,7 +106,7 @@ def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservat
     sd = size_decimals(alpha)
     two = kind in TWO_POINT
     at = ("low", "high") if two else ("value",)
-    cols = [Column(k, "H0 band" if two else "H0 value", k) for k in at]
+    cols = [Column(k, "H0 band" if two else "H0", k) for k in at]
     cols.append(Column("n", "", "n"))
     kd = KINDS[kind]
     if kd.uses_c1:
@@ -156,7 +156,7 @@ def build_sections(tset) -> list:
     spec = tset.spec
     out = []
     for number, (kind, alpha) in enumerate(sections(spec), start=1):
-        cols = columns(kind, spec.family, alpha, spec.gamma_decimals, spec.conservative)
+        cols = columns(kind, spec.family, alpha, gamma_places(spec), spec.conservative)
         rows = tset.section_rows(kind, alpha)
         cells = tuple(_cells(r, cols) for r in rows)
         starts = tuple(i for i, r in enumerate(rows)
@@ -167,9 +167,15 @@ def build_sections(tset) -> list:
             heading=f"Table {number}. {KIND_TITLE[kind]} ({KINDS[kind].optimality}), "
                     f"alpha = {plain(alpha)}",
             hypothesis=hypothesis_text(kind, spec.family),
-            rule=rule_text(kind, spec.random_digits),
+            rule=rule_text(kind, spec.random_digits, spec.family),
             columns=cols, rows=cells, group_starts=starts))
     return out
+
+
+def gamma_places(spec) -> int:
+    """Decimals of a printed gamma: the spec's, but at least the random digits read, so
+    the threshold t = floor(gamma * 10**d) can be read off the printed gamma."""
+    return max(spec.gamma_decimals, spec.random_digits)
 
 
 def print_rows(sections_) -> tuple:
@@ -182,3 +188,29 @@ def print_rows(sections_) -> tuple:
             rows.append((f"Table {s.number}", s.kind, plain(s.alpha))
                         + tuple(cells[pos[k]].text if k in pos else "" for k in PRINT_KEYS))
     return header, rows
+
+
+LINE_DIGITS = 50  # at most this many random digits on a printed line
+
+
+def digit_pages(digits: str, random_digits: int, per_page: int) -> list:
+    """Random digits laid out as read: pages of lines of groups of ``random_digits``.
+
+    Groups hold d digits, the number read at a cutoff (5 when d is 1 or above 6,
+    too short or too long to scan); a line holds as many whole groups as fit in
+    LINE_DIGITS digits, so a group never runs over a line; every page holds the
+    same ``per_page`` digits as the digit string's pages (its last line may be
+    short).  Returns, per page, a list of (line number, [groups]); line numbers
+    run on from page to page.
+    """
+    g = random_digits if 2 <= random_digits <= 6 else 5
+    width = (LINE_DIGITS // g) * g
+    pages, number = [], 0
+    for start in range(0, len(digits), per_page):
+        page, text = [], digits[start:start + per_page]
+        for at in range(0, len(text), width):
+            number += 1
+            chunk = text[at:at + width]
+            page.append((number, [chunk[i:i + g] for i in range(0, len(chunk), g)]))
+        pages.append(page)
+    return pages

@@ -7,8 +7,9 @@ digits); every number is an exact sum over the law of Y (``Design.power``):
 * ``powers``: for each design of the table, the power of each rule at the
   spec's ``oc.thetas`` and whether each theta lies in H0 (the Power sheet);
 * ``groups``: for each kind and band (or value), the curves of the OC pages,
-  one chart per alpha and a few n (``oc.operating_characteristics`` on a theta
-  grid that spans the null region and the climb of the chart's smallest n).
+  one chart per alpha and a few n (``oc.operating_characteristics`` on one
+  theta grid per band or value, ``oc.shared_thetas``: the null region and the
+  climb of every chart's curves; for upper tests all of H0).
 """
 
 from __future__ import annotations
@@ -18,7 +19,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .. import kinds as K
-from ..oc import default_thetas, operating_characteristics, rule_designs
+from ..oc import operating_characteristics, rule_designs, shared_thetas
 from .grid import hypotheses, sections
 from .spec import TableSpec
 from .spec_oc import RULES, chart_rows
@@ -89,6 +90,10 @@ def _groups(spec: TableSpec, rows, number: dict):
     for kind in spec.kinds:
         for hyp in hypotheses(spec, kind):
             points = tuple(hyp)  # Design.points: (low, high) or (value,)
+            mine = [r.design for r in rows if r.design.kind == kind
+                    and r.design.points == points and r.design.n in drawn]
+            # one x-range for every chart of the band (or value): all alpha, all n
+            theta = shared_thetas(mine, CURVE_POINTS) if mine else None
             charts = []
             for alpha in spec.alpha:
                 ds = sorted((r.design for r in rows if r.design.kind == kind
@@ -99,14 +104,13 @@ def _groups(spec: TableSpec, rows, number: dict):
                     group = ds[start:start + size]
                     start += size
                     if group:
-                        charts.append(_chart(alpha, group, spec.random_digits))
+                        charts.append(_chart(alpha, group, spec.random_digits, theta))
             yield CurveGroup(kind, points, tuple(number[(kind, a)] for a in spec.alpha),
                              tuple(charts))
 
 
-def _chart(alpha, designs, random_digits) -> Chart:
-    """Curves of a few n on one theta grid: the smallest n has the widest curve."""
-    theta = default_thetas(designs[0], CURVE_POINTS)
+def _chart(alpha, designs, random_digits, theta) -> Chart:
+    """Curves of a few n on the band's theta grid (``oc.shared_thetas``)."""
     frames = tuple(operating_characteristics(d, theta, random_digits=random_digits)
                    for d in designs)
     return Chart(alpha, tuple(designs), frames)

@@ -7,7 +7,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
-from .layout import KIND_TITLE, WORDS, plain
+from .layout import KIND_TITLE, WORDS, gamma_places, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
            "sampling plans and the consequences of a decision come from the governing "
@@ -45,21 +45,33 @@ def _digits(d: int) -> str:
     return f"read {d} random digits as a number (0 to {10 ** d - 1})"
 
 
-def rule_text(kind: str, d: int) -> str:
-    """The rule of one section in words, with the random-digit procedure."""
+def _sides(kind: str, family: str) -> dict:
+    """Each side the kind rejects on, in words with the family's symbol."""
+    from ..kinds import KINDS
+
+    k = KINDS[kind]
+    return dict(zip(k.sides, k.rejection_sides(WORDS[family][0])))
+
+
+def rule_text(kind: str, d: int, family: str = "poisson") -> str:
+    """The rule of one section in words, naming the side of each rejection, with the
+    random-digit procedure."""
     read = _digits(d)
+    side = _sides(kind, family)
     if kind in ("band", "point"):
-        return (f"Reject H0 if Y < c1 or Y > c2. If Y = c1, {read}: reject if it is below t1. "
-                f"If Y = c2, the same with t2. Otherwise (c1 < Y < c2) do not reject. "
-                f"If c1 = c2, read the digits once and reject if the number is below t1 + t2.")
+        return (f"Reject H0 if Y < c1 ({side['below']}) or Y > c2 ({side['above']}). "
+                f"If Y = c1, {read}: reject ({side['below'].split(' (')[0]}) if it is below "
+                f"t1. If Y = c2, the same with t2 ({side['above'].split(' (')[0]}). Otherwise "
+                f"(c1 < Y < c2) do not reject. If c1 = c2, read the digits once and reject if "
+                f"the number is below t1 + t2.")
     if kind == "upper":
-        return (f"Reject H0 if Y > c2. If Y = c2, {read}: reject if it is below t2. "
-                f"Otherwise (Y < c2) do not reject.")
+        return (f"Reject H0 if Y > c2 ({side['above']}). If Y = c2, {read}: reject if it is "
+                f"below t2. Otherwise (Y < c2) do not reject.")
     if kind == "lower":
-        return (f"Reject H0 if Y < c1. If Y = c1, {read}: reject if it is below t1. "
-                f"Otherwise (Y > c1) do not reject.")
-    return (f"Reject H0 (conclude it lies inside the band) if c1 < Y < c2. If Y = c1, {read}: "
-            f"reject if it is below t1. If Y = c2, the same with t2. "
+        return (f"Reject H0 if Y < c1 ({side['below']}). If Y = c1, {read}: reject if it is "
+                f"below t1. Otherwise (Y > c1) do not reject.")
+    return (f"Reject H0 if c1 < Y < c2 (equivalence shown: {side['inside']}). If Y = c1, "
+            f"{read}: reject if it is below t1. If Y = c2, the same with t2. "
             f"Otherwise (Y < c1 or Y > c2) do not reject.")
 
 
@@ -75,6 +87,15 @@ def conservative_text(kind: str) -> str:
 
 def _pad(x: int, d: int) -> str:
     return str(x).zfill(d)
+
+
+def _side_short(kind: str, cutoff: str) -> str:
+    """'below the band' for a rejection at c1 of a band test (the side without numbers)."""
+    from ..kinds import KINDS
+
+    k = KINDS[kind]
+    side = "inside" if "inside" in k.sides else "below" if cutoff == "c1" else "above"
+    return k.side_text(side, "").split(" (")[0]
 
 
 def example_lines(section, d: int) -> list:
@@ -101,7 +122,8 @@ def example_lines(section, d: int) -> list:
             continue
         low, high = _pad(tv // 2, d), _pad(tv + (top - tv) // 2, d)
         lines.append(f"If Y = {cells[c]}: read {d} digits, say {low}; {int(low)} is below "
-                     f"{tv}: reject. Had they been {high}: {int(high)} is not below {tv}: "
+                     f"{tv}: reject ({_side_short(section.kind, c)}). Had they been {high}: "
+                     f"{int(high)} is not below {tv}: "
                      f"do not reject.")
     return lines
 
@@ -125,7 +147,7 @@ def cover_blocks(tset, sections_) -> list:
     b.append(("heading", "The rules"))
     for k in kinds:
         b.append(("para", f"{KIND_TITLE[k]}, {hypothesis_text(k, spec.family)}: "
-                          f"{rule_text(k, d)}"))
+                          f"{rule_text(k, d, spec.family)}"))
     b.append(("heading", f"Randomisation at a cutoff with {d} random digits"))
     b.append(("para", f"Each gamma in the tables is the probability of rejecting H0 when Y "
                       f"falls exactly on its cutoff. In the field it is applied with random "
@@ -186,7 +208,7 @@ def legend(spec) -> list:
         f"n: {n_is}." + (f" Dispersion k = {plain(spec.dispersion)} throughout."
                                    if spec.dispersion is not None else ""),
         f"c1, c2: the cutoffs for Y. gamma1, gamma2: the randomisation probabilities at the "
-        f"cutoffs, truncated to {spec.gamma_decimals} decimals (full precision in "
+        f"cutoffs, truncated to {gamma_places(spec)} decimals (full precision in "
         f"{spec.name}.csv). t1, t2: the thresholds for {spec.random_digits} random digits.",
         "Sizes: the probability of rejecting H0 at the ends of the null hypothesis (at low and "
         "high, or at value), truncated; 'random digits' for the rule with thresholds, "
@@ -213,8 +235,9 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Largest size error, fast solver", f"{v.max_fast_size_error:.3g} "
                                             f"(tolerance {SIZE_TOL:g})"),
         ("Largest size error, precise solver", f"{v.max_precise_size_error:.3g}"),
-        ("Random digits", f"{spec.random_digit_pages} page(s) of {DIGITS_PER_PAGE} from "
-                          f"Python random.Random({spec.seed})"),
+        ("Random digits", f"{spec.random_digit_pages} "
+                          f"page{'s' if spec.random_digit_pages != 1 else ''} of "
+                          f"{DIGITS_PER_PAGE:,} digits from Python random.Random({spec.seed})"),
         ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),
         ("Hashes of all files", f"{spec.name}.manifest.json"),
     ]
@@ -236,5 +259,6 @@ def oc_provenance(tset) -> str:
         charts = sum(len(g.charts) for g in oc.groups)
         parts.append(f"OC curves: {charts} charts, {CURVE_POINTS} values of "
                      f"{WORDS[spec.family][0]} per curve, the designs verified above")
-    return ("; ".join(parts) + ". Exact sums of probabilities over the law of Y (float "
-            "laws of the fast solver), no simulation.")
+    return ("; ".join(parts) + ". Each value is a sum of the exact probabilities of Y "
+            "(the law of the verified design), evaluated in double precision with scipy's "
+            "distribution functions; no simulation.")

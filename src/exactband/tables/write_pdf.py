@@ -198,7 +198,7 @@ def _group_spans(section) -> list:
     return [("SPAN", (a, 0), (b - 1, 0)) for _, a, b in _groups(section) if b - a > 1]
 
 
-def _table_style(section, size, chunk_starts, nrows) -> TableStyle:
+def _table_style(section, size, chunk_starts, nrows, shaded=()) -> TableStyle:
     cmds = [
         ("FONT", (0, 0), (-1, 1), "Helvetica-Bold", size),
         ("FONT", (0, 2), (-1, -1), "Helvetica", size),
@@ -218,14 +218,37 @@ def _table_style(section, size, chunk_starts, nrows) -> TableStyle:
     for i in range(1, len(cols)):
         if cols[i].group != cols[i - 1].group:
             cmds.append(("LINEBEFORE", (i, 0), (i, -1), 0.5, colors.black))
-    # shade every other block of 5 rows, to help the eye across
-    for start in range(0, nrows, 10):
-        if start + 5 < nrows:
-            cmds.append(("BACKGROUND", (0, 2 + start + 5), (-1, 2 + min(nrows, start + 10) - 1),
-                         GREY))
+    # shade every other band (or value), to help the eye across: a shade never
+    # crosses the line between two bands
+    for a, b in shaded:
+        cmds.append(("BACKGROUND", (0, 2 + a), (-1, 2 + b - 1), GREY))
     for r in chunk_starts:
         cmds.append(("LINEABOVE", (0, 2 + r), (-1, 2 + r), 0.8, colors.black))
     return TableStyle(cmds)
+
+
+def band_index(section) -> list:
+    """For each row of a section, the number of its band (or value), 0-based."""
+    starts = set(section.group_starts)
+    out, k = [], -1
+    for i in range(len(section.rows)):
+        k += i in starts or i == 0
+        out.append(k)
+    return out
+
+
+def _shaded_runs(section, first: int, count: int) -> list:
+    """(start, end) row runs of one page, relative to the page, of the odd bands."""
+    idx = band_index(section)[first:first + count]
+    runs, start = [], None
+    for i, k in enumerate(idx + [None]):
+        odd = k is not None and k % 2 == 1
+        if odd and start is None:
+            start = i
+        if not odd and start is not None:
+            runs.append((start, i))
+            start = None
+    return runs
 
 
 def _section_flowables(section, geo, pages, spec) -> list:
@@ -252,7 +275,8 @@ def _section_flowables(section, geo, pages, spec) -> list:
         tab = Table(header + body, colWidths=widths, rowHeights=[head0, row_h]
                     + [row_h] * len(body), hAlign="LEFT")
         seps = [i - first for i in range(first + 1, first + len(chunk)) if i in starts]
-        tab.setStyle(_table_style(section, size, seps, len(body)))
+        tab.setStyle(_table_style(section, size, seps, len(body),
+                                  _shaded_runs(section, first, len(chunk))))
         out.append(tab)
     return out
 
@@ -290,31 +314,37 @@ def _cover(tset, blocks, sections, pages, geo) -> list:
 
 
 def _digit_pages(tset, pages, geo) -> list:
+    from .build import DIGITS_PER_PAGE
+    from .layout import digit_pages
+
     spec, digits = tset.spec, tset.random_digits
+    d = spec.random_digits
+    layout = digit_pages(digits, d, DIGITS_PER_PAGE)
     out = []
     fw, _ = geo.frame(False)
-    for page in range(len(digits) // 2500):
+    for page, lines in enumerate(layout):
         out += [NextPageTemplate("portrait"), PageBreak()]
         if page == 0:
             out.append(_Mark("digits", pages))
-        out.append(_p(f"Random digits, page {page + 1} of {len(digits) // 2500}", "sec"))
-        out.append(_p(f"From Python random.Random({spec.seed}). Read them in order from where "
-                      f"your supervisor says, {spec.random_digits} at a time; cross them out as "
-                      f"you use them and never use them twice.", "rule"))
-        lines = []
-        for line in range(50):
-            at = page * 2500 + line * 50
-            chunk = digits[at:at + 50]
-            lines.append([str(page * 50 + line + 1)] + [chunk[g * 5:g * 5 + 5] for g in range(10)])
-        tab = Table(lines, colWidths=[12 * mm] + [(fw - 14 * mm) / 10] * 10, hAlign="LEFT",
-                    rowHeights=[12.2] * 50)
+        groups = max(len(g) for _, g in lines)
+        size = len(lines[0][1][0])
+        how = (f"grouped {size} at a time as they are read" if size == d else
+               f"in groups of {size} for the eye; read them {d} at a time across the groups")
+        out.append(_p(f"Random digits, page {page + 1} of {len(layout)}", "sec"))
+        out.append(_p(f"From Python random.Random({spec.seed}), {len(digits)} digits in all, "
+                      f"{how}. Read them in order from where your supervisor says; cross them "
+                      f"out as you use them and never use them twice.", "rule"))
+        rows = [[str(number)] + g + [""] * (groups - len(g)) for number, g in lines]
+        tab = Table(rows, colWidths=[12 * mm] + [(fw - 14 * mm) / groups] * groups,
+                    hAlign="LEFT", rowHeights=[11.8] * len(rows))
         tab.setStyle(TableStyle([("FONT", (0, 0), (-1, -1), "Courier", 10),
                                  ("FONT", (0, 0), (0, -1), "Helvetica", 8),
                                  ("ALIGN", (0, 0), (0, -1), "RIGHT"),
+                                 ("ALIGN", (1, 0), (-1, -1), "CENTER"),
                                  ("TOPPADDING", (0, 0), (-1, -1), 0),
                                  ("BOTTOMPADDING", (0, 0), (-1, -1), 2),
                                  *[("LINEBELOW", (0, r), (-1, r), 0.4, colors.grey)
-                                   for r in range(4, 50, 5)]]))
+                                   for r in range(4, len(rows) - 1, 5)]]))
         out.append(tab)
     return out
 

@@ -180,13 +180,17 @@ def _section(wb, tset, s) -> None:
     formats = [("0." + "0" * c.decimals) if c.decimals else "0" if c.key in (
         "c1", "c2", "t1", "t2") else "General" for c in s.columns]
     starts = set(s.group_starts)
+    band = -1
     for i, cells in enumerate(s.rows):
         r = 6 + i
+        band += i in starts or i == 0
         for j, cell in enumerate(cells, start=1):
             x = ws.cell(row=r, column=j, value=cell.value)
             x.number_format = formats[j - 1]
             if i in starts and i > 0:
-                x.border = Border(top=THIN)
+                x.border = Border(top=MEDIUM)  # the line between bands, as in the PDF
+            if band % 2:
+                x.fill = SHADE  # every other band shaded, as in the PDF
     ws.freeze_panes = "A6"
     ws.print_title_rows = "1:5"
     ws.print_options.gridLines = True
@@ -194,44 +198,83 @@ def _section(wb, tset, s) -> None:
 
 
 def _data(wb, tset) -> None:
+    """Every design at full precision: columns as wide as their text, a rule under the
+    header and between bands, a page break before each printed table's rows."""
+    from openpyxl.worksheet.pagebreak import Break
+
     ws = wb.create_sheet("Data")
     ws.append(list(COLUMNS))
     for c in ws[1]:
-        c.font = BOLD
-    numeric = {i for i, k in enumerate(COLUMNS) if k not in ("family", "kind", "gamma1_decimal",
-                                                             "gamma2_decimal")}
-    for row in tset.rows:
+        c.font, c.alignment, c.border = BOLD, CENTER, Border(bottom=THIN)
+    text = {"family", "kind", "gamma1_decimal", "gamma2_decimal"}
+    numeric = {i for i, k in enumerate(COLUMNS) if k not in text}
+    longest = [len(k) for k in COLUMNS]
+    before = None
+    for n, row in enumerate(tset.rows):
         vals = csv_row(row, tset.spec.random_digits)
         ws.append([None if v == "" else (float(v) if "." in v or "e" in v else int(v))
                    if i in numeric else v for i, v in enumerate(vals)])
+        longest = [max(a, len(v)) for a, v in zip(longest, vals)]
+        d = row.design
+        table, group = (d.kind, d.alpha), (d.kind, d.alpha, d.points)
+        if before is not None and group != before[1]:
+            for c in ws[ws.max_row]:
+                c.border = Border(top=MEDIUM if table != before[0] else THIN)
+            if table != before[0]:
+                ws.row_breaks.append(Break(id=ws.max_row - 1))  # each table on new pages
+        before = (table, group)
     for j, k in enumerate(COLUMNS, start=1):
-        ws.column_dimensions[get_column_letter(j)].width = max(10, len(k) + 2)
-    ws.freeze_panes = "A2"
+        letter = get_column_letter(j)
+        ws.column_dimensions[letter].width = min(40, max(8, longest[j - 1] + 2))
+        if k.endswith("_decimal"):
+            for (cell,) in ws.iter_rows(min_row=2, min_col=j, max_col=j):
+                cell.number_format = "@"
+    ws.freeze_panes = "C2"
     ws.print_title_rows = "1:1"
+    ws.print_title_cols = "A:C"
     _page(ws, tset.spec, True, "Data (full precision)")
+    ws.page_setup.fitToWidth = 2  # 25 wide columns: two pages across keep them legible
 
 
 def _digits(wb, tset) -> None:
+    """The random digits grouped as they are read, one printed page per page of digits."""
+    from openpyxl.worksheet.pagebreak import Break
+
+    from .build import DIGITS_PER_PAGE
+    from .layout import digit_pages
+
     ws = wb.create_sheet("Random digits")
     spec = tset.spec
-    ws["A1"] = f"Random digits, {len(tset.random_digits)} from Python random.Random({spec.seed})"
+    d = spec.random_digits
+    layout = digit_pages(tset.random_digits, d, DIGITS_PER_PAGE)
+    size = len(layout[0][0][1][0]) if layout and layout[0] else d
+    how = (f"grouped {size} at a time as they are read" if size == d else
+           f"in groups of {size} for the eye; read them {d} at a time across the groups")
+    ws["A1"] = (f"Random digits, {len(tset.random_digits)} from Python "
+                f"random.Random({spec.seed}), {how}")
     ws["A1"].font = BOLD
     ws["A2"] = ("Use in order from where your supervisor says; cross digits out as you use "
                 "them; never use them twice.")
-    mono = Font(name="Courier New", size=11)
-    digits = tset.random_digits
-    for line in range(len(digits) // 50):
-        r = 4 + line + 2 * (line // 50)  # a gap between pages of 50 lines
-        ws.cell(row=r, column=1, value=line + 1).font = mono
-        chunk = digits[line * 50:(line + 1) * 50]
-        for g in range(10):
-            cell = ws.cell(row=r, column=2 + g, value=chunk[g * 5:(g + 1) * 5])
-            cell.font, cell.alignment = mono, Alignment(horizontal="center")
+    mono = Font(name="Courier New", size=10)
+    groups = max((len(g) for page in layout for _, g in page), default=1)
+    r = 3
+    for p, lines in enumerate(layout):
+        if p:
+            ws.row_breaks.append(Break(id=r))  # one page of digits per printed page
+        for number, g in lines:
+            r += 1
+            ws.cell(row=r, column=1, value=number).font = mono
+            for k, text in enumerate(g):
+                cell = ws.cell(row=r, column=2 + k, value=text)
+                cell.font, cell.alignment = mono, Alignment(horizontal="center")
+                cell.number_format = "@"
+            ws.row_dimensions[r].height = 12.0
     ws.column_dimensions["A"].width = 6
-    for g in range(10):
-        ws.column_dimensions[get_column_letter(2 + g)].width = 8
+    for k in range(groups):
+        ws.column_dimensions[get_column_letter(2 + k)].width = max(4.5, size + 2.5)
     ws.print_title_rows = "1:2"
     _page(ws, spec, False, "Random digits")
+    ws.page_setup.fitToHeight = len(layout)  # each page of digits on one sheet of paper
 
 
 def _provenance(wb, tset, rows) -> None:
