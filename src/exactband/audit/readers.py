@@ -77,7 +77,9 @@ _MAGIC = ((b"%PDF", "a PDF document"), (b"\xd0\xcf\x11\xe0", "an old Office (.xl
 def _not_a_table(path: Path, head: bytes) -> None:
     """Refuse a file that is plainly not CSV text (a PDF, an image, binary data)."""
     what = next((w for magic, w in _MAGIC if head.startswith(magic)), None)
-    if what is None and b"\x00" in head and not head.startswith((b"\xff\xfe", b"\xfe\xff")):
+    # a stray NUL inside a cell is one bad row (judged invalid), not a binary file
+    if (what is None and head.count(b"\x00") > max(4, len(head) // 20)
+            and not head.startswith((b"\xff\xfe", b"\xfe\xff"))):
         what = "binary data"
     if what is not None:
         raise AuditInputError(f"{path.name}: not a CSV or XLSX file (it is {what}); audit reads "
@@ -120,7 +122,12 @@ def open_source(path, *, sheet=None, delimiter=None, encoding="utf-8", max_rows=
                               f"more than {max_rows} data rows (--max-rows); audit the table in "
                               "parts or raise --max-rows")
     if src.count == 0:
-        raise AuditInputError(f"{p.name}: the header has no data rows below it")
+        hint = ""
+        names = sheet_names(p) if sheet is None and file_format(p) == "xlsx" else []
+        if len(names) > 1:
+            hint = (f"; this is sheet {names[0]!r} of {', '.join(repr(s) for s in names)}: if the "
+                    "table is on another sheet, choose it with --sheet")
+        raise AuditInputError(f"{p.name}: the header has no data rows below it{hint}")
     return src
 
 

@@ -40,6 +40,7 @@ class AuditResult:
         return all(v.verdict == "ok" for v in self.verdicts)
 
 
+def audit(path, opts: Options | None = None, *, precision=DEFAULT_PRECISION, workers=None,
           progress=None) -> AuditResult:
     """Read ``path`` (CSV or XLSX) and judge every row; raises AuditInputError if unusable.
 
