@@ -32,6 +32,18 @@ class PlanningError(ExactbandError, ValueError):
     """Unusable input to power, OC or sample-size planning (one line)."""
 
 
+def one_hypothesis(designs, why: str) -> list:
+    """The designs as a list, refused unless they share family, kind and hypothesis."""
+    designs = list(designs)
+    if not designs:
+        raise _error("designs", "[]", "at least one design is required")
+    keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
+    if len(keys) != 1:
+        raise PlanningError(f"invalid designs: {why}; these differ in family, kind or "
+                            "hypothesis values")
+    return designs
+
+
 def _error(field, value, allowed) -> PlanningError:
     return PlanningError(str(invalid(field, value, allowed)))
 
@@ -195,13 +207,7 @@ def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
     of H0 shows.  Charts drawn on it share one x-range, so the null region looks
     the same in every row of a page.  The constraint points are included exactly.
     """
-    designs = list(designs)
-    if not designs:
-        raise _error("designs", "[]", "at least one design is required")
-    keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
-    if len(keys) != 1:
-        raise PlanningError("invalid designs: one x-range is shared by designs of one "
-                            "hypothesis; these differ in family, kind or hypothesis values")
+    designs = one_hypothesis(designs, "one x-range is shared by designs of one hypothesis")
     pts = check_points(points)
     first = designs[0]
     fam = first.problem.family

@@ -16,7 +16,7 @@ from pathlib import Path
 
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .figfooter import add_footer
-from .oc import PlanningError, _error, operating_characteristics, rule_label
+from .oc import _error, one_hypothesis, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
 PAGE_INCHES = {"A4": (8.27, 11.69), "Letter": (8.5, 11.0)}
@@ -302,13 +302,7 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
     (write them with ``figure_bytes``).
     """
     col = _curve_col(curve)
-    designs = list(designs)
-    if not designs:
-        raise _error("designs", "[]", "at least one design is required")
-    key = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
-    if len(key) != 1:
-        raise PlanningError("invalid designs: a page shows one hypothesis; the designs differ "
-                            "in family, kind or hypothesis values")
+    designs = one_hypothesis(designs, "a page shows one hypothesis")
     rules = tuple({"randomized": "randomised"}.get(r, r) for r in rules)  # accepted spelling
     for r in rules:
         if r not in STYLE:
