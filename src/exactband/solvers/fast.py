@@ -155,14 +155,15 @@ def _window_sums(L, P, second, c1, c2, rows):
     sub2 = second.subset(j)
     mass = np.zeros(j.size)
     dsum = np.zeros(j.size)
+    k = np.arange(j.size)  # rows whose window reaches a + i
     for i in range(_MIDDLE_SUM + 1):
-        y = a + i
-        on = y <= b
-        if not np.any(on):
+        k = k[a[k] + i <= b[k]]
+        if k.size == 0:
             break
-        fy = L.pmf(y, Pj)
-        mass += np.where(on, fy, 0.0)
-        dsum += np.where(on, sub2.dpmf(y, fy), 0.0)
+        y = a[k] + i
+        fy = L.pmf(y, sub(Pj, k))
+        mass[k] += fy
+        dsum[k] += sub2.subset(k).dpmf(y, fy)
     return j, mass, dsum
 
 
