@@ -122,6 +122,36 @@ def test_alpha_near_one(family, kind, kw):
         assert abs(rest - float_complement(d.alpha)) <= 1e-6 * float_complement(d.alpha)
 
 
+# two-tailed designs whose acceptance window is a few points at a large mean: the fast
+# solver did not converge (SolverFailure, CLI exit 70) before; source of the inputs:
+# issue 10's corner validation and a grid over means 10..1e6 and alpha near 1
+@pytest.mark.parametrize("kind, kw", [
+    ("point", dict(n=10, value=2000, alpha=0.999)),  # integer mean 20000
+    ("point", dict(n=10, value=2000, alpha=0.999999999999)),
+    ("point", dict(n=10, value=100000, alpha=0.999999)),  # mean 1e6
+    ("band", dict(n=10, low=100000, high=100000.0001, alpha=0.99999999999)),
+])
+def test_alpha_near_one_narrow_window_large_mean(kind, kw):
+    d = api.design("poisson", kind, **kw)
+    check_verified(d)
+    b = float_complement(d.alpha)
+    for theta in d.problem.points:
+        # 1 - size = the window's mass, summed with scipy.stats.poisson.pmf; 1e-6 relative:
+        # 1 - phi is formed in double from gammas near 1 (absolute error ~1e-16 against
+        # window masses down to ~1e-12)
+        rest = scipy_size(d, theta, complement=True)
+        assert abs(rest - b) <= 1e-6 * b
+    if kind == "point":
+        # UMPU side condition E[(Y - mu) phi] = 0, i.e. E[(Y - mu)(1 - phi)] = 0 (Lehmann and
+        # Romano, Testing Statistical Hypotheses, 3rd ed., section 4.2), summed with
+        # scipy.stats.poisson.pmf over the window
+        mu = d.n * d.problem.points[0]
+        ys = np.arange(min(d.c1, d.c2) - 1, max(d.c1, d.c2) + 2)
+        w = 1.0 - K.phi("point", d.c1, d.gamma1, d.c2, d.gamma2, ys.astype(float))
+        terms = (ys - mu) * w * stats.poisson(mu).pmf(ys)
+        assert abs(terms.sum()) <= 1e-6 * np.abs(terms).sum() + 1e-300
+
+
 def test_binomial_upper_huge_n():
     d = api.design("binomial", "upper", n=100_000_000, value=0.5, alpha=0.05)
     check_verified(d)

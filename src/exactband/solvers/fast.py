@@ -36,6 +36,7 @@ _GL_WEIGHTS = _GL_W / 2.0  # sum to 1
 _GL_MAX_SPREAD = 4.0  # quadrature used while |d log(-dF/dt)/dt| * dt <= this
 _GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
 _MAX_ITER = 200
+_MIDDLE_SUM = 64  # middle masses of at most this many points are summed term by term
 
 
 class SolverFailure(RuntimeError):
@@ -142,8 +143,38 @@ def _initial_split(L, Pl, Ph, s):
     return np.clip(a, 0.0, s)
 
 
-def _two_tailed(L, Pl, Pr, second, s, a0):
+def _window_sums(L, P, second, c1, c2, rows):
+    """Mass and second-condition sum over c1..c2 at P, term by term, for `rows`.
+
+    Used where the acceptance window is narrow (at most _MIDDLE_SUM + 1 points):
+    there the tails hold almost all the mass and their differences lose the
+    window's digits, while the window's own terms keep them.
+    """
+    j = np.nonzero(rows)[0]
+    Pj, a, b = sub(P, j), c1[j], c2[j]
+    sub2 = second.subset(j)
+    mass = np.zeros(j.size)
+    dsum = np.zeros(j.size)
+    k = np.arange(j.size)  # rows whose window reaches a + i
+    for i in range(_MIDDLE_SUM + 1):
+        k = k[a[k] + i <= b[k]]
+        if k.size == 0:
+            break
+        y = a[k] + i
+        fy = L.pmf(y, sub(Pj, k))
+        mass[k] += fy
+        dsum[k] += sub2.subset(k).dpmf(y, fy)
+    return j, mass, dsum
+
+
+def _two_tailed(L, Pl, Pr, second, s, a0, b=None):
     """Band-form test of size s (left tail at Pl, right tail at Pr) with condition `second`.
+
+    ``b`` is 1 - s formed exactly (from the decimal alpha); where s > 1/2 and the
+    acceptance window c1..c2 is narrow, the linear system's right sides are then
+    taken from the window's own terms (mass - b and the summed condition), not
+    from differences of tails near 1/2 that have lost the window's digits (alpha
+    within ~1e-11 of 1 at a large mean failed to converge before).
 
     The state is the left-tail mass ``a`` at the first point.  The right tail is
     fixed by its own mass at ``Pr``: for a band, the size at ``high`` is then exact
@@ -166,6 +197,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
         "qprev": np.full(size, np.inf), "side": np.zeros(size),
         "c1": L.quantile_guess(a0, Pl), "c2": L.quantile_guess(1.0 - (s - np.asarray(a0)), Pr),
         "zero": np.zeros(size), "top": np.minimum(L.supmax(Pl), _BIG),
+        "b": None if b is None else np.asarray(b, float),
     }
     lo_ok, hi_ok = -_GAMMA_TOL, 1.0 + _GAMMA_TOL
     for _ in range(_MAX_ITER):
@@ -187,6 +219,14 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
         d1, d2 = second.dpmf(c1, f1), second.dpmf(c2, f2)
         R2 = second.dcdf(c2) - second.dcdf(c1 - 1.0)
         R1 = (a - Fm) + ((s_ - a) - S2)
+        if st["b"] is not None:
+            narrow = (s_ > 0.5) & (c2 - c1 <= _MIDDLE_SUM) & (c2 >= c1)
+            if np.any(narrow):
+                j, mass, dsum = _window_sums(L, P, second, c1, c2, narrow)
+                R1 = R1.copy()
+                R2 = R2.copy()
+                R1[j] = mass - st["b"][j]
+                R2[j] = dsum
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             det = f1 * d2 - f2 * d1
             g1n = (R1 * d2 - f2 * R2) / det
@@ -224,7 +264,7 @@ def _two_tailed(L, Pl, Pr, second, s, a0):
         st.update(a=np.where(newton, an, am), alo=alo, ahi=ahi, qlo=qlo, qhi=qhi,
                   qprev=np.abs(Q), side=np.where(up, 1.0, -1.0), c1=c1, c2=c2)
         sel = np.nonzero(keep)[0]
-        st = {key: val[sel] for key, val in st.items()}
+        st = {key: (None if val is None else val[sel]) for key, val in st.items()}
         Pl = sub(Pl, sel)
         Pr = Pl if same else sub(Pr, sel)
         second = second.subset(sel)
@@ -278,7 +318,6 @@ def _equivalence_from_band(c1, g1, c2, g2):
     return c1, e1, c2, e2
 
 
-_MIDDLE_SUM = 64  # middle masses of at most this many points are summed term by term
 
 
 def _middle(L, P, c1, c2):
@@ -407,7 +446,7 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
     if kind == "point":
         P = L.make(np.asarray(value, float), n, k)
         a0 = _initial_split(L, P, None, alpha)
-        res = _two_tailed(L, P, P, _Derivative(L, P), alpha, a0)
+        res = _two_tailed(L, P, P, _Derivative(L, P), alpha, a0, b=ac)
         return _canonical_band(*res)
     if kind == "band" and np.any(big):
         # a band of size alpha near 1 is 1 - (equivalence design of size 1 - alpha):
@@ -435,7 +474,8 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
         dt = np.asarray(family.natural_delta(lo, hi, n, k), dtype=float)
         s = alpha if kind == "band" else float_complements(alpha)
         a0 = _initial_split(L, Pl, Ph, s)
-        res = _two_tailed(L, Pl, Ph, _Difference(L, Pl, Ph, dt), s, a0)
+        res = _two_tailed(L, Pl, Ph, _Difference(L, Pl, Ph, dt), s, a0,
+                          b=ac if kind == "band" else alpha)
         res = _canonical_band(*res)
         if kind == "equivalence":
             res = _equivalence_from_band(*res)
