@@ -218,10 +218,12 @@ def _data(wb, tset) -> None:
         d = row.design
         table, group = (d.kind, d.alpha), (d.kind, d.alpha, d.points)
         if before is not None and group != before[1]:
-            for c in ws[ws.max_row]:
-                c.border = Border(top=MEDIUM if table != before[0] else THIN)
+            r = n + 2  # the row just appended (ws.max_row, without scanning every cell)
+            for j in range(1, len(COLUMNS) + 1):
+                ws.cell(row=r, column=j).border = Border(top=MEDIUM if table != before[0]
+                                                         else THIN)
             if table != before[0]:
-                ws.row_breaks.append(Break(id=ws.max_row - 1))  # each table on new pages
+                ws.row_breaks.append(Break(id=r - 1))  # each table on new pages
         before = (table, group)
     for j, k in enumerate(COLUMNS, start=1):
         letter = get_column_letter(j)
