@@ -106,15 +106,20 @@ def run_command(spec: Path, out: Path, src: Path | None = None) -> dict:
     env = dict(os.environ)
     if src is not None:
         env["PYTHONPATH"] = str(src)
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
     proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
     with PeakSampler(proc.pid) as sampler:
         stdout, stderr = proc.communicate()
     wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    # CPU of the command and every process it waited for (pool workers, the PDF child):
+    # on a shared machine this moves far less with the load than the wall time
+    cpu = (after.ru_utime + after.ru_stime) - (before.ru_utime + before.ru_stime)
     if proc.returncode != 0:
         raise SystemExit(f"exactband table failed ({proc.returncode}): {stderr.decode()}")
     single = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss * 1024
-    return {"wall": wall, "tree_peak": sampler.peak, "single_peak": single,
+    return {"wall": wall, "cpu": cpu, "tree_peak": sampler.peak, "single_peak": single,
             "files": [Path(p) for p in stdout.decode().split()]}
 
 
@@ -217,19 +222,26 @@ def main() -> int:
         print(f"spec: {size} designs (poisson; band, equivalence, upper, lower, point; "
               f"4 alphas; n 5..500; rates 0.5..5); {os.cpu_count()} cores; "
               f"load average {os.getloadavg()[0]:.2f}")
-        walls, base = [], []
+        walls, base, cpus, base_cpus = [], [], [], []
         for k in range(max(1, args.repeat)):
             if args.baseline is not None:
                 b = run_command(spec, Path(tmp) / f"base{k}", args.baseline.resolve())
                 base.append(b["wall"])
+                base_cpus.append(b["cpu"])
             r = run_command(spec, Path(tmp) / f"out{k}")
             walls.append(r["wall"])
+            cpus.append(r["cpu"])
         if len(walls) > 1 or base:
             print("wall times of exactband table, s: this tree "
                   + " ".join(f"{w:.1f}" for w in walls) + f"  (median {statistics.median(walls):.1f})")
+            print("CPU seconds (all processes),  this tree "
+                  + " ".join(f"{w:.1f}" for w in cpus) + f"  (median {statistics.median(cpus):.1f})")
         if base:
             print("                      baseline " + " ".join(f"{w:.1f}" for w in base)
                   + f"  (median {statistics.median(base):.1f})")
+            print("CPU seconds (all processes),  baseline "
+                  + " ".join(f"{w:.1f}" for w in base_cpus)
+                  + f"  (median {statistics.median(base_cpus):.1f})")
             same = all((Path(tmp) / "base0" / f.name).read_bytes() == f.read_bytes()
                        for f in r["files"])
             print(f"the two trees wrote byte-identical sets: {same}")
