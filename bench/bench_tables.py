@@ -100,17 +100,26 @@ class PeakSampler:
         self._thread.join()
 
 
-def run_command(spec: Path, out: Path) -> dict:
+def run_command(spec: Path, out: Path, src: Path | None = None) -> dict:
+    """One run of the command; ``src``: import exactband from that source tree instead."""
     cmd = [sys.executable, "-m", "exactband", "table", str(spec), "--out", str(out)]
+    env = dict(os.environ)
+    if src is not None:
+        env["PYTHONPATH"] = str(src)
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
-    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    proc = subprocess.Popen(cmd, stdout=subprocess.PIPE, stderr=subprocess.PIPE, env=env)
     with PeakSampler(proc.pid) as sampler:
         stdout, stderr = proc.communicate()
     wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    # CPU of the command and every process it waited for (pool workers, the PDF child):
+    # on a shared machine this moves far less with the load than the wall time
+    cpu = (after.ru_utime + after.ru_stime) - (before.ru_utime + before.ru_stime)
     if proc.returncode != 0:
         raise SystemExit(f"exactband table failed ({proc.returncode}): {stderr.decode()}")
     single = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss * 1024
-    return {"wall": wall, "tree_peak": sampler.peak, "single_peak": single,
+    return {"wall": wall, "cpu": cpu, "tree_peak": sampler.peak, "single_peak": single,
             "files": [Path(p) for p in stdout.decode().split()]}
 
 
@@ -118,7 +127,7 @@ def breakdown(spec_path: Path, out: Path) -> None:
     """Time the stages of generate() one by one, in this process (verification on all cores)."""
     from exactband import api
     from exactband.tables import grid
-    from exactband.tables.build import TableSet, derive, random_digits, summarise, DIGITS_PER_PAGE
+    from exactband.tables.build import TableSet, derive_all, random_digits, summarise, DIGITS_PER_PAGE
     from exactband.tables.publish import render
     from exactband.tables.spec import load_spec
 
@@ -134,8 +143,8 @@ def breakdown(spec_path: Path, out: Path) -> None:
     designs = api.verify_many(problems, sols, spec.precision)
     times[f"high-precision verification ({os.cpu_count()} processes)"] = time.perf_counter() - t
     t = time.perf_counter()
-    rows = tuple(derive(d, spec) for d in designs)
-    times["digit-rule and conservative sizes (1 process)"] = time.perf_counter() - t
+    rows = derive_all(designs, spec)
+    times["digit-rule and conservative sizes (vectorised)"] = time.perf_counter() - t
     tset = TableSet(spec, rows, summarise(designs, spec.precision),
                     random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE))
     import exactband.tables.publish as gen
@@ -151,17 +160,29 @@ def breakdown(spec_path: Path, out: Path) -> None:
             finally:
                 stage[_name] = time.perf_counter() - t0
         setattr(gen, name, timed)
+    import exactband.tables.forked as forked
+
+    cores = forked.usable_cores
+    forked.usable_cores = lambda: 1  # each writer timed alone, in this process
     t = time.perf_counter()
-    render(tset)
+    try:
+        render(tset)
+    finally:
+        forked.usable_cores = cores
     total_render = time.perf_counter() - t
     for name, secs in stage.items():
-        times[f"writer {name}"] = secs
+        times[f"writer {name} (alone)"] = secs
     times["layout and texts"] = total_render - sum(stage.values())
+    t = time.perf_counter()
+    render(tset)
+    together = time.perf_counter() - t
     print("where the time goes (in-process run of the same stages):")
     width = max(len(k) for k in times)
     for k, v in times.items():
         print(f"  {k:<{width}}  {v:8.2f} s")
     print(f"  {'total':<{width}}  {sum(times.values()):8.2f} s")
+    print(f"  all writers as the command runs them (pdf in a child beside the xlsx): "
+          f"{together:.2f} s instead of {total_render:.2f} s")
     # per-design cost of the high-precision solver, by kind, on one process
     import random
 
@@ -185,6 +206,12 @@ def breakdown(spec_path: Path, out: Path) -> None:
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--designs-only", action="store_true", help="skip the stage breakdown")
+    ap.add_argument("--repeat", type=int, default=1,
+                    help="run the command this many times; report the median wall time")
+    ap.add_argument("--baseline", type=Path, default=None,
+                    help="an older source tree (its src/ folder, e.g. from git archive): its "
+                         "command runs alternately with this one, same spec, and both medians "
+                         "and the byte equality of the two sets are printed")
     args = ap.parse_args()
     with tempfile.TemporaryDirectory(prefix="bench-tables-") as tmp:
         spec = Path(tmp) / "bench10k.toml"
@@ -195,7 +222,30 @@ def main() -> int:
         print(f"spec: {size} designs (poisson; band, equivalence, upper, lower, point; "
               f"4 alphas; n 5..500; rates 0.5..5); {os.cpu_count()} cores; "
               f"load average {os.getloadavg()[0]:.2f}")
-        r = run_command(spec, Path(tmp) / "out")
+        walls, base, cpus, base_cpus = [], [], [], []
+        for k in range(max(1, args.repeat)):
+            if args.baseline is not None:
+                b = run_command(spec, Path(tmp) / f"base{k}", args.baseline.resolve())
+                base.append(b["wall"])
+                base_cpus.append(b["cpu"])
+            r = run_command(spec, Path(tmp) / f"out{k}")
+            walls.append(r["wall"])
+            cpus.append(r["cpu"])
+        if len(walls) > 1 or base:
+            print("wall times of exactband table, s: this tree "
+                  + " ".join(f"{w:.1f}" for w in walls) + f"  (median {statistics.median(walls):.1f})")
+            print("CPU seconds (all processes),  this tree "
+                  + " ".join(f"{w:.1f}" for w in cpus) + f"  (median {statistics.median(cpus):.1f})")
+        if base:
+            print("                      baseline " + " ".join(f"{w:.1f}" for w in base)
+                  + f"  (median {statistics.median(base):.1f})")
+            print("CPU seconds (all processes),  baseline "
+                  + " ".join(f"{w:.1f}" for w in base_cpus)
+                  + f"  (median {statistics.median(base_cpus):.1f})")
+            same = all((Path(tmp) / "base0" / f.name).read_bytes() == f.read_bytes()
+                       for f in r["files"])
+            print(f"the two trees wrote byte-identical sets: {same}")
+        r["wall"] = statistics.median(walls)
         ok_t = "ok" if r["wall"] <= TARGET_S else "OVER TARGET"
         ok_m = "ok" if r["tree_peak"] / 2**20 < TARGET_MB else "OVER TARGET"
         print(f"exactband table: wall {r['wall']:.1f} s (target <= {TARGET_S:.0f} s: {ok_t})")

@@ -49,7 +49,7 @@ def _tset(text: str, name: str, folder: Path):
     unchecked = CrossCheck(True, 0.0, 0.0, 0.0, spec.precision)  # the writers print the summary
     designs = [replace(api.from_fast(p, s), check=unchecked)
                for p, s in zip(problems, api.fast_solve(problems))]
-    rows = tuple(B.derive(d, spec) for d in designs)
+    rows = B.derive_all(designs, spec)
     t0 = time.perf_counter()
     oc = B.oc_build.compute(spec, rows)
     t_oc = time.perf_counter() - t0

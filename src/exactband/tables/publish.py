@@ -32,6 +32,7 @@ from pathlib import Path
 
 from ..errors import VerificationError
 from ..fileio import fsync_dir
+from . import forked
 from .build import build
 from .faults import stop_at
 from .layout import build_sections
@@ -74,8 +75,13 @@ def render(tset) -> dict:
     blocks = cover_blocks(tset, sections)
     files = {f"{name}.csv": csv_bytes(tset), f"{name}.print.csv": print_csv_bytes(sections)}
     prov = provenance_rows(tset, sha256(files[f"{name}.csv"]))
-    files[f"{name}.xlsx"] = xlsx_bytes(tset, sections, blocks, prov)
-    files[f"{name}.pdf"] = pdf_bytes(tset, sections, blocks, prov)
+    pdf = forked.start(pdf_bytes, tset, sections, blocks, prov)  # typeset beside the xlsx
+    try:
+        files[f"{name}.xlsx"] = xlsx_bytes(tset, sections, blocks, prov)
+    except BaseException:
+        pdf.cancel()
+        raise
+    files[f"{name}.pdf"] = pdf.result()
     files[f"{name}.manifest.json"] = manifest_bytes(tset, dict(files))
     return files
 

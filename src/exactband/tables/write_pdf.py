@@ -71,6 +71,13 @@ class _Mark(Flowable):
         self.pages[self.key] = self.canv.getPageNumber()
 
 
+class _Undrawn(Table):
+    """A table laid out but not drawn (the first pass only learns where things land)."""
+
+    def draw(self):
+        pass
+
+
 def _canvas_class(footer_left: str):
     class NumberedCanvas(rl_canvas.Canvas):
         """Defers pages so each footer can say 'Page x of y'."""
@@ -251,7 +258,7 @@ def _shaded_runs(section, first: int, count: int) -> list:
     return runs
 
 
-def _section_flowables(section, geo, pages, spec) -> list:
+def _section_flowables(section, geo, pages, spec, table=Table) -> list:
     land, size, widths = _fit(section, geo)
     fw, fh = geo.frame(land)
     row_h = size * 1.2 + 3.0
@@ -272,7 +279,7 @@ def _section_flowables(section, geo, pages, spec) -> list:
         else:
             out += [_Mark(section.number, pages)] + heading(section.heading)
         body = [[c.text for c in r] for r in chunk]
-        tab = Table(header + body, colWidths=widths, rowHeights=[head0, row_h]
+        tab = table(header + body, colWidths=widths, rowHeights=[head0, row_h]
                     + [row_h] * len(body), hAlign="LEFT")
         seps = [i - first for i in range(first + 1, first + len(chunk)) if i in starts]
         tab.setStyle(_table_style(section, size, seps, len(body),
@@ -361,7 +368,7 @@ def _provenance(rows, pages, geo) -> list:
     return out
 
 
-def _build(tset, sections, blocks, provenance, pages) -> bytes:
+def _build(tset, sections, blocks, provenance, pages, draft=False) -> bytes:
     spec = tset.spec
     geo = _Geometry(spec.paper)
     buf = io.BytesIO()
@@ -381,7 +388,7 @@ def _build(tset, sections, blocks, provenance, pages) -> bytes:
     doc.addPageTemplates(templates)
     story = _cover(tset, blocks, sections, pages, geo)
     for s in sections:
-        story += _section_flowables(s, geo, pages, spec)
+        story += _section_flowables(s, geo, pages, spec, _Undrawn if draft else Table)
     slots = []
     story += oc_flowables(tset, pages, slots)
     story += _digit_pages(tset, pages, geo)
@@ -408,6 +415,6 @@ def _no_date_from_environment():
 def pdf_bytes(tset, sections, blocks, provenance) -> bytes:
     """The PDF as bytes; built twice so the contents can give page numbers."""
     pages = {"_has_digits": bool(tset.random_digits)}
-    _build(tset, sections, blocks, provenance, pages)  # first pass: where sections land
+    _build(tset, sections, blocks, provenance, pages, draft=True)  # where sections land
     document, slots = _build(tset, sections, blocks, provenance, dict(pages))
     return merge_charts(tset.spec, document, slots)  # the OC charts, if any

@@ -14,6 +14,7 @@ import datetime
 import io
 import math
 import zipfile
+from copy import copy
 
 from openpyxl import Workbook
 from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
@@ -181,16 +182,23 @@ def _section(wb, tset, s) -> None:
         "c1", "c2", "t1", "t2") else "General" for c in s.columns]
     starts = set(s.group_starts)
     band = -1
+    styled = {}  # (column, rule above, shaded) -> the style of the first such cell
     for i, cells in enumerate(s.rows):
         r = 6 + i
         band += i in starts or i == 0
+        line, shade = i in starts and i > 0, bool(band % 2)
         for j, cell in enumerate(cells, start=1):
             x = ws.cell(row=r, column=j, value=cell.value)
+            key = (j, line, shade)
+            if key in styled:  # the same style again: copied, not looked up attribute by attribute
+                x._style = copy(styled[key])
+                continue
             x.number_format = formats[j - 1]
-            if i in starts and i > 0:
+            if line:
                 x.border = Border(top=MEDIUM)  # the line between bands, as in the PDF
-            if band % 2:
+            if shade:
                 x.fill = SHADE  # every other band shaded, as in the PDF
+            styled[key] = copy(x._style)
     ws.freeze_panes = "A6"
     ws.print_title_rows = "1:5"
     ws.print_options.gridLines = True
@@ -218,10 +226,12 @@ def _data(wb, tset) -> None:
         d = row.design
         table, group = (d.kind, d.alpha), (d.kind, d.alpha, d.points)
         if before is not None and group != before[1]:
-            for c in ws[ws.max_row]:
-                c.border = Border(top=MEDIUM if table != before[0] else THIN)
+            r = n + 2  # the row just appended (ws.max_row, without scanning every cell)
+            for j in range(1, len(COLUMNS) + 1):
+                ws.cell(row=r, column=j).border = Border(top=MEDIUM if table != before[0]
+                                                         else THIN)
             if table != before[0]:
-                ws.row_breaks.append(Break(id=ws.max_row - 1))  # each table on new pages
+                ws.row_breaks.append(Break(id=r - 1))  # each table on new pages
         before = (table, group)
     for j, k in enumerate(COLUMNS, start=1):
         letter = get_column_letter(j)
