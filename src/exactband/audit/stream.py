@@ -74,9 +74,10 @@ class Judging:
     the verdicts in row order (pass 2); ``file_diagnosis`` is set when it ends."""
 
     def __init__(self, chunks, precision=50, workers=1, progress=None, rounding=None,
-                 chunk=CHUNK):
+                 chunk=None):
         from ..parallel import pmap
 
+        chunk = chunk or CHUNK
         self.chunks, self.chunk, self.workers = chunks, chunk, workers
         self.file_diagnosis: list = []
         fits = (Counter(), Counter())
