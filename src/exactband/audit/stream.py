@@ -113,8 +113,9 @@ class Judging:
                         continue
                     same, errs = gamma_errors(r, rec)
                     for i in (0, 1):
-                        if same and errs[i] is not None and r.decimals[i] is not None:
-                            fits[i].update(m for m in P.MODES if P.within(m, r.decimals[i], errs[i]))
+                        d = r.decimals[i]
+                        if same and errs[i] is not None and d is not None:
+                            fits[i].update(m for m in P.MODES if P.within(m, d, errs[i]))
                 pickle.dump(recs, self.spool, protocol=pickle.HIGHEST_PROTOCOL)
         except BaseException:
             self.spool.close()
