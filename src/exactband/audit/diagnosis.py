@@ -136,16 +136,40 @@ def diagnose(p, theirs, tol, decimals, ours, ours_text, printed=None) -> tuple[s
     return hits[0], hits[1:]
 
 
+class FileLevel:
+    """File-wide diagnoses (columns swapped) from counts of the row diagnoses, said once at
+    the top; rows are added as they are judged, so no verdict is kept."""
+
+    def __init__(self):
+        self.two = 0  # judged rows with two cutoffs
+        self.findings = 0  # findings among them
+        self.hits = {swap: 0 for swap in FILE_SWAPS}
+
+    def add(self, v) -> None:
+        r = v.row
+        if v.verdict == "invalid" or r.theirs is None or r.theirs[0] is None \
+                or r.theirs[2] is None:
+            return
+        self.two += 1
+        if v.verdict == "finding":
+            self.findings += 1
+            for swap in FILE_SWAPS:
+                if v.diagnosis == swap or swap in v.also:
+                    self.hits[swap] += 1
+
+    def result(self) -> list:
+        out = []
+        for swap, text in FILE_SWAPS.items():
+            hit = self.hits[swap]
+            if hit >= 2 and 2 * hit >= self.findings:
+                out.append(f"{text}: {hit} of {self.two} rows with two cutoffs match the optimal "
+                           "rule with them exchanged")
+        return out
+
+
 def file_level(verdicts) -> list:
     """File-wide diagnoses (columns swapped) from the row diagnoses, said once at the top."""
-    two = [v for v in verdicts if v.verdict != "invalid" and v.row.theirs is not None
-           and v.row.theirs[0] is not None and v.row.theirs[2] is not None]
-    out = []
-    for swap, text in FILE_SWAPS.items():
-        hit = [v for v in two if v.verdict == "finding" and
-               (v.diagnosis == swap or swap in v.also)]
-        findings = [v for v in two if v.verdict == "finding"]
-        if len(hit) >= 2 and 2 * len(hit) >= len(findings):
-            out.append(f"{text}: {len(hit)} of {len(two)} rows with two cutoffs match the optimal "
-                       "rule with them exchanged")
-    return out
+    acc = FileLevel()
+    for v in verdicts:
+        acc.add(v)
+    return acc.result()

@@ -105,8 +105,12 @@ def infer_mode(cells) -> tuple[str, Counter]:
         for m in MODES:
             if within(m, d, err):
                 fits[m] += 1
-    mode = "truncate" if fits["truncate"] > fits["round"] else "round"
-    return mode, fits
+    return mode_of(fits), fits
+
+
+def mode_of(fits: Counter) -> str:
+    """The rounding that explains more cells (round on a tie)."""
+    return "truncate" if fits["truncate"] > fits["round"] else "round"
 
 
 def size_ok(excess, alpha) -> bool:

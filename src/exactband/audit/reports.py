@@ -6,8 +6,9 @@ escaped; no cell begins with = + - @).  The report header carries the written
 verdict policy (``policy.POLICY``).  "row N" is the N-th data row (1-based,
 the header not counted); ``file_line`` is the line of the CSV file or the row
 of the sheet.
-All reports are rendered in memory first and then written atomically, so a
-failed audit leaves nothing under the report names.
+``write`` renders a kept result in memory and writes it atomically; the CLI
+streams the same bytes as rows are judged (``report_stream.Writer``).  Either
+way a failed audit leaves nothing under the report names.
 """
 
 from __future__ import annotations
@@ -116,7 +117,7 @@ def provenance(result) -> dict:
 
     t = result.table
     return {
-        "input": {"file": t.name, "sha256": result.sha256, "rows": len(result.verdicts),
+        "input": {"file": t.name, "sha256": result.sha256, "rows": result.tally.rows,
                   "columns": t.columns, "ignored_columns": t.ignored,
                   "decimal_mark": t.decimal_mark},
         "exactband": __version__, "python": platform.python_version(),
@@ -129,19 +130,18 @@ def provenance(result) -> dict:
 
 def worst_excess(result):
     """The verdict whose printed numbers exceed alpha the most (None if none does)."""
-    over = [v for v in result.verdicts if v.verdict == "finding" and "size" in v.reasons]
-    return max(over, key=lambda v: v.excess / v.row.problem.alpha, default=None)
+    return result.tally.worst
 
 
 def summary(result) -> dict:
     c = result.counts
     worst = worst_excess(result)
     return {
-        "rows": len(result.verdicts), "ok": c.get("ok", 0), "finding": c.get("finding", 0),
+        "rows": result.tally.rows, "ok": c.get("ok", 0), "finding": c.get("finding", 0),
         "invalid": c.get("invalid", 0),
         "findings_by_reason": {r: result.by_reason[r] for r in REASONS if result.by_reason[r]},
         "diagnoses": dict(sorted(result.by_diagnosis.items(), key=lambda kv: (-kv[1], kv[0]))),
-        "rows_above_alpha": sum(1 for v in result.verdicts if "size" in v.reasons),
+        "rows_above_alpha": result.tally.above_alpha,
         "worst_excess_over_alpha": None if worst is None else worst.excess,
         "worst_excess_pct_of_alpha": None if worst is None
         else 100 * worst.excess / worst.row.problem.alpha,
@@ -156,6 +156,13 @@ def json_bytes(result) -> bytes:
            "rows_with_findings": [_json_record(v, result.modes) for v in result.verdicts
                                   if v.verdict != "ok"]}
     return (json.dumps(doc, indent=2, allow_nan=False) + "\n").encode("utf-8")
+
+
+def json_head(result) -> str:
+    """The JSON summary with an empty list of rows (report_stream appends the rows)."""
+    doc = {"verdict_policy": POLICY, "summary": summary(result), "provenance": provenance(result),
+           "rows_with_findings": []}
+    return json.dumps(doc, indent=2, allow_nan=False)
 
 
 def _json_record(v, modes) -> dict:
@@ -186,7 +193,7 @@ def _summary_lines(result, report_dir, listed) -> str:
         lines.append(f"printed numbers above alpha in {s['rows_above_alpha']} row(s); largest "
                      f"+{s['worst_excess_over_alpha']:.3g} ({s['worst_excess_pct_of_alpha']:.3g}% "
                      f"of alpha) at row {s['worst_excess_row']}")
-    bad = [v for v in result.verdicts if v.verdict != "ok"]
+    bad = result.tally.first_bad
     if bad:
         lines.append("rows that are not ok:")
         for v in bad[:listed]:
@@ -195,8 +202,9 @@ def _summary_lines(result, report_dir, listed) -> str:
             what = v.verdict + (f" [{', '.join(v.reasons)}]" if v.verdict == "finding" else "")
             diag = f"; diagnosis: {v.diagnosis}" if v.verdict == "finding" else ""
             lines.append(f"  {label}: {what}: {v.details[0] if v.details else ''}{diag}")
-        if len(bad) > listed:
-            lines.append(f"  ... and {len(bad) - listed} more (see the report)")
+        shown = min(listed, len(bad))
+        if result.tally.bad > shown:
+            lines.append(f"  ... and {result.tally.bad - shown} more (see the report)")
     for note in list(t.notes) + list(result.notes):
         lines.append(f"note: {note}")
     if t.ignored:

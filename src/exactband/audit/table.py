@@ -10,6 +10,7 @@ prints (policy.cell_decimals); the verdict policy is in ``policy``.
 
 from __future__ import annotations
 
+from collections import Counter
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -55,6 +56,7 @@ class Table:
     notes: list = field(default_factory=list)
     sha256: str = ""
     column_decimals: tuple = (None, None)  # most common decimals of the gamma columns
+    count: int = 0  # data rows in the file
 
 
 @dataclass
@@ -70,7 +72,20 @@ class Options:
 
 
 def load(path, opts: Options) -> Table:
-    """Read and check a whole file (refused beyond opts.max_rows data rows)."""
+    """Read and check a whole file into memory (refused beyond opts.max_rows data rows)."""
+    table, chunks = open_table(path, opts)
+    table.rows = [r for chunk in chunks(None) for r in chunk]
+    return table
+
+
+def open_table(path, opts: Options):
+    """Check a file and its header; returns (Table without rows, chunks).
+
+    ``chunks(size)`` yields the rows, read and checked, in lists of ``size`` rows
+    (None: one list); only one list is in memory at a time.  The file is read in
+    passes (hash and count; decimal mark; the gamma columns' decimals and the kind
+    columns), so any file-level problem is raised before the first row is judged.
+    """
     p = Path(path)
     mark = opts.decimal_mark
     if mark is not None and mark not in (".", ","):
@@ -88,17 +103,36 @@ def load(path, opts: Options) -> Table:
                                   "command line / mapping file; keep one")
     _check_required(p.name, pos, opts.constants, header, _sheets_hint(p, opts))
     names = list(pos)
-    rows = []
-    for index, line, cells in src.rows():
-        rows.append((index, line, tuple(cells[pos[k]].strip() if pos[k] < len(cells) else ""
-                                        for k in names)))
-    texts = [dict(zip(names, cells)) for _, _, cells in rows]
+
+    def texts():
+        for index, line, cells in src.rows():
+            yield index, line, dict(zip(names, (cells[pos[k]].strip() if pos[k] < len(cells)
+                                                 else "" for k in names)))
+
     if mark is None:
-        mark, mixed = N.file_mark(t[k] for t in texts for k in NUMERIC if k in t)
-    out = [_row(index, line, t, opts.constants, mark, pos)
-           for (index, line, _), t in zip(rows, texts)]
-    _kind_columns(p.name, out, pos)
-    cols = _decimals(out)
+        mark, mixed = N.file_mark(t[k] for _, _, t in texts() for k in NUMERIC if k in t)
+    counts = (Counter(), Counter())
+    for index, line, t in texts():
+        row = _row(index, line, t, opts.constants, mark, pos)
+        _kind_columns(p.name, [row], pos)
+        if row.error is None:
+            for i in (0, 1):
+                if row.numbers[i] is not None:
+                    counts[i][row.numbers[i].decimals] += 1
+    cols = tuple(column_decimals(c) for c in counts)
+
+    def chunks(size):
+        out = []
+        for index, line, t in texts():
+            row = _row(index, line, t, opts.constants, mark, pos)
+            _set_decimals(row, cols)
+            out.append(row)
+            if size is not None and len(out) >= size:
+                yield out
+                out = []
+        if out:
+            yield out
+
     notes = list(src.notes)
     if "gamma1" not in pos and "gamma2" not in pos:
         notes.append("no gamma columns: the table is read as non-randomised (every gamma 0)")
@@ -107,8 +141,9 @@ def load(path, opts: Options) -> Table:
             if c in pos and g not in pos:
                 notes.append(f"no {g} column: {g} is read as 0 in every row (no randomisation "
                              f"at {c}); map it with --map if the file has it under another name")
-    return Table(p.name, out, {k: header[i] for k, i in pos.items()}, ignored, mark, notes,
-                 src.sha256, cols)
+    table = Table(p.name, [], {k: header[i] for k, i in pos.items()}, ignored, mark, notes,
+                  src.sha256, cols, src.count)
+    return table, chunks
 
 
 def _sheets_hint(p: Path, opts) -> str:
@@ -220,20 +255,13 @@ def _answers(p: Problem, t, mark, pos):
     return tuple(out), tuple(nums)
 
 
-def _decimals(rows) -> tuple:
-    """Set each row's per-cell gamma decimals; returns the columns' most common decimals."""
-    from collections import Counter
-
-    good = [r for r in rows if r.error is None]
-    out = []
+def _set_decimals(row, cols) -> None:
+    """Each gamma cell's decimals, given the columns' most common decimals ``cols``."""
+    if row.error is not None:
+        return
     for i in (0, 1):
-        counts = Counter(r.numbers[i].decimals for r in good if r.numbers[i] is not None)
-        col = column_decimals(counts)
-        out.append(col)
-        for r in good:
-            x = r.numbers[i]
-            if x is None:
-                continue
-            d = cell_decimals(x.decimals, x.is_integer(), col)
-            r.decimals = r.decimals[:i] + (d,) + r.decimals[i + 1:]
-    return tuple(out)
+        x = row.numbers[i]
+        if x is None:
+            continue
+        d = cell_decimals(x.decimals, x.is_integer(), cols[i])
+        row.decimals = row.decimals[:i] + (d,) + row.decimals[i + 1:]

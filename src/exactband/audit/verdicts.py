@@ -19,14 +19,13 @@ for information, the lowest power of their rule outside the null.
 
 from __future__ import annotations
 
-from collections import Counter
 from dataclasses import dataclass, field
 from decimal import Decimal
 
 from . import policy as P
-from .diagnosis import NONE, diagnose, file_level
+from .diagnosis import NONE, diagnose
 from .match import canonical
-from .recompute import Recomputed, fast_all, task
+from .recompute import Recomputed
 
 REASONS = ("cutoff", "gamma", "size")
 
@@ -165,44 +164,13 @@ def diagnose_row(v: Verdict) -> Verdict:
 
 
 def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
-    """Verdicts for ``rows`` in order (see the module docstring)."""
-    from ..parallel import pmap
+    """Verdicts for ``rows`` in order, all in memory (see the module docstring; a whole
+    file is judged in chunks by ``stream.Judging``)."""
+    from .stream import Judging
 
-    valid = [i for i, r in enumerate(rows) if r.error is None]
-    fast = fast_all([rows[i].problem for i in valid])
-    fast_of = dict(zip(valid, fast))
-    todo = [(rows[i], fast_of[i], precision) for i in valid]
-    done = pmap(task, todo, workers, progress, max_chunk=32)
-    recs = [Recomputed()] * len(rows)
-    for i, rec in zip(valid, done):
-        recs[i] = rec
-    if progress:
-        progress(len(rows) - len(valid))
-    modes = infer_modes(rows, recs, rounding)
-    verdicts = [judge_row(r, rec, modes) for r, rec in zip(rows, recs)]
-    idx = [i for i, v in enumerate(verdicts) if v.verdict == "finding"]
-    for i, v in zip(idx, pmap(diagnose_row, [verdicts[i] for i in idx], workers, None, 8)):
-        verdicts[i] = v
-    return Batch(verdicts, modes, _notes(rows, modes, rounding), file_level(verdicts))
-
-
-def _notes(rows, modes, rounding) -> list:
-    """'gamma1, gamma2: gammas truncated to 4 decimals' and the like, once per file."""
-    said = {}
-    for i, name in ((0, "gamma1"), (1, "gamma2")):
-        d = [r.decimals[i] for r in rows if r.error is None and r.numbers[i] is not None]
-        if not d:
-            continue
-        col = P.column_decimals(Counter(x for x in d if x))
-        if rounding is not None:
-            text = f"read as {'truncated' if rounding == 'truncate' else 'rounded'} " \
-                   "(--gamma-rounding)"
-        elif modes[i] == "truncate" and col is not None:
-            text = f"gammas truncated to {col} decimals"
-        else:
-            continue
-        said.setdefault(text, []).append(name)
-    return [f"{', '.join(names)}: {text}" for text, names in said.items()]
+    j = Judging(lambda size: iter([rows]), precision, workers, progress, rounding)
+    verdicts = list(j)
+    return Batch(verdicts, j.modes, j.notes, j.file_diagnosis)
 
 
 __all__ = ["NONE", "REASONS", "Batch", "Verdict", "judge_batch", "judge_row"]

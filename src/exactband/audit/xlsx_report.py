@@ -50,12 +50,14 @@ def _cell_value(value, kind):
     return value
 
 
-def xlsx_bytes(result) -> bytes:
+def xlsx_bytes(result, listed=None) -> bytes:
+    """The XLSX report of ``result``, listing the verdicts ``listed`` (default: all kept)."""
     from openpyxl import Workbook
     from openpyxl.styles import Alignment, Font, PatternFill
     from openpyxl.utils import get_column_letter
 
-    cols = [(c, k) for c, k in COLUMNS if c != "id" or any(v.row.ident for v in result.verdicts)]
+    listed = result.verdicts if listed is None else listed
+    cols = [(c, k) for c, k in COLUMNS if c != "id" or any(v.row.ident for v in listed)]
     s = summary(result)
     wb = Workbook()
     ws = wb.active
@@ -69,6 +71,9 @@ def xlsx_bytes(result) -> bytes:
                   "numbers behind each finding are marked in dark red.").font = bold
     ws.cell(3, 1, POLICY).font = Font(italic=True, color="555555")
     said = list(result.file_diagnosis) + list(result.table.notes) + list(result.notes)
+    if len(listed) < result.tally.rows:
+        said.append(f"this sheet lists the first {len(listed)} of {result.tally.rows} rows; the "
+                    "CSV report lists every row")
     if said:
         ws.cell(4, 1, T.xlsx_cell("; ".join(said))).font = Font(bold=True, color="9C1C1C")
     ws.cell(5, 1, CAUTION).font = Font(italic=True, color="555555")
@@ -84,7 +89,7 @@ def xlsx_bytes(result) -> bytes:
     wrap = Alignment(vertical="top", wrap_text=True)
     printed = {"n", "alpha", "low", "high", "value", "dispersion", "their_c1", "their_gamma1",
                "their_c2", "their_gamma2", "our_gamma1", "our_gamma2"}
-    for i, v in enumerate(result.verdicts, start=HEADER_ROW + 1):
+    for i, v in enumerate(listed, start=HEADER_ROW + 1):
         rec = record(v, result.modes)
         wrong = _wrong_cells(v, rec)
         strong, text_colour, tint = FILLS[v.verdict]
@@ -108,7 +113,7 @@ def xlsx_bytes(result) -> bytes:
                 c.font = Font(color="808080")  # within tolerance: the numbers recede
     last = get_column_letter(len(cols))
     ws.freeze_panes = ws.cell(HEADER_ROW + 1, [c for c, _ in cols].index("verdict") + 2)
-    ws.auto_filter.ref = f"A{HEADER_ROW}:{last}{HEADER_ROW + len(result.verdicts)}"
+    ws.auto_filter.ref = f"A{HEADER_ROW}:{last}{HEADER_ROW + len(listed)}"
     ws.print_title_rows = f"{HEADER_ROW}:{HEADER_ROW}"
     print_setup(ws, pages_wide=2)  # 30-odd columns: two A4 pages wide stay legible
     ws.print_title_cols = "A:" + get_column_letter([c for c, _ in cols].index("verdict") + 1)

@@ -113,14 +113,15 @@ def run(args) -> int:
     from pathlib import Path
 
     from ..audit import AuditInputError, audit, reports
+    from ..audit.report_stream import Writer
 
     opts = options(args)
     workers = check_workers(args.workers)
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
         raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
+    # rows are judged in chunks and the reports streamed: memory does not grow with the file
+    sink = None if args.report is None else Writer(args.report)
     result = audit(args.file, opts, precision=check_precision(args.precision), workers=workers,
-                   progress=progress_printer)
-    if args.report is not None:
-        reports.write(result, args.report)
+                   progress=progress_printer, sink=sink, keep=False)
     print(reports.summary_text(result, args.report))
     return 0 if result.all_ok else 1
