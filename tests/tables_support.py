@@ -96,3 +96,14 @@ def built(root: str, name: str, text: str) -> Path:
     spec = write_spec(Path(root), name, text)
     generate(spec, folder / "out", workers=1)
     return folder / "out"
+
+
+FINAL = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")  # a set's file endings
+
+
+def set_files(folder) -> dict:
+    """Every file of a folder (not its sub-folders) by name, as bytes; {} if it is missing."""
+    folder = Path(folder)
+    if not folder.exists():
+        return {}
+    return {p.name: p.read_bytes() for p in sorted(folder.iterdir()) if p.is_file()}

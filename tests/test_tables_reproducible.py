@@ -19,9 +19,7 @@ from exactband.errors import VerificationError
 from exactband.tables import build as build_mod
 from exactband.tables import cache as cache_mod
 from exactband.tables import generate
-from .tables_support import OC, SMALL, built, write_spec
-
-FINAL = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")
+from .tables_support import FINAL, OC, SMALL, built, set_files, write_spec
 
 
 @pytest.fixture(scope="module")
@@ -32,12 +30,6 @@ def root(tmp_path_factory):
 @pytest.fixture(scope="module")
 def ref(root):
     return built(str(root), "small", SMALL)
-
-
-def _files(folder: Path) -> dict:
-    if not folder.exists():
-        return {}
-    return {p.name: p.read_bytes() for p in sorted(folder.iterdir()) if p.is_file()}
 
 
 def _sheet_values(path) -> dict:
@@ -51,7 +43,7 @@ def test_same_spec_same_bytes(root, ref):
     for name, first in (("small", ref), ("oc", oc_ref)):
         again = root / f"again-{name}"
         generate(root / f"{name}.toml", again, workers=1)
-        a, b = _files(first), _files(again)
+        a, b = set_files(first), set_files(again)
         assert sorted(a) == sorted(f"{name}{s}" for s in FINAL)
         for fname in a:  # CSVs, PDF, manifest and even the xlsx archive: byte for byte
             assert a[fname] == b[fname], fname
@@ -133,7 +125,7 @@ def test_resume_from_cache_and_invalidation(tmp_path, ref, monkeypatch):
     notes = []
     generate(spec, out, workers=1, log=notes.append)
     assert notes == ["resumed 10 of 30 verified designs from the cache"]
-    assert _files(out) == _files(ref)
+    assert set_files(out) == set_files(ref)
     assert not (out / ".small.verify-cache").exists()
     # a cache from another spec version or package version is not used
     for change in ("spec", "version"):

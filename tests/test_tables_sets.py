@@ -25,9 +25,7 @@ from exactband.tables import build as build_mod
 from exactband.tables import check_set, generate
 from exactband.tables.publish import folder_lock
 from exactband.tableverify import verified_table_rule
-from .tables_support import SMALL, built, write_spec
-
-FINAL = (".csv", ".print.csv", ".xlsx", ".pdf", ".manifest.json")
+from .tables_support import FINAL, SMALL, built, set_files, write_spec
 
 
 @pytest.fixture(scope="module")
@@ -38,10 +36,6 @@ def root(tmp_path_factory):
 @pytest.fixture(scope="module")
 def ref(root):
     return built(str(root), "small", SMALL)
-
-
-def _files(folder: Path) -> dict:
-    return {p.name: p.read_bytes() for p in sorted(Path(folder).iterdir()) if p.is_file()}
 
 
 def _copy(ref: Path, dest: Path) -> Path:
@@ -111,7 +105,7 @@ def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger, why):
     generate(spec, out, workers=1, log=notes.append)
     assert len(notes) == 1 and "verification cache failed its check" in notes[0], notes
     assert why in notes[0] and "every design is verified again" in notes[0]
-    assert _files(out) == _files(ref)  # the published set is the honest one
+    assert set_files(out) == set_files(ref)  # the published set is the honest one
 
 
 # -- 2. decide --table refuses an edited row ------------------------------------------
@@ -227,7 +221,7 @@ def _run(spec: Path, out: Path, stop: str | None = None, **kw):
 
 def _state(folder: Path, old: dict, new: dict) -> str:
     """'old' or 'new' (a manifest and exactly its set), 'none' (no manifest), else 'MIXED'."""
-    have = {k: v for k, v in _files(folder).items() if not k.startswith(".")}
+    have = {k: v for k, v in set_files(folder).items() if not k.startswith(".")}
     if "small.manifest.json" not in have:
         return "none"
     for label, want in (("old", old), ("new", new)):
@@ -246,9 +240,9 @@ def test_stop_points_never_leave_a_mixed_set(tmp_path, ref):
     write_spec(tmp_path / "v1", "small", SMALL)
     out = tmp_path / "out"
     generate(tmp_path / "v1" / "small.toml", out, workers=1)
-    old = _files(out)
+    old = set_files(out)
     generate(spec, tmp_path / "want", workers=1)
-    new = _files(tmp_path / "want")
+    new = set_files(tmp_path / "want")
     assert old != new
     seen = []
     for stop in ("chunk-saved", "inside-write", "staged", "manifest-removed", "moved#2",
@@ -266,7 +260,7 @@ def test_stop_points_never_leave_a_mixed_set(tmp_path, ref):
     assert seen == ["old", "old", "old", "none", "none", "new"]
     proc = _run(spec, out)
     assert proc.wait(timeout=300) == 0
-    assert _files(out) == new  # no staging folder, cache, lock or temporary file left
+    assert set_files(out) == new  # no staging folder, cache, lock or temporary file left
 
 
 def test_colliding_names_are_refused(tmp_path, capsys):
@@ -275,11 +269,11 @@ def test_colliding_names_are_refused(tmp_path, capsys):
     out = tmp_path / "out"
     assert main(["table", str(a), "--out", str(out), "--workers", "1"]) == 0
     capsys.readouterr()
-    before = _files(out)
+    before = set_files(out)
     assert main(["table", str(b), "--out", str(out), "--workers", "1"]) == 2
     err = capsys.readouterr().err.splitlines()
     assert len(err) == 1 and "its file x.print.csv belongs to the set 'x'" in err[0]
-    assert _files(out) == before
+    assert set_files(out) == before
     other = tmp_path / "other"  # the other order: x.print first, then x
     assert main(["table", str(b), "--out", str(other), "--workers", "1"]) == 0
     assert main(["table", str(a), "--out", str(other), "--workers", "1"]) == 2
@@ -296,7 +290,7 @@ def test_second_build_waits_for_the_folder_lock(tmp_path, ref):
         assert "another build is writing into" in line and proc.poll() is None
         assert not [p for p in out.iterdir() if p.name.endswith(FINAL)]
     assert proc.wait(timeout=300) == 0
-    assert _files(out) == _files(ref)
+    assert set_files(out) == set_files(ref)
 
 
 # -- 5. no environment variable changes a byte -----------------------------------------
@@ -305,5 +299,5 @@ def test_source_date_epoch_changes_no_byte(tmp_path, ref, monkeypatch):
     monkeypatch.setenv("TZ", "Pacific/Kiritimati")
     spec = write_spec(tmp_path, "small", SMALL)
     generate(spec, tmp_path / "out", workers=1)
-    assert _files(tmp_path / "out") == _files(ref)
+    assert set_files(tmp_path / "out") == set_files(ref)
     assert os.environ["SOURCE_DATE_EPOCH"] == "1234567890"  # left as it was
