@@ -1,0 +1,263 @@
+"""High-precision solver for continuous families (mpmath only), independent of cfast.
+
+Distribution code: the family's mpmath law (``NormalMp``: erfc; ``GammaMp``:
+gammainc, loggamma) at a scoped working precision (``mp.workdps``); no scipy.
+
+Algorithm (different from the float solver's tail-mass search): a nested search
+over the cutoffs themselves.  The inner search puts c2 where the first side
+condition holds for the given c1 (the size at high, or at the value; for
+equivalence the window's mass at high) by safeguarded Newton steps inside a
+bracket; the outer search moves c1 by Illinois regula falsi inside a bracket
+until the second condition holds, written in its original form:
+
+* point: E[Y phi] = alpha E[Y] (with E[Y; Y < c] from the law);
+* band: the size at low equals alpha, taken as (E_high phi - E_low phi) / (high - low)
+  computed at a precision raised by the digits the narrow band costs;
+* equivalence: the window's mass at low equals alpha (same narrow treatment).
+
+Working precision: precision + GUARD_DIGITS + the digits a narrow band costs
+(+ -log10 alpha for equivalence, whose window mass is a difference of tails;
++ log10(|E Y| / sd Y) for the point condition's cancellation).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import mpmath as mp
+
+from ..mpnum import dec
+
+GUARD_DIGITS = 15
+MAX_STEPS = 400
+
+
+class PreciseFailure(RuntimeError):
+    """The precise continuous solver could not produce a rule (never silent)."""
+
+
+@dataclass(frozen=True)
+class PreciseContinuous:
+    """Cutoffs and sizes as mpf at working precision ``dps``; None where the kind has none."""
+
+    c1: object
+    c2: object
+    sizes: tuple
+    dps: int
+
+
+def working_dps(precision: int, kind: str, alpha, points, sd_ratio=1.0, width=None) -> int:
+    """Digits to work with: requested + guard + the digits narrowness and cancellation cost.
+
+    ``width`` is the band's width in standard deviations of Y (None: one point);
+    ``sd_ratio`` is |E Y| / sd Y at the value (the point condition subtracts terms of that size).
+    """
+    extra = 0
+    if kind == "equivalence" and alpha < 0.1:
+        extra += int(math.ceil(-math.log10(alpha)))
+    if width is not None and 0 < width < 1:
+        extra += int(math.ceil(-math.log10(width)))
+    if kind == "point":
+        extra += int(math.ceil(math.log10(1.0 + sd_ratio)))
+    return int(precision) + GUARD_DIGITS + extra
+
+
+def _newton_in(fn, lo, hi, tol):
+    """Root of fn (value, derivative) in [lo, hi] with fn(lo) < 0 < fn(hi) (or the reverse):
+    Newton steps, bisection when a step leaves the bracket or does not halve the last one."""
+    rising = fn(lo)[0] < 0
+    x = (lo + hi) / 2
+    last = hi - lo
+    for _ in range(MAX_STEPS):
+        v, d = fn(x)
+        if v == 0:
+            return x
+        if (v < 0) == rising:
+            lo = x
+        else:
+            hi = x
+        nx = x - v / d if d != 0 else None
+        if nx is None or not lo < nx < hi or abs(nx - x) > abs(last) / 2:
+            nx = (lo + hi) / 2
+        last = nx - x
+        if abs(last) <= tol * (abs(nx) + tol):
+            return nx
+        x = nx
+    raise PreciseFailure("inner search did not converge")
+
+
+def _illinois(fn, lo, hi, tol):
+    """Root of a monotone fn in [lo, hi] by Illinois regula falsi (bracket kept)."""
+    flo, fhi = fn(lo), fn(hi)
+    if flo == 0:
+        return lo
+    if fhi == 0:
+        return hi
+    if (flo > 0) == (fhi > 0):
+        raise PreciseFailure("side condition does not change sign over its bracket")
+    side = 0
+    for _ in range(MAX_STEPS):
+        x = (lo * fhi - hi * flo) / (fhi - flo)
+        if not lo < x < hi:
+            x = (lo + hi) / 2
+        fx = fn(x)
+        if fx == 0 or abs(hi - lo) <= tol * (abs(x) + tol):
+            return x
+        if (fx > 0) == (fhi > 0):
+            hi, fhi = x, fx
+            if side == 1:
+                flo /= 2
+            side = 1
+        else:
+            lo, flo = x, fx
+            if side == -1:
+                fhi /= 2
+            side = -1
+    raise PreciseFailure("outer search did not converge")
+
+
+def _below(law, theta, target):
+    """A point c (inside the support) with P_theta(Y < c) < target."""
+    m, s = law.mean(theta), law.sd(theta)
+    c = m - s
+    for _ in range(4000):
+        if c > law.lower and law.cdf(c, theta) < target:
+            return c
+        c = c - 2 * (m - c) if law.lower == -mp.inf else (c + law.lower) / 2 if c > law.lower \
+            else (m + law.lower) / 2
+    raise PreciseFailure("no lower bracket")
+
+
+def _above(law, theta, target):
+    """A point c with P_theta(Y > c) < target."""
+    m, s = law.mean(theta), law.sd(theta)
+    step = s
+    for _ in range(4000):
+        c = m + step
+        if law.sf(c, theta) < target:
+            return c
+        step *= 2
+    raise PreciseFailure("no upper bracket")
+
+
+def _quantile_low(law, theta, p, tol):
+    """c with P_theta(Y < c) = p."""
+    lo, hi = _below(law, theta, p), _above(law, theta, min(p, 1 - p) / 2)
+    return _newton_in(lambda c: (law.cdf(c, theta) - p, law.pdf(c, theta)), lo, hi, tol)
+
+
+def _quantile_high(law, theta, q, tol):
+    """c with P_theta(Y > c) = q."""
+    lo, hi = _below(law, theta, min(q, 1 - q) / 2), _above(law, theta, q)
+    return _newton_in(lambda c: (q - law.sf(c, theta), law.pdf(c, theta)), lo, hi, tol)
+
+
+def _size(law, kind, c1, c2, theta):
+    if kind == "upper":
+        return law.sf(c2, theta)
+    if kind == "lower":
+        return law.cdf(c1, theta)
+    if kind in ("band", "point"):
+        return law.cdf(c1, theta) + law.sf(c2, theta)
+    return law.cdf(c2, theta) - law.cdf(c1, theta)
+
+
+def _two_tail(law, alpha, lo, hi, kind, tol):
+    """Band / point: inner c2 from the size at hi (point: at the value), outer condition."""
+    top = _quantile_low(law, lo, alpha, tol)  # c1 can be no larger (left tail alone is alpha)
+    bottom = _below(law, lo, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+    hi_cut = _above(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+
+    def c2_of(c1):
+        rest = alpha - law.cdf(c1, hi)
+        if rest <= 0:
+            return mp.inf
+        up2 = hi_cut
+        while law.sf(up2, hi) > rest:
+            up2 = up2 + (up2 - law.mean(hi))
+        return _newton_in(lambda c: (rest - law.sf(c, hi), law.pdf(c, hi)), c1, up2, tol)
+
+    if kind == "point":
+        mu = law.mean(lo)
+
+        def outer(c1):
+            c2 = c2_of(c1)
+            upper = mu - law.mean_below(c2, lo) if c2 != mp.inf else mp.mpf(0)
+            return (law.mean_below(c1, lo) + upper - alpha * mu) / law.sd(lo)
+    else:
+        width = hi - lo
+
+        def outer(c1):
+            c2 = c2_of(c1)
+            size_lo = law.cdf(c1, lo) + (law.sf(c2, lo) if c2 != mp.inf else 0)
+            size_hi = law.cdf(c1, hi) + (law.sf(c2, hi) if c2 != mp.inf else 0)
+            return (size_lo - size_hi) / width
+
+    c1 = _illinois(outer, bottom, top, tol)
+    return c1, c2_of(c1)
+
+
+def _window(law, alpha, lo, hi, tol):
+    """Equivalence: inner c2 from the window's mass at high, outer: the mass at low."""
+    left = _below(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+    right = _quantile_high(law, hi, alpha, tol)  # beyond it the window at high holds < alpha
+    width = hi - lo
+
+    def c2_of(c1):
+        target = law.cdf(c1, hi) + alpha
+        if target >= 1:
+            return mp.inf
+        up = _above(law, hi, (1 - target) / 2)
+        return _newton_in(lambda c: (law.cdf(c, hi) - target, law.pdf(c, hi)), c1, up, tol)
+
+    def outer(c1):
+        c2 = c2_of(c1)
+        return ((law.cdf(c2, lo) - law.cdf(c1, lo)) - (law.cdf(c2, hi) - law.cdf(c1, hi))) / width
+
+    c1 = _illinois(outer, left, right, tol)
+    return c1, c2_of(c1)
+
+
+def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None,
+          precision: int = 50) -> PreciseContinuous:
+    """The optimal rule at ``precision`` significant digits (mpmath only)."""
+    a_f = float(alpha)
+    fl = family.continuous_float(n, dispersion)  # only the scale, for the digit budget
+    if kind in ("band", "equivalence"):
+        width = (float(high) - float(low)) / float(fl.theta_scale(float(low)))
+        ratio = 1.0
+    else:
+        width = None
+        ratio = abs(float(fl.mean(float(value)))) / float(fl.sd(float(value)))
+    dps = working_dps(precision, kind, a_f, None, ratio, width)
+    with mp.workdps(dps):
+        law = family.continuous_mp(n, dispersion)
+        a = dec(alpha)
+        tol = mp.mpf(10) ** -(dps - 5)
+        if kind == "upper":
+            v = dec(value)
+            c1, c2, points = None, _quantile_high(law, v, a, tol), (v,)
+        elif kind == "lower":
+            v = dec(value)
+            c1, c2, points = _quantile_low(law, v, a, tol), None, (v,)
+        elif kind == "point":
+            v = dec(value)
+            (c1, c2), points = _two_tail(law, a, v, v, kind, tol), (v,)
+        elif kind == "band":
+            points = (dec(low), dec(high))
+            c1, c2 = _two_tail(law, a, points[0], points[1], kind, tol)
+        else:
+            points = (dec(low), dec(high))
+            c1, c2 = _window(law, a, points[0], points[1], tol)
+        sizes = tuple(_size(law, kind, c1, c2, t) for t in points)
+    return PreciseContinuous(c1, c2, sizes, dps)
+
+
+def sizes_of(family, kind: str, n, dispersion, c1, c2, points, precision: int = 50) -> tuple:
+    """E_theta phi at each point for given cutoffs, with the mpmath law (for the cross-check)."""
+    with mp.workdps(int(precision) + GUARD_DIGITS):
+        law = family.continuous_mp(n, dispersion)
+        cc1 = None if c1 is None else mp.mpf(c1)
+        cc2 = None if c2 is None else mp.mpf(c2)
+        return tuple(_size(law, kind, cc1, cc2, dec(t)) for t in points)
