@@ -8,10 +8,13 @@ Two independent laws:
 * ``GammaFloat`` (scipy.special: gammainc, gammaincc and their inverses; the
   density in the saddle-point form of ``families._saddle`` so that a large
   shape keeps full double precision) for the fast continuous solver;
-* ``GammaMp`` (mpmath: gammainc, loggamma at the caller's working precision)
-  for the high-precision solver.  mpmath's incomplete gamma function sums a
-  series that fails to converge for shapes above ~10^6, so the precise law
-  declines A = n k > MAX_SHAPE (``TableTooLarge``, a one-line DesignError).
+* ``GammaMp`` (mpmath arithmetic, loggamma and exp at the caller's working
+  precision; the incomplete gamma function by its power series below the mode
+  and Legendre's continued fraction above, each used on the smaller tail) for
+  the high-precision solver.  Both expansions need about sqrt(A) terms near the
+  mode, so the precise law declines A = n k > MAX_SHAPE (``TableTooLarge``, a
+  one-line DesignError).  (mpmath's own gammainc was not used: for some
+  arguments beyond the mode it raises ComplexResult or NoConvergence.)
 
 d/dtheta P(Y <= c) = -(A / theta) x^A e^-x / Gamma(A + 1) with x = k c / theta,
 and the score d/dtheta log f(y) = (k / theta^2) (y - A theta / k).
@@ -104,6 +107,41 @@ class GammaFloat:
         return self.k / (t * t) * (np.asarray(y, dtype=float) - self.A * t / self.k)
 
 
+MAX_TERMS = 10**6
+
+
+def _lower_series(a, x):
+    """P(a, x) = x^a e^-x / Gamma(a + 1) * sum_j x^j / ((a + 1) ... (a + j)), x < a + 1."""
+    term = s = mp.mpf(1)
+    for j in range(1, MAX_TERMS):
+        term *= x / (a + j)
+        s += term
+        if term < s * mp.eps:
+            return s * mp.exp(a * mp.log(x) - x - mp.loggamma(a + 1))
+    raise TableTooLarge("the incomplete gamma series did not converge")
+
+
+def _upper_fraction(a, x):
+    """Q(a, x) by Legendre's continued fraction (modified Lentz), x >= a + 1."""
+    tiny = mp.mpf(2) ** (-4 * mp.mp.prec)
+    b = x + 1 - a
+    c, d = 1 / tiny, 1 / b
+    h = d
+    for i in range(1, MAX_TERMS):
+        an = -i * (i - a)
+        b += 2
+        d = an * d + b
+        d = tiny if d == 0 else d
+        c = b + an / c
+        c = tiny if c == 0 else c
+        d = 1 / d
+        delta = d * c
+        h *= delta
+        if abs(delta - 1) < mp.eps:
+            return h * mp.exp(a * mp.log(x) - x - mp.loggamma(a))
+    raise TableTooLarge("the incomplete gamma continued fraction did not converge")
+
+
 class GammaMp:
     """mpmath law of the total (call inside the caller's mp.workdps)."""
 
@@ -114,7 +152,7 @@ class GammaMp:
         self.A = dec(n) * self.k
         if self.A > MAX_SHAPE:
             raise TableTooLarge(f"shape n k = {mp.nstr(self.A, 6)} is above {MAX_SHAPE:g}, "
-                                "where mpmath's incomplete gamma function stops converging")
+                                "the largest the high-precision incomplete gamma function takes")
 
     def mean(self, theta):
         return self.A * theta / self.k
@@ -122,15 +160,26 @@ class GammaMp:
     def sd(self, theta):
         return mp.sqrt(self.A) * theta / self.k
 
+    @staticmethod
+    def _tails(shape, x):
+        """(P(X < x), P(X > x)) for X ~ Gamma(shape): the smaller tail by its own expansion
+        (series below shape + 1, continued fraction above), the other as the complement,
+        which then loses no digits."""
+        if x <= 0:
+            return mp.mpf(0), mp.mpf(1)
+        if x == mp.inf:
+            return mp.mpf(1), mp.mpf(0)
+        if x < shape + 1:
+            low = _lower_series(shape, x)
+            return low, 1 - low
+        up = _upper_fraction(shape, x)
+        return 1 - up, up
+
     def cdf(self, c, theta):
-        if c <= 0:
-            return mp.mpf(0)
-        return mp.gammainc(self.A, 0, self.k * c / theta, regularized=True)
+        return self._tails(self.A, self.k * c / theta)[0]
 
     def sf(self, c, theta):
-        if c <= 0:
-            return mp.mpf(1)
-        return mp.gammainc(self.A, self.k * c / theta, mp.inf, regularized=True)
+        return self._tails(self.A, self.k * c / theta)[1]
 
     def pdf(self, c, theta):
         if c <= 0:
@@ -140,9 +189,11 @@ class GammaMp:
 
     def mean_below(self, c, theta):
         """E[Y; Y < c] = (A theta / k) P(Gamma(A + 1) < x)."""
-        if c <= 0:
-            return mp.mpf(0)
-        return self.mean(theta) * mp.gammainc(self.A + 1, 0, self.k * c / theta, regularized=True)
+        return self.mean(theta) * self._tails(self.A + 1, self.k * c / theta)[0]
+
+    def mean_above(self, c, theta):
+        """E[Y; Y > c] = (A theta / k) P(Gamma(A + 1) > x), the tail computed directly."""
+        return self.mean(theta) * self._tails(self.A + 1, self.k * c / theta)[1]
 
 
 class Gamma(Family):

@@ -112,6 +112,10 @@ class NormalMp:
         """E[Y; Y < c] = theta P(Y < c) - s^2 f(c)."""
         return theta * self.cdf(c, theta) - self.s ** 2 * self.pdf(c, theta)
 
+    def mean_above(self, c, theta):
+        """E[Y; Y > c] = theta P(Y > c) + s^2 f(c)."""
+        return theta * self.sf(c, theta) + self.s ** 2 * self.pdf(c, theta)
+
 
 class Normal(Family):
     """Sample mean of n observations with known sigma (the dispersion)."""

@@ -40,6 +40,7 @@ NARROW = 0.5  # band width (in standard deviations of Y, measured in theta) belo
 _X, _W = np.polynomial.legendre.leggauss(20)
 _RTOL = 4.0 * np.finfo(float).eps
 _BIG = 1e300
+LOG_NOISE = 64 * np.finfo(float).eps  # rounding of a log-ratio side condition
 
 
 @dataclass(frozen=True)
@@ -166,7 +167,7 @@ def _two_tail(law, alpha: float, lo: float, hi: float):
         s = a + _f(law.sf(c2, lo))
         return _clip(math.log(s) - math.log(alpha)) if s > 0 else -_BIG
 
-    r = _root(cond, 0.0, 1.0)
+    r = _root(cond, 0.0, 1.0, 0.0 if slim else LOG_NOISE)
     _, c1, c2 = cuts(r)
     return c1, c2
 
@@ -194,7 +195,7 @@ def _window(law, alpha: float, lo: float, hi: float):
             return -_BIG
         return _clip(math.log(pl) - math.log(ph)) if ph > 0 else _BIG
 
-    p = _root(cond, alpha, 1.0)
+    p = _root(cond, alpha, 1.0, 0.0 if slim else LOG_NOISE)
     return cuts(p)
 
 
@@ -221,11 +222,13 @@ def _refine_end(law, c1: float, c2: float, alpha: float, theta: float) -> float:
     return c2
 
 
-def _root(fn, lo: float, hi: float) -> float:
+def _root(fn, lo: float, hi: float, noise: float = 0.0) -> float:
+    """Root of an increasing fn on [lo, hi]; an end where fn is within ``noise`` of 0 (on
+    the wrong side by rounding) is the root."""
     flo, fhi = fn(lo), fn(hi)
-    if flo == 0.0:
+    if flo == 0.0 or (flo > 0 and flo <= noise):
         return lo
-    if fhi == 0.0:
+    if fhi == 0.0 or (fhi < 0 and -fhi <= noise):
         return hi
     if flo > 0 or fhi < 0:
         raise FloatingPointError("side condition does not change sign over its bracket")

@@ -10,7 +10,7 @@ equivalence the window's mass at high) by safeguarded Newton steps inside a
 bracket; the outer search moves c1 by Illinois regula falsi inside a bracket
 until the second condition holds, written in its original form:
 
-* point: E[Y phi] = alpha E[Y] (with E[Y; Y < c] from the law);
+* point: E[Y phi] = alpha E[Y] (with E[Y; Y < c] and E[Y; Y > c] from the law);
 * band: the size at low equals alpha, taken as (E_high phi - E_low phi) / (high - low)
   computed at a precision raised by the digits the narrow band costs;
 * equivalence: the window's mass at low equals alpha (same narrow treatment).
@@ -63,44 +63,59 @@ def working_dps(precision: int, kind: str, alpha, points, sd_ratio=1.0, width=No
     return int(precision) + GUARD_DIGITS + extra
 
 
-def _newton_in(fn, lo, hi, tol):
-    """Root of fn (value, derivative) in [lo, hi] with fn(lo) < 0 < fn(hi) (or the reverse):
-    Newton steps, bisection when a step leaves the bracket or does not halve the last one."""
-    rising = fn(lo)[0] < 0
-    x = (lo + hi) / 2
+def _newton_in(fn, lo, hi, tol, x0=None):
+    """Root of an increasing fn (value, derivative) in [lo, hi]: Newton steps from x0 (or
+    the middle), bisection when a step leaves the bracket or does not halve the last one."""
+    x = x0 if x0 is not None and lo < x0 < hi else (lo + hi) / 2
     last = hi - lo
     for _ in range(MAX_STEPS):
         v, d = fn(x)
         if v == 0:
             return x
-        if (v < 0) == rising:
+        if v < 0:
             lo = x
         else:
             hi = x
-        nx = x - v / d if d != 0 else None
+        nx = x - v / d if d != 0 and mp.isfinite(v) else None
+        if nx is not None and lo <= nx <= hi and abs(nx - x) <= tol * (abs(x) + tol):
+            return nx
         if nx is None or not lo < nx < hi or abs(nx - x) > abs(last) / 2:
             nx = (lo + hi) / 2
         last = nx - x
-        if abs(last) <= tol * (abs(nx) + tol):
+        if hi - lo <= tol * (abs(nx) + tol):
             return nx
         x = nx
     raise PreciseFailure("inner search did not converge")
 
 
-def _illinois(fn, lo, hi, tol):
-    """Root of a monotone fn in [lo, hi] by Illinois regula falsi (bracket kept)."""
+def _log_ratio(top, bottom):
+    """log(top / bottom) for probabilities (-inf when top is 0)."""
+    return mp.log(top) - mp.log(bottom) if top > 0 else mp.ninf
+
+
+def _illinois(fn, lo, hi, tol, noise=0):
+    """Root of a monotone fn in [lo, hi] by Illinois regula falsi (bracket kept).
+
+    fn is known to ``noise`` (absolute): an end of the bracket where fn is within the
+    noise and has the other end's sign is taken as the root (e.g. a band so wide that
+    its rule is the two one-sided rules to every working digit)."""
     flo, fhi = fn(lo), fn(hi)
     if flo == 0:
         return lo
     if fhi == 0:
         return hi
     if (flo > 0) == (fhi > 0):
+        if min(abs(flo), abs(fhi)) <= noise:
+            return lo if abs(flo) < abs(fhi) else hi
         raise PreciseFailure("side condition does not change sign over its bracket")
-    side = 0
+    side, prev = 0, None
     for _ in range(MAX_STEPS):
         x = (lo * fhi - hi * flo) / (fhi - flo)
         if not lo < x < hi:
             x = (lo + hi) / 2
+        if prev is not None and abs(x - prev) <= tol * (abs(x) + tol):
+            return x
+        prev = x
         fx = fn(x)
         if fx == 0 or abs(hi - lo) <= tol * (abs(x) + tol):
             return x
@@ -142,15 +157,25 @@ def _above(law, theta, target):
 
 
 def _quantile_low(law, theta, p, tol):
-    """c with P_theta(Y < c) = p."""
+    """c with P_theta(Y < c) = p (Newton on log P(Y < c))."""
     lo, hi = _below(law, theta, p), _above(law, theta, min(p, 1 - p) / 2)
-    return _newton_in(lambda c: (law.cdf(c, theta) - p, law.pdf(c, theta)), lo, hi, tol)
+
+    def fn(c):
+        F = law.cdf(c, theta)
+        return _log_ratio(F, p), law.pdf(c, theta) / F if F > 0 else mp.mpf(0)
+
+    return _newton_in(fn, lo, hi, tol)
 
 
 def _quantile_high(law, theta, q, tol):
-    """c with P_theta(Y > c) = q."""
+    """c with P_theta(Y > c) = q (Newton on -log P(Y > c))."""
     lo, hi = _below(law, theta, min(q, 1 - q) / 2), _above(law, theta, q)
-    return _newton_in(lambda c: (q - law.sf(c, theta), law.pdf(c, theta)), lo, hi, tol)
+
+    def fn(c):
+        S = law.sf(c, theta)
+        return _log_ratio(q, S), law.pdf(c, theta) / S if S > 0 else mp.mpf(0)
+
+    return _newton_in(fn, lo, hi, tol)
 
 
 def _size(law, kind, c1, c2, theta):
@@ -176,14 +201,23 @@ def _two_tail(law, alpha, lo, hi, kind, tol):
         up2 = hi_cut
         while law.sf(up2, hi) > rest:
             up2 = up2 + (up2 - law.mean(hi))
-        return _newton_in(lambda c: (rest - law.sf(c, hi), law.pdf(c, hi)), c1, up2, tol)
+
+        def fn(c):
+            S = law.sf(c, hi)
+            return _log_ratio(rest, S), law.pdf(c, hi) / S if S > 0 else mp.mpf(0)
+
+        found = _newton_in(fn, c1, up2, tol, last[0])
+        last[0] = found
+        return found
+
+    last = [None]
 
     if kind == "point":
         mu = law.mean(lo)
 
         def outer(c1):
             c2 = c2_of(c1)
-            upper = mu - law.mean_below(c2, lo) if c2 != mp.inf else mp.mpf(0)
+            upper = law.mean_above(c2, lo) if c2 != mp.inf else mp.mpf(0)
             return (law.mean_below(c1, lo) + upper - alpha * mu) / law.sd(lo)
     else:
         width = hi - lo
@@ -194,7 +228,9 @@ def _two_tail(law, alpha, lo, hi, kind, tol):
             size_hi = law.cdf(c1, hi) + (law.sf(c2, hi) if c2 != mp.inf else 0)
             return (size_lo - size_hi) / width
 
-    c1 = _illinois(outer, bottom, top, tol)
+    noise = alpha * mp.mpf(10) ** (10 - mp.mp.dps)
+    noise = noise * (1 + abs(mu) / law.sd(lo)) if kind == "point" else noise / width
+    c1 = _illinois(outer, bottom, top, tol, noise)
     return c1, c2_of(c1)
 
 
@@ -209,13 +245,22 @@ def _window(law, alpha, lo, hi, tol):
         if target >= 1:
             return mp.inf
         up = _above(law, hi, (1 - target) / 2)
-        return _newton_in(lambda c: (law.cdf(c, hi) - target, law.pdf(c, hi)), c1, up, tol)
+
+        def fn(c):
+            m = law.cdf(c, hi) - law.cdf(c1, hi)
+            return _log_ratio(m, alpha), law.pdf(c, hi) / m if m > 0 else mp.mpf(0)
+
+        found = _newton_in(fn, c1, up, tol, last[0])
+        last[0] = found
+        return found
+
+    last = [None]
 
     def outer(c1):
         c2 = c2_of(c1)
         return ((law.cdf(c2, lo) - law.cdf(c1, lo)) - (law.cdf(c2, hi) - law.cdf(c1, hi))) / width
 
-    c1 = _illinois(outer, left, right, tol)
+    c1 = _illinois(outer, left, right, tol, alpha * mp.mpf(10) ** (10 - mp.mp.dps) / width)
     return c1, c2_of(c1)
 
 
