@@ -16,6 +16,7 @@ from .errors import DesignError, VerificationError
 from .families import FAMILIES
 from .kinds import KINDS
 from .params import ALPHA_MAX, ALPHA_MIN, ALPHA_MIN_EQUIVALENCE, make_problem
+from .solving import DEFAULT_PRECISION, check_precision, precision_alias, verify_many
 
 COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
 _NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion")
@@ -111,7 +112,6 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     """
     import pandas as pd
 
-    from . import api
     from .solvers import fast
 
     if not isinstance(frame, pd.DataFrame):
@@ -128,8 +128,8 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     if not isinstance(verify, (bool, numbers.Integral)):
         raise DesignError(f"invalid verify = {verify!r}: True or False")
     check_workers(workers)
-    precision = api.precision_alias(precision, digits, "designs")
-    d = api.check_precision(api.DEFAULT_PRECISION if precision is None else precision)
+    precision = precision_alias(precision, digits, "designs")
+    d = check_precision(DEFAULT_PRECISION if precision is None else precision)
     size = len(frame)
     fams, knds = _text(frame, "family"), _text(frame, "kind")
     cols, unreadable = {}, np.zeros(size, dtype=bool)
@@ -170,7 +170,7 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
                                                               else float(v[pos]))
                               for j, v in enumerate((c1, g1, c2, g2))))
         try:
-            ds = api.verify_many(problems, sols, d, workers=workers)
+            ds = verify_many(problems, sols, d, workers=workers)
         except VerificationError as e:
             raise VerificationError(str(e)) from None
         c1 = np.array([np.nan if x.c1 is None else x.c1 for x in ds], dtype=float)

@@ -25,7 +25,7 @@ import math
 from decimal import Decimal, InvalidOperation
 from pathlib import Path
 
-from .api import DEFAULT_PRECISION, fast_solve, verify_one
+from .solving import DEFAULT_PRECISION, fast_solve, verify_one
 from .decide import DecideError
 from .errors import ExactbandError
 from .tablerow import TableRule, select_row, table_rule

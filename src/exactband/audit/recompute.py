@@ -18,7 +18,7 @@ from decimal import Decimal
 
 import mpmath as mp
 
-from ..api import fast_solve
+from ..solving import fast_solve
 from ..crosscheck import compare, sizes_with_tables
 from ..errors import ExactbandError
 from ..mpnum import dec

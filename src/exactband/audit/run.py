@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..api import DEFAULT_PRECISION, check_precision
+from ..solving import DEFAULT_PRECISION, check_precision
 from ..parallel import check_workers
 from .stream import Judging, Tally
 from .table import Options, Table, open_table
