@@ -14,7 +14,8 @@ from __future__ import annotations
 import secrets
 from dataclasses import dataclass
 
-from .design import DEFAULT_RANDOM_DIGITS, Design, _num
+from .design import DEFAULT_RANDOM_DIGITS, Design
+from .numtext import number_text
 from .errors import ExactbandError, invalid
 from .words import gamma_text, side_words
 
@@ -62,8 +63,8 @@ class Decision:
 
     def describe(self) -> str:
         d = self.design
-        lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {_num(d.n)}, "
-                 f"alpha = {_num(d.alpha)}; rule: {self.rule}.",
+        lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {number_text(d.n)}, "
+                 f"alpha = {number_text(d.alpha)}; rule: {self.rule}.",
                  f"Observed Y = {self.y}: {self.region}.", self.reason]
         if self.digits_read is not None:
             lines.append(f"Random digits used: {self.digits_read} ({self.digits_source}); "
@@ -99,7 +100,7 @@ def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
     from .words import the
 
     t = design.problem.family.theta_word
-    low, high = _num(design.low), _num(design.high)
+    low, high = number_text(design.low), number_text(design.high)
     if not reject:
         if design.kind == "equivalence":
             return f"equivalence not shown: the data do not establish {low} < {t} < {high}"

@@ -43,7 +43,7 @@ import numpy as np
 
 from . import kinds as K
 from .api import design as make_design
-from .design import _num
+from .numtext import number_text
 from .errors import ExactbandError, VerificationError
 from .families.base import as_real
 from .oc import (DEFAULT_RANDOM_DIGITS, PlanningError, _error, check_random_digits, check_rule,
@@ -158,8 +158,9 @@ def _check_target(target, alpha):
 
 def _null_words(problem) -> str:
     t = problem.family.theta_word
-    return problem.kind.summary.format(t=t, value=_num(problem.value), low=_num(problem.low),
-                                       high=_num(problem.high))
+    return problem.kind.summary.format(t=t, value=number_text(problem.value),
+                                       low=number_text(problem.low),
+                                       high=number_text(problem.high))
 
 
 def _check_alternatives(problem, alternatives) -> tuple:

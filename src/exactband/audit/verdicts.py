@@ -55,10 +55,6 @@ class Batch:
     file_diagnosis: list  # said once at the top of the report
 
 
-def _num(x) -> str:
-    return f"{x:.6g}"
-
-
 def _printed(row, i) -> Decimal:
     num = row.numbers[i]
     return num.value if num is not None else Decimal(repr(float(row.theirs[2 * i + 1] or 0.0)))
@@ -140,9 +136,9 @@ def judge_row(row, rec: Recomputed, modes) -> Verdict:
         names = ("low", "high") if p.kind.two_point else ("value",)
         pt = p.points[worst]
         v.reasons.append("size")
-        v.details.append(f"their printed numbers give size {_num(rec.sizes[worst])} at "
+        v.details.append(f"their printed numbers give size {rec.sizes[worst]:.6g} at "
                          f"{names[worst]} = {pt:g}, above alpha = {p.alpha:g} by "
-                         f"{_num(rec.excess)} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
+                         f"{rec.excess:.6g} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
     if v.reasons:
         v.verdict = "finding"
     return v
