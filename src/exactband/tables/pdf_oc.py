@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 from reportlab.platypus import Flowable, NextPageTemplate, PageBreak
 
-from .layout import KIND_TITLE
+from .tablewords import KIND_TITLE
 from .spec_oc import ROWS_PER_PAGE
 from .texts import hypothesis_at
 
@@ -84,7 +84,7 @@ def explanation(spec) -> str:
 
 
 def _symbol(spec) -> str:
-    from .layout import WORDS
+    from .tablewords import WORDS
 
     symbol, what, _ = WORDS[spec.family]
     return f"{symbol} ({what})"

@@ -17,7 +17,7 @@ from openpyxl.styles import Alignment, Border, Font, PatternFill
 from openpyxl.utils import get_column_letter
 
 from ..fileio import safe_cell_text
-from .layout import WORDS, plain
+from .tablewords import WORDS, plain
 from .texts import hypothesis_at
 from .write_xlsx import BOLD, CENTER, FONT, MEDIUM, THIN, _page, heading_rows
 
