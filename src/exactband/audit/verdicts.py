@@ -1,6 +1,6 @@
-"""Verdicts for a batch of rows under the written policy (``policy``).
+"""Verdicts for rows under the written policy (``policy``).
 
-``judge_batch`` recomputes every row (``recompute``: fast solver over the whole
+``stream.judge_batch`` recomputes every row (``recompute``: fast solver over the whole
 file, the high-precision solver per row, on a process pool), infers the
 rounding of each gamma column from the rows whose cutoffs are right (unless
 given), and judges each row on its own cells:
@@ -45,14 +45,6 @@ class Verdict:
     at_theta: float | None = None
     diagnosis: str = ""
     also: list = field(default_factory=list)
-
-
-@dataclass
-class Batch:
-    verdicts: list
-    modes: tuple  # rounding of the gamma1 / gamma2 columns
-    notes: list  # policy notes (e.g. "gammas truncated to 4 decimals")
-    file_diagnosis: list  # said once at the top of the report
 
 
 def _printed(row, i) -> Decimal:
@@ -159,14 +151,4 @@ def diagnose_row(v: Verdict) -> Verdict:
     return v
 
 
-def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
-    """Verdicts for ``rows`` in order, all in memory (see the module docstring; a whole
-    file is judged in chunks by ``stream.Judging``)."""
-    from .stream import Judging
-
-    j = Judging(lambda size: iter([rows]), precision, workers, progress, rounding)
-    verdicts = list(j)
-    return Batch(verdicts, j.modes, j.notes, j.file_diagnosis)
-
-
-__all__ = ["NONE", "REASONS", "Batch", "Verdict", "judge_batch", "judge_row"]
+__all__ = ["NONE", "REASONS", "Verdict", "diagnose_row", "judge_row"]

@@ -16,7 +16,7 @@ import re
 from ..xlsxzip import workbook_bytes
 from . import text as T
 from .policy import POLICY
-from .reports import COLUMNS, provenance, record, summary
+from .report_data import COLUMNS, provenance, record, summary
 
 CAUTION = ("exactband computes statistical decision rules; acceptance limits, sampling plans and "
            "consequences come from the governing standard, local regulation and qualified "
