@@ -14,9 +14,19 @@ from .batch import COLUMNS, designs
 from .design import Design
 from .errors import DesignError
 from .params import make_problem
-from .solving import (DECIMALS, DEFAULT_PRECISION, MAX_PRECISION, MIN_PRECISION,
-                      check_precision, fast_solve, from_fast, label, precision_alias,
-                      verify_many, verify_one)
+from .solving import (
+    DECIMALS,
+    DEFAULT_PRECISION,
+    MAX_PRECISION,
+    MIN_PRECISION,
+    check_precision,
+    fast_solve,
+    from_fast,
+    label,
+    precision_alias,
+    verify_many,
+    verify_one,
+)
 
 __all__ = ["COLUMNS", "DECIMALS", "DEFAULT_PRECISION", "MAX_PRECISION", "MIN_PRECISION",
            "check_precision", "design", "designs", "fast_solve", "from_fast", "label",

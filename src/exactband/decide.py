@@ -15,8 +15,8 @@ import secrets
 from dataclasses import dataclass
 
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .numtext import number_text
 from .errors import ExactbandError, invalid
+from .numtext import number_text
 from .words import gamma_text, side_words
 
 MODES = ("randomised", "conservative")

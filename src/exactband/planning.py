@@ -43,12 +43,21 @@ import numpy as np
 
 from . import kinds as K
 from .api import design as make_design
-from .numtext import number_text
 from .errors import ExactbandError, VerificationError
 from .families.base import as_real
-from .oc import (DEFAULT_RANDOM_DIGITS, PlanningError, _error, check_random_digits, check_rule,
-                 operating_characteristics, parse_number_list, power_sheet, rule_designs)
 from .ngrid import NGrid, first_k
+from .numtext import number_text
+from .oc import (
+    DEFAULT_RANDOM_DIGITS,
+    PlanningError,
+    _error,
+    check_random_digits,
+    check_rule,
+    operating_characteristics,
+    parse_number_list,
+    power_sheet,
+    rule_designs,
+)
 from .params import make_problem
 
 DEFAULT_N_MAX = 1e7

@@ -13,10 +13,9 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
-
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .numtext import number_text
 from .figfooter import add_footer
+from .numtext import number_text
 from .oc import _error, one_hypothesis, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")

@@ -25,9 +25,9 @@ import math
 from decimal import Decimal, InvalidOperation
 from pathlib import Path
 
-from .solving import DEFAULT_PRECISION, fast_solve, verify_one
 from .decide import DecideError
 from .errors import ExactbandError
+from .solving import DEFAULT_PRECISION, fast_solve, verify_one
 from .tablerow import TableRule, select_row, table_rule
 
 GAMMA_TOL = 1e-15

@@ -23,8 +23,7 @@ from ..fileio import atomic_write_bytes, safe_cell_text
 from . import text as T
 from .diagnosis import NONE
 from .policy import POLICY
-from .report_data import (COLUMNS, HEADERS, json_record, provenance, record, summary,
-                          worst_excess)
+from .report_data import COLUMNS, HEADERS, json_record, provenance, record, summary, worst_excess
 from .xlsx_report import xlsx_bytes
 
 CSV_NAME, XLSX_NAME, JSON_NAME = "audit-report.csv", "audit-report.xlsx", "audit-summary.json"

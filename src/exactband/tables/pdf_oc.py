@@ -16,9 +16,9 @@ from dataclasses import dataclass
 
 from reportlab.platypus import Flowable, NextPageTemplate, PageBreak
 
-from .tablewords import KIND_TITLE
 from .pdf_kit import Mark, para
 from .spec_oc import ROWS_PER_PAGE
+from .tablewords import KIND_TITLE
 from .texts import hypothesis_at
 
 LABEL_ROOM = 30.0  # pt below the last row of charts for the axis label
@@ -155,8 +155,13 @@ def merge_charts(spec, document: bytes, slots) -> bytes:
     if not slots:
         return document
     from pypdf import PdfReader, PdfWriter
-    from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject,
-                               NameObject)
+    from pypdf.generic import (
+        ArrayObject,
+        DecodedStreamObject,
+        DictionaryObject,
+        FloatObject,
+        NameObject,
+    )
 
     writer = PdfWriter(clone_from=PdfReader(io.BytesIO(document)))
     for k, slot in enumerate(slots, start=1):

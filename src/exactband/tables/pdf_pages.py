@@ -6,8 +6,7 @@ from __future__ import annotations
 
 from reportlab.lib import colors
 from reportlab.lib.units import mm
-from reportlab.platypus import (CondPageBreak, NextPageTemplate, PageBreak, Spacer, Table,
-                                TableStyle)
+from reportlab.platypus import CondPageBreak, NextPageTemplate, PageBreak, Spacer, Table, TableStyle
 
 from .pdf_kit import GREY, Mark, para
 from .pdf_oc import contents_rows as oc_contents_rows

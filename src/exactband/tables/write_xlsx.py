@@ -20,8 +20,18 @@ from ..fileio import safe_cell_text
 from ..xlsxzip import workbook_bytes
 from .write_csv import COLUMNS, csv_row
 from .xlsx_power import power_sheet
-from .xlsx_style import (BOLD, CENTER, FONT, MEDIUM, SHADE, THIN, WRAP, heading_rows,
-                         page_setup, text_lines)
+from .xlsx_style import (
+    BOLD,
+    CENTER,
+    FONT,
+    MEDIUM,
+    SHADE,
+    THIN,
+    WRAP,
+    heading_rows,
+    page_setup,
+    text_lines,
+)
 
 COVER_WIDTH = 78  # characters: fits A4 and Letter portrait unscaled (LibreOffice does not
 # scale a one-column sheet to the page width)
