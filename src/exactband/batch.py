@@ -12,7 +12,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import DesignError, VerificationError
+from .errors import DesignError, VerificationError, recast
 from .families import FAMILIES
 from .kinds import KINDS
 from .params import ALPHA_MAX, ALPHA_MIN, ALPHA_MIN_EQUIVALENCE, make_problem
@@ -95,7 +95,7 @@ def _explain(frame, pos):
         make_problem(row["family"], row["kind"], n=row["n"], alpha=row["alpha"], low=row["low"],
                      high=row["high"], value=row["value"], dispersion=row["dispersion"])
     except DesignError as e:
-        raise DesignError(f"row {frame.index[pos]}: {e}") from None
+        raise recast(e, DesignError, f"row {frame.index[pos]}: ") from None
     raise DesignError(f"row {frame.index[pos]}: invalid row: check its values")  # pragma: no cover
 
 
@@ -172,7 +172,7 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
         try:
             ds = verify_many(problems, sols, d, workers=workers)
         except VerificationError as e:
-            raise VerificationError(str(e)) from None
+            raise recast(e, VerificationError) from None
         c1 = np.array([np.nan if x.c1 is None else x.c1 for x in ds], dtype=float)
         g1 = np.array([np.nan if x.gamma1 is None else x.gamma1 for x in ds], dtype=float)
         c2 = np.array([np.nan if x.c2 is None else x.c2 for x in ds], dtype=float)

@@ -15,7 +15,7 @@ import secrets
 from dataclasses import dataclass
 
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .errors import ExactbandError, invalid
+from .errors import ExactbandError, invalid, recast
 from .numtext import number_text
 from .words import gamma_text, side_words
 
@@ -27,10 +27,6 @@ READ = "read by the inspector"
 
 class DecideError(ExactbandError, ValueError):
     """Unusable input to a field decision (one line)."""
-
-
-def _error(field, value, allowed) -> DecideError:
-    return DecideError(str(invalid(field, value, allowed)))
 
 
 @dataclass(frozen=True)
@@ -121,9 +117,9 @@ def check_count(design: Design, y) -> int:
     try:
         x = whole("y", y, allowed)
     except ExactbandError as e:
-        raise DecideError(str(e)) from None
+        raise recast(e, DecideError) from None
     if x < 0 or (top is not None and x > top):
-        raise _error("y", y, allowed)
+        raise invalid("y", y, allowed, DecideError)
     return x
 
 
@@ -131,12 +127,12 @@ def check_digits_text(digits, need: int | None) -> str:
     """Random digits as typed: ASCII digits only, exactly ``need`` of them when fixed."""
     s = str(digits).strip()
     if not s or not s.isascii() or not s.isdigit():
-        raise _error("digits-read", digits, "only the digits 0-9, e.g. 482")
+        raise invalid("digits-read", digits, "only the digits 0-9, e.g. 482", DecideError)
     if need is not None and len(s) != need:
-        raise _error("digits-read", digits, f"the rule reads exactly {need} random digits "
-                                            f"({len(s)} given)")
+        raise invalid("digits-read", digits, f"the rule reads exactly {need} random digits "
+                                             f"({len(s)} given)", DecideError)
     if len(s) > 9:
-        raise _error("digits-read", digits, "at most 9 random digits")
+        raise invalid("digits-read", digits, "at most 9 random digits", DecideError)
     return s
 
 
@@ -196,7 +192,8 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         warnings.warn("decide(digits=...) is deprecated; use digits_read=...",
                       DeprecationWarning, stacklevel=2)
         if digits_read is not None and digits_read != digits:
-            raise _error("digits", digits, "give digits_read only (digits is its old name)")
+            raise invalid("digits", digits, "give digits_read only (digits is its old name)",
+                          DecideError)
         digits_read = digits
     if not isinstance(design, Design):
         raise DecideError(f"invalid design = {type(design).__name__}: a Design from "
@@ -204,7 +201,7 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
     mode = rule.strip().lower() if isinstance(rule, str) else rule
     mode = MODE_ALIASES.get(mode, mode) if isinstance(mode, str) else mode
     if mode not in MODES:
-        raise _error("rule", rule, "randomised or conservative")
+        raise invalid("rule", rule, "randomised or conservative", DecideError)
     yy = check_count(design, y)
     need = None
     if random_digits is not None:
@@ -213,9 +210,9 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         try:
             need = whole("random-digits", random_digits, "a whole number from 1 to 9")
         except ExactbandError as e:
-            raise DecideError(str(e)) from None
+            raise recast(e, DecideError) from None
         if not 1 <= need <= 9:
-            raise _error("random-digits", random_digits, "a whole number from 1 to 9")
+            raise invalid("random-digits", random_digits, "a whole number from 1 to 9", DecideError)
     text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)
     notes = ()

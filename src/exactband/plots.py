@@ -14,9 +14,10 @@ import io
 from pathlib import Path
 
 from .design import DEFAULT_RANDOM_DIGITS, Design
+from .errors import invalid
 from .figfooter import add_footer
 from .numtext import number_text
-from .oc import _error, one_hypothesis, operating_characteristics, rule_label
+from .oc import PlanningError, one_hypothesis, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
 PAGE_INCHES = {"A4": (8.27, 11.69), "Letter": (8.5, 11.0)}
@@ -46,9 +47,9 @@ def check_plot_path(path) -> Path:
     p = Path(str(path))
     ext = p.suffix.lower().lstrip(".")
     if ext not in FORMATS:
-        raise _error("plot", str(path), "the file name must end in .png or .svg")
+        raise invalid("plot", str(path), "the file name must end in .png or .svg", PlanningError)
     if p.exists() and p.is_dir():
-        raise _error("plot", str(path), "a file name is required, not a folder")
+        raise invalid("plot", str(path), "a file name is required, not a folder", PlanningError)
     return p
 
 
@@ -61,7 +62,7 @@ def figure_bytes(fig, fmt: str, dpi: int = 150) -> bytes:
             "pdf": {"CreationDate": None, "ModDate": None, "Producer": None,
                     "Creator": None}}.get(fmt)
     if meta is None:
-        raise _error("format", fmt, "png, svg or pdf")
+        raise invalid("format", fmt, "png, svg or pdf", PlanningError)
     buf = io.BytesIO()
     with matplotlib.rc_context({"svg.hashsalt": "exactband", "svg.fonttype": "none"}):
         fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta)
@@ -169,7 +170,7 @@ def _alpha_line(ax, alpha, curve="power"):
 
 def _curve_col(curve: str) -> str:
     if curve not in ("power", "oc"):
-        raise _error("curve", curve, "power or oc")
+        raise invalid("curve", curve, "power or oc", PlanningError)
     return "power" if curve == "power" else "oc"
 
 
@@ -309,9 +310,9 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
     rules = tuple({"randomized": "randomised"}.get(r, r) for r in rules)  # accepted spelling
     for r in rules:
         if r not in STYLE:
-            raise _error("rules", r, "randomised, conservative, digits")
+            raise invalid("rules", r, "randomised, conservative, digits", PlanningError)
     if paper not in PAGE_INCHES:
-        raise _error("paper", paper, "A4 or Letter")
+        raise invalid("paper", paper, "A4 or Letter", PlanningError)
     from .oc import shared_thetas
 
     theta = shared_thetas(designs, points)  # one x-range for every row of charts

@@ -36,6 +36,7 @@ class Verdict:
     verdict: str  # "ok", "finding" or "invalid"
     reasons: list = field(default_factory=list)
     details: list = field(default_factory=list)
+    error_field: str | None = None  # invalid row: the input its error names (e.g. "alpha")
     ours: tuple | None = None  # (c1, g1, c2, g2) floats
     ours_text: tuple | None = None  # (c1, "g1 decimal", c2, "g2 decimal")
     gamma_error: tuple = (None, None)  # their gamma - ours (float), where the cutoff agrees
@@ -95,7 +96,8 @@ def _allowance(decimals) -> float:
 def judge_row(row, rec: Recomputed, modes) -> Verdict:
     """The verdict of one row (diagnosis left for diagnose_row)."""
     if row.error is not None:
-        return Verdict(row, "invalid", ["invalid"], [row.error])
+        return Verdict(row, "invalid", ["invalid"], [row.error],
+                       error_field=row.error_field)
     if rec.error is not None:
         return Verdict(row, "invalid", ["invalid"], [rec.error])
     p, theirs = row.problem, row.theirs

@@ -11,8 +11,6 @@ deterministic (``xlsxzip.workbook_bytes``: fixed document dates and zip entries)
 
 from __future__ import annotations
 
-import re
-
 from ..xlsxzip import workbook_bytes
 from . import text as T
 from .policy import POLICY
@@ -141,12 +139,11 @@ def _lines(rec) -> int:
 def _wrong_cells(v, rec) -> set:
     """Report columns that hold the numbers behind a finding (highlighted cell by cell)."""
     out = set()
-    if v.verdict == "invalid":  # the field the reason names, e.g. "invalid alpha: ..."
-        m = re.match(r"invalid (\w+)", v.details[0] if v.details else "")
-        if m and m.group(1) in rec:
-            out.add(m.group(1))
-        elif m and f"their_{m.group(1)}" in rec:
-            out.add(f"their_{m.group(1)}")
+    if v.verdict == "invalid":  # the input the row's error names (Verdict.error_field)
+        if v.error_field in rec:
+            out.add(v.error_field)
+        elif f"their_{v.error_field}" in rec:
+            out.add(f"their_{v.error_field}")
         return out
     if v.verdict != "finding":
         return out

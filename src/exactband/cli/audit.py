@@ -66,13 +66,13 @@ def add_parser(sub) -> None:
 
 def _int(name, text, lo):
     from ..audit import AuditInputError
-    from ..errors import ExactbandError
+    from ..errors import ExactbandError, recast
     from ..strict import whole
 
     try:
         v = whole(f"--{name}", text, f"a whole number >= {lo}")
     except ExactbandError as e:
-        raise AuditInputError(str(e)) from None
+        raise recast(e, AuditInputError) from None
     if v < lo:
         raise AuditInputError(f"invalid --{name} = {text!r}: a whole number >= {lo}")
     return v

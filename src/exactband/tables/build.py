@@ -16,7 +16,7 @@ from dataclasses import dataclass
 
 from .. import solving
 from ..design import Design
-from ..errors import DesignError, VerificationError
+from ..errors import DesignError, VerificationError, recast
 from ..rulesizes import sizes_with_gammas
 from . import grid, oc_build
 from .cache import CacheMismatch, VerifyCache
@@ -98,8 +98,8 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
         raise
     except DesignError as e:  # e.g. a law too spread out for the high-precision tables
         cache.clear()
-        raise SpecError(f"{spec.where or spec.source}: a design of the grid cannot be "
-                        f"verified: {e}") from None
+        raise recast(e, SpecError, f"{spec.where or spec.source}: a design of the grid "
+                     "cannot be verified: ") from None
     designs = [done[i] for i in range(len(problems))]
     rows = derive_all(designs, spec)
     return TableSet(spec, rows, summarise(designs, spec.precision),
