@@ -76,7 +76,7 @@ def _on_page(title: str):
 
 
 def _build(tset, sections, blocks, provenance, pages, draft=False) -> tuple:
-    """The document's bytes and the chart slots of its OC pages (pdf_oc.Slot)."""
+    """(the document's bytes, the OC chart slots to fill); ``pages`` collects where things land."""
     spec = tset.spec
     geo = Geometry(spec.paper)
     buf = io.BytesIO()
