@@ -65,7 +65,8 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
     (39, 76)
     """
     if not isinstance(verify, (bool, np.bool_)):
-        raise DesignError(f"invalid verify = {verify!r}: True or False")
+        raise DesignError(f"invalid verify = {verify!r}: True or False", field="verify",
+                          value=verify, allowed="True or False")
     p = make_problem(family, kind, n=n, alpha=alpha, low=low, high=high, value=value,
                      dispersion=dispersion)
     precision = precision_alias(precision, digits)

@@ -116,17 +116,19 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
 
     if not isinstance(frame, pd.DataFrame):
         raise DesignError(f"invalid frame = {type(frame).__name__}: a pandas DataFrame with "
-                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))")
+                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))",
+                          field="frame", value=type(frame).__name__)
     missing = [c for c in ("family", "kind", "n", "alpha") if c not in frame.columns]
     if missing:
         raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
-                          f"expected columns {', '.join(COLUMNS)}")
+                          f"expected columns {', '.join(COLUMNS)}", field="frame")
     import numbers
 
     from .parallel import check_workers
 
     if not isinstance(verify, (bool, numbers.Integral)):
-        raise DesignError(f"invalid verify = {verify!r}: True or False")
+        raise DesignError(f"invalid verify = {verify!r}: True or False", field="verify",
+                          value=verify, allowed="True or False")
     check_workers(workers)
     precision = precision_alias(precision, digits, "designs")
     d = check_precision(DEFAULT_PRECISION if precision is None else precision)

@@ -197,7 +197,9 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         digits_read = digits
     if not isinstance(design, Design):
         raise DecideError(f"invalid design = {type(design).__name__}: a Design from "
-                          "exactband.design() or a table row")
+                          "exactband.design() or a table row", field="design",
+                          value=type(design).__name__,
+                          allowed="a Design from exactband.design() or a table row")
     mode = rule.strip().lower() if isinstance(rule, str) else rule
     mode = MODE_ALIASES.get(mode, mode) if isinstance(mode, str) else mode
     if mode not in MODES:

@@ -117,7 +117,8 @@ class Design:
         try:
             t = np.asarray(theta, dtype=float)
         except (TypeError, ValueError):
-            raise DesignError(f"invalid theta = {theta!r}: numbers are required") from None
+            raise DesignError(f"invalid theta = {theta!r}: numbers are required", field="theta",
+                              value=theta, allowed="numbers are required") from None
         flat = np.atleast_1d(t).ravel()
         bad = ~fam.theta_ok_array(flat)
         if np.any(bad):
@@ -201,7 +202,9 @@ class Design:
 
         key = ALIASES.get(rule, rule)
         if key not in RULE_NAMES:
-            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits")
+            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits",
+                              field="rule", value=rule,
+                              allowed="randomised, conservative or digits")
         if key == "digits" and random_digits is None:
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
@@ -248,5 +251,6 @@ def _random_digits(d) -> int:
     if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
         from .errors import show
 
-        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
+        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9",
+                          field="random_digits", value=d, allowed="a whole number from 1 to 9")
     return int(d)

@@ -40,7 +40,7 @@ def one_hypothesis(designs, why: str) -> list:
     keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
     if len(keys) != 1:
         raise PlanningError(f"invalid designs: {why}; these differ in family, kind or "
-                            "hypothesis values")
+                            "hypothesis values", field="designs")
     return designs
 
 

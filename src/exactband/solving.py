@@ -46,7 +46,8 @@ def precision_alias(precision, digits, where: str = "design"):
                   stacklevel=3)
     if precision is not None and precision != digits:
         raise DesignError(f"invalid digits = {digits}: give precision only "
-                          f"(precision = {precision} was given too)")
+                          f"(precision = {precision} was given too)", field="digits",
+                          value=digits, allowed="give precision only")
     return digits
 
 
@@ -112,7 +113,8 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
     except TableTooLarge as e:
         raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
                           f"high-precision check at {precision} digits ({e}); use a smaller "
-                          "n, a lower precision, or the unverified fast path") from None
+                          "n, a lower precision, or the unverified fast path", field="n",
+                          value=p.n) from None
     cc = compare(p.kind.name, p.alpha, sol, pd, precision)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")

@@ -124,7 +124,8 @@ def select_row(path, row=None, **filters) -> tuple:
     hits = [i for i, r in enumerate(rows) if _matches(r, given)]
     desc = ", ".join(f"{k}={v}" for k, v in given.items())
     if not hits:
-        raise DecideError(f"invalid table = {path}: no row matches {desc}")
+        raise DecideError(f"invalid table = {path}: no row matches {desc}", field="table",
+                          value=path)
     if len(hits) > 1:
         raise DecideError(f"invalid table = {path}: {len(hits)} rows match {desc} "
                           f"(rows {', '.join(str(i + 1) for i in hits[:8])}); add options or --row")

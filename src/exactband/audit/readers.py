@@ -198,10 +198,12 @@ def _check_csv_options(delimiter, encoding) -> str:
         text_codec = False
     if not text_codec:
         raise AuditInputError(f"invalid --encoding = {encoding!r}: not a text encoding; "
-                              "e.g. utf-8, cp1252, latin-1")
+                              "e.g. utf-8, cp1252, latin-1", field="--encoding", value=encoding,
+                              allowed="a text encoding, e.g. utf-8, cp1252, latin-1")
     if delimiter is not None and (len(delimiter) != 1 or delimiter in "\"\r\n"):
         raise AuditInputError(f"invalid --delimiter = {delimiter!r}: one character such as , ; "
-                              "or a tab")
+                              "or a tab", field="--delimiter", value=delimiter,
+                              allowed="one character such as , ; or a tab")
     return "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
 
 

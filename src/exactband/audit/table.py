@@ -90,10 +90,12 @@ def open_table(path, opts: Options):
     p = Path(path)
     mark = opts.decimal_mark
     if mark is not None and mark not in (".", ","):
-        raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','")
+        raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','",
+                              field="--decimal-mark", value=mark, allowed="'.' or ','")
     if opts.gamma_rounding is not None and opts.gamma_rounding not in MODES:
         raise AuditInputError(f"invalid --gamma-rounding = {opts.gamma_rounding!r}: "
-                              + " or ".join(MODES))
+                              + " or ".join(MODES), field="--gamma-rounding",
+                              value=opts.gamma_rounding, allowed=" or ".join(MODES))
     src = open_source(p, sheet=opts.sheet, delimiter=opts.delimiter, encoding=opts.encoding,
                       max_rows=opts.max_rows)
     header = src.header

@@ -222,7 +222,8 @@ def read_xlsx(p: Path, sheet) -> Source:
         found = [s for s in sheets if s[0] == sheet]
         if not found:
             raise AuditInputError(f"invalid --sheet = {sheet!r}: sheets are "
-                                  + ", ".join(repr(s[0]) for s in sheets))
+                                  + ", ".join(repr(s[0]) for s in sheets), field="--sheet",
+                                  value=sheet, allowed=", ".join(repr(s[0]) for s in sheets))
         title, part = found[0]
     strings = book.shared_strings()
     dim = []

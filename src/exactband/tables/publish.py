@@ -56,14 +56,17 @@ def set_files(name: str) -> tuple:
 
 def check_out_dir(out) -> Path:
     if str(out).strip() == "":
-        raise SpecError(f"invalid --out = {out!r}: a folder name is required")
+        raise SpecError(f"invalid --out = {out!r}: a folder name is required", field="--out",
+                        value=out, allowed="a folder name is required")
     p = Path(out)
     if p.exists() and not p.is_dir():
-        raise SpecError(f"invalid --out = {out}: it exists and is not a folder")
+        raise SpecError(f"invalid --out = {out}: it exists and is not a folder", field="--out",
+                        value=out)
     for parent in p.absolute().parents:
         if parent.exists():
             if not parent.is_dir():
-                raise SpecError(f"invalid --out = {out}: {parent} is not a folder")
+                raise SpecError(f"invalid --out = {out}: {parent} is not a folder",
+                                field="--out", value=out)
             break
     return p
 
