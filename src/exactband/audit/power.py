@@ -54,35 +54,24 @@ def _side(p: Problem, b: float, direction: int, stop: float | None):
 
 def alternative_grid(p: Problem):
     """(thetas, pieces): grid over the alternative of the problem's kind."""
-    kind = p.kind.name
-    if kind in ("band",):
-        ts = [_side(p, p.low, -1, None), _side(p, p.high, +1, None)]
-    elif kind == "point":
-        ts = [_side(p, p.value, -1, None), _side(p, p.value, +1, None)]
-    elif kind == "upper":
-        ts = [_side(p, p.value, +1, None)]
-    elif kind == "lower":
-        ts = [_side(p, p.value, -1, None)]
-    else:  # equivalence: the alternative is low < theta < high
-        w = p.high - p.low
-        ts = [_side(p, p.low, +1, w), _side(p, p.high, -1, w), np.linspace(p.low, p.high, 41)[1:-1]]
+    kind, lo, hi = p.kind, p.points[0], p.points[-1]
+    ts = []
+    for side in kind.sides:
+        if side == "below":
+            ts.append(_side(p, lo, -1, None))
+        elif side == "above":
+            ts.append(_side(p, hi, +1, None))
+        else:  # inside: the alternative is low < theta < high
+            w = hi - lo
+            ts += [_side(p, lo, +1, w), _side(p, hi, -1, w), np.linspace(lo, hi, 41)[1:-1]]
     t = _valid(p, np.concatenate(ts))
-    if kind == "equivalence":
-        t = t[(t > p.low) & (t < p.high)]
-    elif kind == "band":
-        t = t[(t < p.low) | (t > p.high)]
-    elif kind == "point":
-        t = t[t != p.value]
-    elif kind == "upper":
-        t = t[t > p.value]
-    else:
-        t = t[t < p.value]
+    t = t[~kind.in_null(t, p.low, p.high, p.value)]
     return np.unique(t)
 
 
 def lowest_power(p: Problem, rule: tuple) -> tuple[float | None, float | None]:
     """(theta, power) where the rule's power is lowest in the alternative."""
-    d = Design(p, *rule, ())
+    d = Design(p, *p.kind.canonical(*rule), ())  # a printed gamma of 1: the neighbour
     t = alternative_grid(p)
     if t.size == 0:
         return None, None
@@ -101,16 +90,7 @@ def lowest_power(p: Problem, rule: tuple) -> tuple[float | None, float | None]:
 
 def _crosses_null(p: Problem, lo: float, hi: float) -> bool:
     """Whether [lo, hi] holds a point of the null (refinement must stay outside it)."""
-    k = p.kind.name
-    if k == "band":
-        return lo <= p.high and hi >= p.low
-    if k == "point":
-        return lo <= p.value <= hi
-    if k == "upper":
-        return lo <= p.value
-    if k == "lower":
-        return hi >= p.value
-    return lo <= p.low or hi >= p.high  # equivalence: the null lies outside (low, high)
+    return p.kind.crosses_null(lo, hi, p.low, p.high, p.value)
 
 
 def slack_at(p: Problem, rule: tuple, tol: tuple, theta: float) -> float:

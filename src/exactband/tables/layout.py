@@ -27,8 +27,7 @@ from ..kinds import KINDS
 from .grid import sections
 from .spec import TWO_POINT
 
-KIND_TITLE = {"band": "Band test", "point": "Point test", "upper": "Upper test",
-              "lower": "Lower test", "equivalence": "Equivalence test"}
+KIND_TITLE = {name: k.title for name, k in KINDS.items()}  # e.g. "Band test"
 
 
 @dataclass(frozen=True)
