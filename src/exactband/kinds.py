@@ -31,6 +31,7 @@ import numpy as np
 ALPHA_MIN = 1e-100  # smallest alpha of a design
 ALPHA_MIN_EQUIVALENCE = 1e-12  # equivalence: solved as 1 - (a band of size 1 - alpha)
 
+
 @dataclass(frozen=True)
 class Kind:
     name: str

@@ -14,7 +14,6 @@ import io
 import math
 from pathlib import Path
 
-
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .figfooter import add_footer
 from .oc import _error, one_hypothesis, operating_characteristics, rule_label
