@@ -28,7 +28,6 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import mpmath as mp
-import numpy as np
 
 from . import kinds as K
 from .rule import phi_distance

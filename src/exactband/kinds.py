@@ -149,11 +149,12 @@ class Kind:
         return any(a <= hi and b >= lo for a, b in self.null_pieces(low, high, value))
 
     # -- the canonical form ------------------------------------------------------
-    def canonical(self, c1, g1, c2, g2):
+    def canonical(self, c1, g1, c2, g2, zero=0.0):
         """(c, gamma >= 1) written as the neighbouring cutoff with gamma 0 (``step``).
 
         The one place that knows which neighbour.  Works on numbers (an unused or
-        non-randomised cutoff has gamma None) and elementwise on numpy arrays.
+        non-randomised cutoff has gamma None; ``zero`` is the 0 written, e.g. an
+        mpmath zero) and elementwise on numpy arrays.
         """
         s1, s2 = self.step
         if isinstance(g1, np.ndarray) or isinstance(g2, np.ndarray):
@@ -165,9 +166,9 @@ class Kind:
                     out[i + 1] = np.where(hit, 0.0, out[i + 1])
             return tuple(out)
         if s1 is not None and g1 is not None and g1 >= 1:
-            c1, g1 = c1 + s1, 0.0
+            c1, g1 = c1 + s1, zero
         if s2 is not None and g2 is not None and g2 >= 1:
-            c2, g2 = c2 + s2, 0.0
+            c2, g2 = c2 + s2, zero
         return c1, g1, c2, g2
 
     # -- words -------------------------------------------------------------------
