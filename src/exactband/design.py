@@ -20,6 +20,19 @@ from .rule import DEFAULT_RANDOM_DIGITS, Rule
 __all__ = ["DEFAULT_RANDOM_DIGITS", "Design", "Rule"]
 
 
+def power_at(problem: Problem, cut: tuple, thetas) -> np.ndarray:
+    """E_theta phi(Y) at an array of valid thetas for a rule's (c1, g1, c2, g2) (float law).
+
+    ``cut`` as ``Rule.filled`` gives it (an absent cutoff nan, an absent gamma 0); a
+    printed (c, gamma = 1) is evaluated as printed.
+    """
+    L = problem.family.float_law
+    P = L.make(thetas, problem.n, problem.dispersion)
+    out = problem.kind.expectation(*cut, lambda c: L.cdf(c, P), lambda c: L.sf(c, P),
+                                   lambda c: L.pmf(c, P))
+    return np.clip(np.broadcast_to(out, thetas.shape).astype(float), 0.0, 1.0)
+
+
 def _num(x) -> str:
     """Short, exact-looking text for a user number (25.0 -> '25')."""
     if x is None:
@@ -162,11 +175,7 @@ class Design:
         bad = ~fam.theta_ok_array(flat)
         if np.any(bad):
             fam.check_theta("theta", float(flat[bad][0]))  # raises the one-line message
-        L = fam.float_law
-        P = L.make(flat, self.n, self.dispersion)
-        out = self.rule.expectation(lambda c: L.cdf(c, P), lambda c: L.sf(c, P),
-                                    lambda c: L.pmf(c, P))
-        out = np.clip(np.broadcast_to(out, flat.shape).astype(float), 0.0, 1.0).reshape(t.shape)
+        out = power_at(self.problem, self.rule.filled(), flat).reshape(t.shape)
         return float(out) if out.ndim == 0 else out
 
     def oc(self, theta):

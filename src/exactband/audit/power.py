@@ -15,7 +15,7 @@ import math
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from ..design import Design
+from ..design import power_at
 from ..params import Problem
 
 _U = np.logspace(-9, 0, 90, endpoint=False)  # relative steps towards a far limit
@@ -71,17 +71,23 @@ def alternative_grid(p: Problem):
 
 def lowest_power(p: Problem, rule: tuple) -> tuple[float | None, float | None]:
     """(theta, power) where the rule's power is lowest in the alternative."""
-    d = Design(p, *p.kind.canonical(*rule), ())  # a printed gamma of 1: the neighbour
+    cut = tuple(float("nan") if x is None else x for x in rule[0::2])
+    c1, c2 = cut
+    g1, g2 = (0.0 if x is None else x for x in rule[1::2])
+
+    def power(theta):  # the rule as printed (a gamma of 1 included)
+        return power_at(p, (c1, g1, c2, g2), np.atleast_1d(np.asarray(theta, dtype=float)))
+
     t = alternative_grid(p)
     if t.size == 0:
         return None, None
-    pw = np.asarray(d.power(t), dtype=float)
+    pw = power(t)
     i = int(np.argmin(pw))
     best_t, best_p = float(t[i]), float(pw[i])
     lo = t[i - 1] if i > 0 else t[i]
     hi = t[i + 1] if i + 1 < t.size else t[i]
     if hi > lo and not _crosses_null(p, lo, hi):
-        res = minimize_scalar(lambda x: float(d.power(x)), bounds=(lo, hi), method="bounded",
+        res = minimize_scalar(lambda x: float(power(x)[0]), bounds=(lo, hi), method="bounded",
                               options={"xatol": (hi - lo) * 1e-6})
         if res.success and res.fun < best_p and lo <= res.x <= hi:
             best_t, best_p = float(res.x), float(res.fun)
