@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import math
 import re
+from decimal import Decimal
 from pathlib import Path
 
 import numpy as np
@@ -160,3 +161,51 @@ def test_branch_count_sees_a_branch():
 def test_nobody_else_branches_on_a_kind_name():
     found = kind_branches()
     assert len(found) <= MAX_BRANCHES, "\n".join(found)
+
+
+def test_round_cutoffs_direction():
+    assert [str(x) for x in KINDS["band"].round_cutoffs(1.23456, 2.34561, 2)] == ["1.23", "2.35"]
+    assert [str(x) for x in KINDS["equivalence"].round_cutoffs(1.23456, 2.34561, 2)] == \
+        ["1.24", "2.34"]
+    assert KINDS["upper"].round_cutoffs(None, 2.341, 1) == (None, Decimal("2.4"))
+    assert KINDS["lower"].round_cutoffs(-2.341, None, 1) == (Decimal("-2.4"), None)
+    assert KINDS["band"].round_cutoffs(1.5, 2.5, 3) == (Decimal("1.500"), Decimal("2.500"))
+
+
+@pytest.mark.parametrize("name", list(KINDS))
+def test_rounded_real_cutoffs_keep_the_size_of_a_normal_mean(name):
+    """Mean of 16 normal observations, sigma 1 (sd of the mean 0.25); exact real cutoffs of
+    size 0.05 from scipy.stats.norm quantiles; printed with 2 decimals in ``rounding`` the
+    size at every constraint point stays at most 0.05 (and the other way it exceeds it)."""
+    k, sd, a = KINDS[name], 0.25, 0.05
+    norm = stats.norm  # scipy.stats.norm: normal cdf and quantiles
+
+    def size(c1, c2, theta):
+        c1 = -math.inf if c1 is None else float(c1)
+        c2 = math.inf if c2 is None else float(c2)
+        if k.rejects_inside:
+            return norm.cdf(c2, theta, sd) - norm.cdf(c1, theta, sd)
+        return norm.cdf(c1, theta, sd) + norm.sf(c2, theta, sd)
+
+    if name == "upper":
+        exact, thetas = (None, norm.isf(a, 0, sd)), (0.0,)
+    elif name == "lower":
+        exact, thetas = (norm.ppf(a, 0, sd), None), (0.0,)
+    elif name == "point":
+        exact, thetas = (norm.ppf(a / 2, 0, sd), norm.isf(a / 2, 0, sd)), (0.0,)
+    else:  # band / equivalence around (-0.1, 0.1), cutoffs solved with scipy.optimize.brentq
+        from scipy.optimize import brentq
+
+        lo, hi = -0.1, 0.1
+        if name == "band":  # symmetric tails: c1 = -c, c2 = c with size a at the ends
+            c = brentq(lambda c: norm.cdf(-c, hi, sd) + norm.sf(c, hi, sd) - a, 0.0, 5.0)
+        else:  # the middle (-c, c) has probability a at the ends
+            c = brentq(lambda c: norm.cdf(c, hi, sd) - norm.cdf(-c, hi, sd) - a, 0.0, 1.0)
+        exact, thetas = (-c, c), (lo, hi)
+    for t in thetas:
+        assert size(*exact, t) == pytest.approx(a, rel=1e-9)
+    safe = k.round_cutoffs(*exact, 2)
+    unsafe = tuple(None if c is None else 2 * Decimal(repr(float(c))) - s
+                   for c, s in zip(exact, safe))  # the mirror image: the other way
+    assert all(size(*safe, t) <= a for t in thetas)
+    assert any(size(*unsafe, t) > a for t in thetas)

@@ -171,6 +171,24 @@ class Kind:
             c2, g2 = c2 + s2, zero
         return c1, g1, c2, g2
 
+    def round_cutoffs(self, c1, c2, decimals: int) -> tuple:
+        """Real cutoffs rounded to ``decimals`` places the way that never raises the size.
+
+        Returns Decimals (None for a cutoff not given), rounded in ``rounding``: c1
+        down and c2 up for band and point, c1 up and c2 down for equivalence.
+        """
+        from decimal import ROUND_CEILING, ROUND_FLOOR, Decimal
+
+        q = Decimal(1).scaleb(-int(decimals))
+        out = []
+        for c, r in zip((c1, c2), self.rounding):
+            if c is None or r is None:
+                out.append(None)
+                continue
+            x = c if isinstance(c, Decimal) else Decimal(repr(float(c)))
+            out.append(x.quantize(q, rounding=ROUND_CEILING if r > 0 else ROUND_FLOOR))
+        return tuple(out)
+
     # -- words -------------------------------------------------------------------
     def rejection_side(self, y, c1, c2) -> str | None:
         """Side of H0 a rejection at the observed total y points to (None: y between c1 and c2).

@@ -34,7 +34,7 @@ class Problem:
     @property
     def points(self) -> tuple:
         """The constraint points: (value,) or (low, high)."""
-        return (self.value,) if self.kind.takes == ("value",) else (self.low, self.high)
+        return self.kind.points(self.low, self.high, self.value)
 
     def inputs(self) -> dict:
         return {
