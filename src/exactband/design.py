@@ -78,11 +78,9 @@ class Design:
             rule = Rule(problem.kind, c1, gamma1, c2, gamma2)
         elif rule.kind != problem.kind:
             raise DesignError(f"invalid rule = {rule!r}: a {problem.kind.name} rule is required")
-        for name, value in (("problem", problem), ("rule", rule), ("sizes", sizes),
-                            ("verified", verified), ("precision", precision),
-                            ("gamma1_decimal", gamma1_decimal),
-                            ("gamma2_decimal", gamma2_decimal), ("check", check)):
-            object.__setattr__(self, name, value)
+        self.__dict__.update(problem=problem, rule=rule, sizes=sizes, verified=verified,
+                             precision=precision, gamma1_decimal=gamma1_decimal,
+                             gamma2_decimal=gamma2_decimal, check=check)  # frozen: no setattr
 
     @property
     def c1(self):

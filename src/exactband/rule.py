@@ -86,10 +86,14 @@ class Rule:
     gamma2: object = None
 
     def __post_init__(self):
-        kind = self.kind if isinstance(self.kind, Kind) else get_kind(self.kind)
-        object.__setattr__(self, "kind", kind)
-        for i, used in ((1, kind.uses_c1), (2, kind.uses_c2)):
-            c, g = getattr(self, f"c{i}"), getattr(self, f"gamma{i}")
+        kind = self.kind
+        if not isinstance(kind, Kind):
+            kind = get_kind(kind)
+            object.__setattr__(self, "kind", kind)
+        for i, used, c, g in ((1, kind.uses_c1, self.c1, self.gamma1),
+                              (2, kind.uses_c2, self.c2, self.gamma2)):
+            if used and type(c) is int and (g is None or type(g) is float and 0.0 <= g < 1.0):
+                continue  # the common case, checked without the general path
             if not used:
                 if not _missing(c) or not _missing(g):
                     name = f"c{i}" if not _missing(c) else f"gamma{i}"
