@@ -34,7 +34,8 @@ DEFAULT_RANDOM_DIGITS = 3  # random digits of the field rule: decide, tables, po
 def check_random_digits(d) -> int:
     """Number of random digits of a field rule: a whole number from 1 to 9."""
     if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
-        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
+        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9",
+                          field="random_digits", value=d, allowed="a whole number from 1 to 9")
     return int(d)
 
 
