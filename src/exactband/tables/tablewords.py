@@ -9,8 +9,9 @@ from __future__ import annotations
 
 from decimal import Decimal
 
-KIND_TITLE = {"band": "Band test", "point": "Point test", "upper": "Upper test",
-              "lower": "Lower test", "equivalence": "Equivalence test"}
+from ..kinds import KINDS
+
+KIND_TITLE = {name: k.title for name, k in KINDS.items()}  # e.g. "Band test" (Kind.title)
 
 # The words the printed tables use for each family's parameter and sample size:
 # (symbol in formulas, what it is, what n is).
