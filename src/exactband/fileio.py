@@ -40,7 +40,7 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         with os.fdopen(fd, mode, **kwargs) as fh:
             yield fh
             fh.flush()
-            os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give a normal file's mode
+            os.chmod(tmp, file_mode())  # mkstemp makes 0600; give a normal file's mode
             os.fsync(fh.fileno())
         try:
             os.replace(tmp, path)
@@ -53,10 +53,13 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         raise
 
 
-def _umask() -> int:
-    mask = os.umask(0)
+def file_mode() -> int:
+    """Permissions of an ordinary new file under the current umask (0o666 less the mask).
+
+    The umask can only be read by setting it; it is set back at once."""
+    mask = os.umask(0o022)
     os.umask(mask)
-    return mask
+    return 0o666 & ~mask
 
 
 def fsync_dir(folder: Path) -> None:
@@ -81,8 +84,8 @@ def safe_cell_text(text) -> str:
     """User text for a spreadsheet/CSV cell that can never be read as a formula.
 
     Text starting with = + - @ (or a tab / carriage return) gets a leading
-    apostrophe-free guard: a single quote character is prefixed, the common
-    practice of spreadsheet tools for literal text.
+    apostrophe (a single quote character is prefixed), the common practice of
+    spreadsheet tools for literal text.
     """
     s = "" if text is None else str(text)
     return "'" + s if s.startswith(_FORMULA_START) else s

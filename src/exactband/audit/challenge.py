@@ -17,10 +17,10 @@ import io
 import random
 
 from ..fileio import safe_cell_text
+from ..kinds import KINDS  # every kind, in their order: upper, lower, point, band, equivalence
 from .columns import STANDARD
 
 FAMILIES = ("poisson", "binomial", "negative-binomial")
-KINDS = ("upper", "lower", "point", "band", "equivalence")
 HEADER = ("id", "regime") + STANDARD
 WIDTHS = {"id": 7, "regime": 18, "family": 17, "kind": 11, "n": 9, "alpha": 8, "low": 11,
           "high": 11, "value": 11, "dispersion": 10, "c1": 8, "gamma1": 14, "c2": 8, "gamma2": 14}
@@ -55,7 +55,7 @@ class _Grid:
         """One design around theta; two-point kinds get [theta, theta * (1 + width)]."""
         row = {"regime": regime, "family": family, "kind": kind, "n": n, "alpha": alpha,
                "dispersion": k if family == "negative-binomial" else None}
-        if kind in ("band", "equivalence"):
+        if KINDS[kind].two_point:
             hi = theta * (1 + width) if family != "binomial" else theta + width * min(theta, 1 - theta)
             lo, hi = _sig(theta, 8), _sig(hi, 8)
             if not lo < hi:
@@ -77,7 +77,7 @@ def grid(seed: int = 0) -> list:
     for family in FAMILIES:
         k = 2.0 if family == "negative-binomial" else None
         for kind in KINDS:
-            wide = 0.5 if kind in ("band", "equivalence") else None
+            wide = 0.5 if KINDS[kind].two_point else None
             # small counts: a handful of expected events
             n = _n(family, g, 5, 20)
             g.add("small counts", family, kind, n, 0.05, g.jitter(2.5 / n), wide, k)
@@ -90,14 +90,14 @@ def grid(seed: int = 0) -> list:
             g.add("large n", family, kind, n, 0.01, g.jitter(5000 / n),
                   0.05 if wide else None, 0.5 if k else None)
             # narrow bands: the two side conditions nearly coincide
-            if kind in ("band", "equivalence"):
+            if KINDS[kind].two_point:
                 for width in (1e-2, 1e-4, 1e-6):
                     n = _n(family, g, 50, 400)
                     g.add(f"narrow band {width:g}", family, kind, n, 0.05, g.jitter(100 / n),
                           width, k)
         if family == "binomial":
             for kind in KINDS:
-                wide = 0.5 if kind in ("band", "equivalence") else None
+                wide = 0.5 if KINDS[kind].two_point else None
                 g.add("p near 0", family, kind, 5000, 0.05, g.jitter(2e-4), wide)
                 g.add("p near 1", family, kind, 500, 0.05, _sig(1 - g.jitter(1e-3), 6), wide)
     for i, row in enumerate(g.rows, start=1):
@@ -128,7 +128,8 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     from openpyxl.utils import get_column_letter
 
     from .. import __version__
-    from .xlsx_report import CAUTION, _deterministic, print_setup
+    from ..xlsxzip import workbook_bytes
+    from .xlsx_report import CAUTION, print_setup
 
     wb = Workbook()
     ws = wb.active
@@ -160,6 +161,4 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     info.column_dimensions["A"].width = 100
     print_setup(info, pages_wide=1)
     info.page_setup.orientation = "portrait"
-    buf = io.BytesIO()
-    wb.save(buf)
-    return _deterministic(buf.getvalue())
+    return workbook_bytes(wb)
