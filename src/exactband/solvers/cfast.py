@@ -236,15 +236,15 @@ def _root(fn, lo: float, hi: float, noise: float = 0.0) -> float:
 
 
 def expectation(law, kind, c1, c2, theta):
-    """E_theta phi(Y) for real cutoffs (vectorised over theta); no randomisation."""
+    """E_theta phi(Y) for real cutoffs (vectorised over theta); no randomisation.
+
+    ``kind`` is a kinds.Kind: its tails (P(Y < c1), P(Y > c2)) or its middle
+    P(c1 < Y < c2); a continuous Y puts no mass on a cutoff."""
     t = np.asarray(theta, dtype=float)
-    if kind.name == "upper":
-        return law.sf(c2, t)
-    if kind.name == "lower":
-        return law.cdf(c1, t)
-    if kind.name in ("band", "point"):
-        return law.cdf(c1, t) + law.sf(c2, t)
-    return np.vectorize(lambda x: interval(law, c1, c2, float(x)), otypes=[float])(t)
+    if kind.rejects_inside:
+        return np.vectorize(lambda x: interval(law, c1, c2, float(x)), otypes=[float])(t)
+    out = law.cdf(c1, t) if kind.uses_c1 else 0.0
+    return out + (law.sf(c2, t) if kind.uses_c2 else 0.0)
 
 
 def conditioning(law, c1, c2, alpha, points) -> float:
@@ -267,16 +267,16 @@ def conditioning(law, c1, c2, alpha, points) -> float:
 def solve(law, kind, alpha: float, low=None, high=None, value=None) -> ContinuousSolution:
     """The optimal rule of ``kind`` (a kinds.Kind) for a continuous float law."""
     alpha = float(alpha)
-    name = kind.name
-    if name == "upper":
-        c1, c2, points = None, q_high(law, alpha, value), (value,)
-    elif name == "lower":
-        c1, c2, points = q_low(law, alpha, value), None, (value,)
-    elif name == "point":
-        (c1, c2), points = _two_tail(law, alpha, value, value), (value,)
-    elif name == "band":
-        (c1, c2), points = _two_tail(law, alpha, low, high), (low, high)
+    points = kind.points(low, high, value)
+    lo, hi = points[0], points[-1]
+    c1 = c2 = None
+    if kind.rejects_inside:
+        c1, c2 = _window(law, alpha, lo, hi)
+    elif kind.two_tailed:
+        c1, c2 = _two_tail(law, alpha, lo, hi)
+    elif kind.uses_c2:
+        c2 = q_high(law, alpha, lo)
     else:
-        (c1, c2), points = _window(law, alpha, low, high), (low, high)
+        c1 = q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
     return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points))

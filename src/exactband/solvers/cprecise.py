@@ -27,6 +27,7 @@ from dataclasses import dataclass
 
 import mpmath as mp
 
+from ..kinds import as_kind
 from ..mpnum import dec
 
 GUARD_DIGITS = 15
@@ -47,18 +48,18 @@ class PreciseContinuous:
     dps: int
 
 
-def working_dps(precision: int, kind: str, alpha, points, sd_ratio=1.0, width=None) -> int:
+def working_dps(precision: int, kind, alpha, sd_ratio=1.0, width=None) -> int:
     """Digits to work with: requested + guard + the digits narrowness and cancellation cost.
 
     ``width`` is the band's width in standard deviations of Y (None: one point);
     ``sd_ratio`` is |E Y| / sd Y at the value (the point condition subtracts terms of that size).
     """
     extra = 0
-    if kind == "equivalence" and alpha < 0.1:
+    if kind.rejects_inside and alpha < 0.1:
         extra += int(math.ceil(-math.log10(alpha)))
     if width is not None and 0 < width < 1:
         extra += int(math.ceil(-math.log10(width)))
-    if kind == "point":
+    if kind.moment_condition:
         extra += int(math.ceil(math.log10(1.0 + sd_ratio)))
     return int(precision) + GUARD_DIGITS + extra
 
@@ -179,16 +180,14 @@ def _quantile_high(law, theta, q, tol):
 
 
 def _size(law, kind, c1, c2, theta):
-    if kind == "upper":
-        return law.sf(c2, theta)
-    if kind == "lower":
-        return law.cdf(c1, theta)
-    if kind in ("band", "point"):
-        return law.cdf(c1, theta) + law.sf(c2, theta)
-    return law.cdf(c2, theta) - law.cdf(c1, theta)
+    """E_theta phi for real cutoffs: the kind's tails or its middle (mpmath)."""
+    if kind.rejects_inside:
+        return law.cdf(c2, theta) - law.cdf(c1, theta)
+    out = law.cdf(c1, theta) if kind.uses_c1 else mp.mpf(0)
+    return out + (law.sf(c2, theta) if kind.uses_c2 else 0)
 
 
-def _two_tail(law, alpha, lo, hi, kind, tol):
+def _two_tail(law, alpha, lo, hi, moment, tol):
     """Band / point: inner c2 from the size at hi (point: at the value), outer condition."""
     top = _quantile_low(law, lo, alpha, tol)  # c1 can be no larger (left tail alone is alpha)
     bottom = _below(law, lo, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
@@ -212,8 +211,8 @@ def _two_tail(law, alpha, lo, hi, kind, tol):
 
     last = [None]
 
-    if kind == "point":
-        mu = law.mean(lo)
+    mu = law.mean(lo)
+    if moment:
 
         def outer(c1):
             c2 = c2_of(c1)
@@ -229,7 +228,7 @@ def _two_tail(law, alpha, lo, hi, kind, tol):
             return (size_lo - size_hi) / width
 
     noise = alpha * mp.mpf(10) ** (10 - mp.mp.dps)
-    noise = noise * (1 + abs(mu) / law.sd(lo)) if kind == "point" else noise / width
+    noise = noise * (1 + abs(mu) / law.sd(lo)) if moment else noise / width
     c1 = _illinois(outer, bottom, top, tol, noise)
     return c1, c2_of(c1)
 
@@ -264,43 +263,40 @@ def _window(law, alpha, lo, hi, tol):
     return c1, c2_of(c1)
 
 
-def solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispersion=None,
+def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
           precision: int = 50) -> PreciseContinuous:
-    """The optimal rule at ``precision`` significant digits (mpmath only)."""
+    """The optimal rule at ``precision`` significant digits (mpmath only); ``kind``: a Kind
+    or its name."""
+    kind = as_kind(kind)
     a_f = float(alpha)
-    fl = family.continuous_float(n, dispersion)  # only the scale, for the digit budget
-    if kind in ("band", "equivalence"):
-        width = (float(high) - float(low)) / float(fl.theta_scale(float(low)))
-        ratio = 1.0
-    else:
-        width = None
-        ratio = abs(float(fl.mean(float(value)))) / float(fl.sd(float(value)))
-    dps = working_dps(precision, kind, a_f, None, ratio, width)
+    pts = kind.points(low, high, value)
+    fl = family.continuous_float(n, dispersion)  # only the scales, for the digit budget
+    lo_f, hi_f = float(pts[0]), float(pts[-1])
+    width = (hi_f - lo_f) / float(fl.theta_scale(lo_f)) if kind.two_point else None
+    ratio = abs(float(fl.mean(lo_f))) / float(fl.sd(lo_f))
+    dps = working_dps(precision, kind, a_f, ratio, width)
     with mp.workdps(dps):
         law = family.continuous_mp(n, dispersion)
         a = dec(alpha)
         tol = mp.mpf(10) ** -(dps - 5)
-        if kind == "upper":
-            v = dec(value)
-            c1, c2, points = None, _quantile_high(law, v, a, tol), (v,)
-        elif kind == "lower":
-            v = dec(value)
-            c1, c2, points = _quantile_low(law, v, a, tol), None, (v,)
-        elif kind == "point":
-            v = dec(value)
-            (c1, c2), points = _two_tail(law, a, v, v, kind, tol), (v,)
-        elif kind == "band":
-            points = (dec(low), dec(high))
-            c1, c2 = _two_tail(law, a, points[0], points[1], kind, tol)
+        points = tuple(dec(t) for t in pts)
+        lo, hi = points[0], points[-1]
+        c1 = c2 = None
+        if kind.rejects_inside:
+            c1, c2 = _window(law, a, lo, hi, tol)
+        elif kind.two_tailed:
+            c1, c2 = _two_tail(law, a, lo, hi, kind.moment_condition, tol)
+        elif kind.uses_c2:
+            c2 = _quantile_high(law, lo, a, tol)
         else:
-            points = (dec(low), dec(high))
-            c1, c2 = _window(law, a, points[0], points[1], tol)
+            c1 = _quantile_low(law, lo, a, tol)
         sizes = tuple(_size(law, kind, c1, c2, t) for t in points)
     return PreciseContinuous(c1, c2, sizes, dps)
 
 
-def sizes_of(family, kind: str, n, dispersion, c1, c2, points, precision: int = 50) -> tuple:
+def sizes_of(family, kind, n, dispersion, c1, c2, points, precision: int = 50) -> tuple:
     """E_theta phi at each point for given cutoffs, with the mpmath law (for the cross-check)."""
+    kind = as_kind(kind)
     with mp.workdps(int(precision) + GUARD_DIGITS):
         law = family.continuous_mp(n, dispersion)
         cc1 = None if c1 is None else mp.mpf(c1)
