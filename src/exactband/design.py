@@ -217,15 +217,15 @@ class Design:
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
-        disp = f", dispersion k = {_num(self.dispersion)}" if self.dispersion is not None else ""
+        disp = ("" if self.dispersion is None
+                else f", {fam.dispersion_word} = {_num(self.dispersion)}")
         lines.append(f"{knd.optimality} test, {fam.name} family, {fam.n_word} = {_num(self.n)}"
                      f"{disp}, size alpha = {_num(self.alpha)}.")
         lines.append(self.hypothesis() + ".")
         note = fam.law_note(self.problem)
         if note:
             lines.append(note)
-        lines.append("Y = the total count over the sample." if fam.name != "binomial"
-                     else "Y = the number of units with the attribute among the n inspected.")
+        lines.append(f"Y = {fam.y_word}.")
         if key != "randomised":
             lines.append({"conservative": "The conservative rule (no randomisation):",
                           "digits": f"The field rule with {random_digits} random digits:"}[key])

@@ -84,12 +84,6 @@ def _new_figure(size):
 
 
 # -- words --------------------------------------------------------------------------
-UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "probability per trial",
-              "negative-binomial": "mean count per unit"}
-AXIS_WORDS = {"poisson": "rate \u03b8", "binomial": "proportion p",
-              "negative-binomial": "mean \u03b8"}
-
-
 def pretty(text: str) -> str:
     """Typographic comparison signs for figure text."""
     return text.replace("<=", "\u2264").replace(">=", "\u2265")
@@ -97,8 +91,7 @@ def pretty(text: str) -> str:
 
 def theta_axis_label(design: Design) -> str:
     fam = design.problem.family
-    word = AXIS_WORDS.get(fam.name, fam.theta_word)
-    return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
+    return f"{fam.axis_word} ({fam.theta_unit})"
 
 
 def _g(x, exact=None, random_digits=None):
@@ -111,7 +104,8 @@ def _g(x, exact=None, random_digits=None):
 def design_caption(design: Design, random_digits: int | None = None) -> str:
     """One paragraph naming the design: family, kind, H0, n, alpha, cutoffs, gammas."""
     fam = design.problem.family
-    disp = f", dispersion k = {_num(design.dispersion)}" if design.dispersion is not None else ""
+    disp = ("" if design.dispersion is None
+            else f", {fam.dispersion_word} = {_num(design.dispersion)}")
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
              f"{pretty(design.hypothesis())}; {fam.n_word} = {_num(design.n)}; "
              f"alpha = {_num(design.alpha)}."]
@@ -269,9 +263,7 @@ def plan_figure(result, frame, *, size=None):
                        label=f"n_from = {_num(result.n_from)} (every larger n meets it)")
         ax.set_ylabel(f"power at {fam.theta_word}\n= {_num(a)}", fontsize=9)
         ax.grid(True, color="0.8", linewidth=0.5)
-    unit = "exposure units" if not fam.integer_n else ("trials" if fam.name == "binomial"
-                                                       else "units")
-    axes[-1].set_xlabel(f"{fam.n_word} ({unit}; grid step {_num(result.step)})")
+    axes[-1].set_xlabel(f"{fam.n_word} ({fam.n_unit}; grid step {_num(result.step)})")
     rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
@@ -283,7 +275,7 @@ def plan_figure(result, frame, *, size=None):
         rule_at += f" Thresholds t = floor(gamma x 10^{d}): " + ", ".join(
             f"t{i} = {t}" for i, t in enumerate(des.thresholds(d), start=1) if t is not None) + "."
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
-               f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
+               f"alpha = {_num(result.alpha)}; alternatives ({fam.theta_unit}) "
                f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
                f"The {rule_words} at n = {_num(result.n)}: {rule_at}")
     add_footer(foot, axes[0], caption)
@@ -323,7 +315,8 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
                            for x in group]) for group in rows[p:p + charts_per_page]]
         first = rows[p][0]
         fam = first.problem.family
-        disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
+        disp = ("" if first.dispersion is None
+                else f", {fam.dispersion_word} = {_num(first.dispersion)}")
         head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
                          f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
         pages.append(draw_oc_page(charts, rules=rules, curve=col, random_digits=random_digits,

@@ -1,4 +1,4 @@
-"""Families of the sufficient statistic Y; see base.Family."""
+"""Families of the statistic Y; see base.Family.  A family is registered here, once."""
 
 from __future__ import annotations
 
@@ -7,7 +7,21 @@ from .binomial import BINOMIAL
 from .negbinomial import NEGBINOMIAL
 from .poisson import POISSON
 
-FAMILIES: dict[str, Family] = {f.name: f for f in (POISSON, BINOMIAL, NEGBINOMIAL)}
+FAMILIES: dict[str, Family] = {}  # by name, in the order registered (the order lists print in)
+
+
+def register(family: Family) -> Family:
+    """Add a family to the registry; every name lookup and list of families sees it."""
+    if not isinstance(family, Family):
+        raise TypeError(f"a Family is required, not {type(family).__name__}")
+    if family.name in FAMILIES:
+        raise ValueError(f"a family named {family.name!r} is already registered")
+    FAMILIES[family.name] = family
+    return family
+
+
+for _family in (POISSON, BINOMIAL, NEGBINOMIAL):
+    register(_family)
 
 
 def get_family(name) -> Family:
@@ -17,4 +31,4 @@ def get_family(name) -> Family:
     return FAMILIES[check_name("family", name, tuple(FAMILIES))]
 
 
-__all__ = ["FAMILIES", "Family", "get_family"]
+__all__ = ["FAMILIES", "Family", "get_family", "register"]

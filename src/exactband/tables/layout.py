@@ -20,9 +20,11 @@ Number text:
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass
 from decimal import ROUND_FLOOR, Decimal
 
+from ..families import FAMILIES, get_family
 from ..kinds import KINDS
 from .grid import sections
 from .spec import TWO_POINT
@@ -91,15 +93,22 @@ def size_decimals(alpha: float) -> int:
     return max(3, 3 - Decimal(repr(float(alpha))).adjusted())
 
 
-# The words the printed tables use for each family's parameter and sample size:
-# (symbol in formulas, what it is, what n is).
-WORDS = {
-    "poisson": ("rate", "the expected count per unit of exposure",
-                "the exposure (units inspected)"),
-    "binomial": ("p", "the proportion of units with the attribute",
-                 "the number of units inspected"),
-    "negative-binomial": ("mean", "the expected count per unit", "the number of units inspected"),
-}
+class _FamilyWords(Mapping):
+    """The words the printed tables use for a family's parameter and sample size, by the
+    family's name: (symbol in formulas, what it is, what n is), asked of the Family."""
+
+    def __getitem__(self, name: str) -> tuple[str, str, str]:
+        f = get_family(name)
+        return f.symbol, f.theta_what, f.n_what
+
+    def __iter__(self):
+        return iter(tuple(FAMILIES))
+
+    def __len__(self) -> int:
+        return len(FAMILIES)
+
+
+WORDS = _FamilyWords()
 
 
 def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservative: bool):

@@ -148,7 +148,7 @@ def dispersion_of(v: Checker, fam, data):
     if "dispersion" not in data:
         if fam.uses_dispersion:
             raise v.fail(f"missing key 'dispersion': the {fam.name} family needs a known "
-                         "dispersion k > 0")
+                         f"{fam.dispersion_word} > 0")
         return None
     k = data["dispersion"]
     if not fam.uses_dispersion:

@@ -7,6 +7,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
+from ..families import get_family
 from .layout import KIND_TITLE, WORDS, gamma_places, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
@@ -34,11 +35,7 @@ def hypothesis_at(kind: str, family: str, points) -> str:
 
 
 def y_text(family: str) -> str:
-    if family == "binomial":
-        return "Y = the number of units with the attribute among the n inspected"
-    if family == "poisson":
-        return "Y = the total count over the inspected exposure n"
-    return "Y = the total count over the n inspected units"
+    return f"Y = {get_family(family).y_inspected}"
 
 
 def _digits(d: int) -> str:
