@@ -2,12 +2,12 @@
 
 Every kind and every discrete family meets each hard regime: small counts, a
 narrow band (relative widths 1e-2 to 1e-6), alpha down to 1e-6, large n, and
-for a bounded parameter (the binomial p) each end of its space.  A seed jitters the parameters inside each
-cell of the grid (Python's random.Random, stable across versions), and every
-value is rounded to four significant digits so it prints exactly.  The same
-seed and exactband version give the same file, byte for byte.  The answer
-columns c1, gamma1, c2, gamma2 are left empty; ``exactband audit`` of the
-filled file grades it.
+for a bounded parameter (the binomial p) each end of its space.  A seed
+jitters the parameters inside each cell of the grid (Python's random.Random,
+stable across versions), and every value is rounded to four significant digits
+so it prints exactly.  The same seed and exactband version give the same file,
+byte for byte.  The answer columns c1, gamma1, c2, gamma2 are left empty;
+``exactband audit`` of the filled file grades it.
 """
 
 from __future__ import annotations

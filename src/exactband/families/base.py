@@ -179,7 +179,8 @@ class Family:
                 "dispersion", k,
                 f"the {self.name} family takes no dispersion; it is used only by {users}",
             )
-        allowed = f"the {self.name} family needs a known {self.dispersion_word}, a finite number > 0"
+        allowed = (f"the {self.name} family needs a known {self.dispersion_word}, "
+                   "a finite number > 0")
         if k is None:
             raise invalid("dispersion", k, allowed)
         x = as_real("dispersion", k)
