@@ -21,6 +21,7 @@ demo: install
 	$(PY) -m exactband.demo tables/demo.toml output/demo
 
 test: install
+	$(PY) -m ruff check src tests bench
 	$(PY) -m pytest
 
 bench: install

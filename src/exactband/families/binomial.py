@@ -9,10 +9,6 @@ import numpy as np
 from scipy import special as sp
 
 from ..mpnum import dec, dec_complement, frac
-
-_ZERO = mp.mpf(0)
-_ONE = mp.mpf(1)
-
 from . import _saddle
 from . import mptable as mt
 from .base import Family
@@ -104,6 +100,9 @@ class BinomialLaw(FloatLaw):
         n, p, q = P
         y = as_float(y)
         return y * np.log1p(dt / p) + (n - y) * np.log1p(-dt / q)
+
+_ZERO = mp.mpf(0)
+_ONE = mp.mpf(1)
 
 
 class BinomialMp:

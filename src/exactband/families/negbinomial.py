@@ -14,9 +14,6 @@ import numpy as np
 from scipy import special as sp
 
 from ..mpnum import dec, frac
-
-_ZERO = mp.mpf(0)
-
 from . import _saddle
 from . import mptable as mt
 from .base import Family
@@ -149,6 +146,8 @@ class NegBinomialLaw(FloatLaw):
         r, m = P
         y = as_float(y)
         return -r * np.log1p(dt / (r + m)) + y * np.log1p(dt * r / (m * (r + m + dt)))
+
+_ZERO = mp.mpf(0)
 
 
 class NegBinomialMp:

@@ -9,7 +9,6 @@ import numpy as np
 from scipy import special as sp
 
 from ..mpnum import dec, frac
-
 from . import _saddle
 from . import mptable as mt
 from .base import Family
