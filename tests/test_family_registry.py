@@ -107,6 +107,9 @@ def test_a_new_family_needs_only_its_module_and_registration(flaws, tmp_path):
     assert len(rows) == len([r for r in challenge.grid(0) if r["family"] == "poisson"]) > 0
     with pytest.raises(exactband.DesignError, match="flaw rate per metre must be"):
         exactband.design("yarn-flaws", "upper", n=3, value=-1, alpha=0.05)
+    with pytest.raises(exactband.DesignError, match="yarn-flaws family takes no dispersion; "
+                       "it is used only by negative-binomial"):  # the registry's names
+        exactband.design("yarn-flaws", "upper", n=3, value=1, alpha=0.05, dispersion=2)
 
     # a table set of the new family: its words on the cover, the Poisson numbers in the rows
     from exactband.tables import generate

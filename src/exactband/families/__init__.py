@@ -31,4 +31,9 @@ def get_family(name) -> Family:
     return FAMILIES[check_name("family", name, tuple(FAMILIES))]
 
 
-__all__ = ["FAMILIES", "Family", "get_family", "register"]
+def dispersion_users() -> str:
+    """The registered families that take a dispersion, named in words ("a, b")."""
+    return ", ".join(f.name for f in FAMILIES.values() if f.uses_dispersion)
+
+
+__all__ = ["FAMILIES", "Family", "dispersion_users", "get_family", "register"]

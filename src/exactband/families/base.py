@@ -172,12 +172,12 @@ class Family:
         if not self.uses_dispersion:
             if k is None:
                 return None
-            from . import FAMILIES
+            from . import dispersion_users
 
-            users = ", ".join(f.name for f in FAMILIES.values() if f.uses_dispersion)
             raise invalid(
                 "dispersion", k,
-                f"the {self.name} family takes no dispersion; it is used only by {users}",
+                f"the {self.name} family takes no dispersion; it is used only by "
+                f"{dispersion_users()}",
             )
         allowed = (f"the {self.name} family needs a known {self.dispersion_word}, "
                    "a finite number > 0")

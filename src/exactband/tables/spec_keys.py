@@ -152,8 +152,10 @@ def dispersion_of(v: Checker, fam, data):
         return None
     k = data["dispersion"]
     if not fam.uses_dispersion:
+        from ..families import dispersion_users
+
         raise v.bad("dispersion", k, f"the {fam.name} family takes no dispersion; leave the "
-                    "key out (it is used only by negative-binomial)")
+                    f"key out (it is used only by {dispersion_users()})")
     v.number("dispersion", k)
     try:
         return fam.check_dispersion(k)
