@@ -28,4 +28,4 @@ bench: install
 	$(PY) bench/run.py
 
 clean:
-	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis
+	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis .ruff_cache

@@ -77,12 +77,11 @@ def refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
         det = f1 * d2 - f2 * d1
         h1 = (r1 * d2 - f2 * r2) / det
         h2 = (f1 * r2 - d1 * r1) / det
-    lo_ok, hi_ok = -GAMMA_TOL, 1.0 + GAMMA_TOL
+    lo_ok = -GAMMA_TOL
     # alpha near 1: the window holds almost all the mass; the complement's gammas
     # (band form of size 1 - alpha, small) are then the accurate ones
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
           & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5))
-    del hi_ok
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)
     g2 = np.where(ok, np.clip(h2, 0.0, 1.0), g2)
     return c1, g1, c2, g2

@@ -378,7 +378,8 @@ def _provenance(rows, pages, geo) -> list:
     return out
 
 
-def _build(tset, sections, blocks, provenance, pages, draft=False) -> bytes:
+def _build(tset, sections, blocks, provenance, pages, draft=False) -> tuple:
+    """(the document's bytes, the OC chart slots to fill); ``pages`` collects where things land."""
     spec = tset.spec
     geo = _Geometry(spec.paper)
     buf = io.BytesIO()
