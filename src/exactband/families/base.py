@@ -11,7 +11,8 @@ instance, its float law, its precise law, its scipy law) plus one line in
 
 What a Family carries
 ---------------------
-Words (fields; each printed somewhere, so choose them as they should read):
+Words (dataclass fields, given when the instance is made; each is printed somewhere,
+so choose them as they should read):
 
 * ``name``: the family's name as typed (``design("poisson", ...)``, specs, CSV columns).
 * ``theta_word``: theta in plain words in sentences ("rate per unit"): describe(),
@@ -29,7 +30,8 @@ Words (fields; each printed somewhere, so choose them as they should read):
   ("the total count over the inspected exposure n").
 * ``dispersion_word``: the known nuisance parameter's name when ``uses_dispersion``.
 
-Kind of statistic and parameter space:
+Kind of statistic and parameter space (``discrete``, ``reflects`` and ``float_law`` are
+class attributes of the subclass; the rest are fields or methods):
 
 * ``discrete``: True when Y takes whole values (counts): cutoffs are integers,
   the rule randomises at a cutoff, the laws have a probability mass function.
@@ -100,11 +102,12 @@ class Family:
     y_inspected: str  # what Y is (a table's cover): "the total count over the inspected exposure n"
     integer_n: bool
     uses_dispersion: bool
-    discrete: bool = True  # whole-valued Y (cutoffs integers, randomised); False: continuous
     dispersion_word: str = "dispersion k"  # the known second parameter, when uses_dispersion
     theta_min: float = 0.0  # the open parameter space (theta_min, theta_max)
     theta_max: float = math.inf
 
+    # class attributes, set by a subclass where they differ
+    discrete = True  # whole-valued Y (integer cutoffs, randomised); False: continuous Y
     reflects = False  # Y -> n - Y, theta -> 1 - theta maps the family onto itself
     float_law = None  # a floatlaw.FloatLaw subclass, set by subclasses
 
