@@ -83,7 +83,7 @@ def test_a_new_family_needs_only_its_module_and_registration(flaws, tmp_path):
     from exactband.audit import challenge, constructions
     from exactband.decide import check_count
     from exactband.plots import theta_axis_label
-    from exactband.tables.layout import WORDS
+    from exactband.tables.tablewords import WORDS
     from exactband.tables.texts import hypothesis_text, y_text
 
     assert get_family(" Yarn-Flaws ") is flaws

@@ -15,21 +15,10 @@ import numpy as np
 
 from . import kinds as K
 from .errors import DesignError
+from .numtext import number_text
 from .params import Problem
 
 DEFAULT_RANDOM_DIGITS = 3  # random digits of the field rule: decide, tables, power, plan
-
-
-def _num(x) -> str:
-    """Short, exact-looking text for a user number (25.0 -> '25')."""
-    if x is None:
-        return "-"
-    if isinstance(x, (int, np.integer)):
-        return str(int(x))
-    x = float(x)
-    if x.is_integer() and abs(x) < 1e15:
-        return str(int(x))
-    return repr(x)
 
 
 @dataclass(frozen=True)
@@ -128,7 +117,8 @@ class Design:
         try:
             t = np.asarray(theta, dtype=float)
         except (TypeError, ValueError):
-            raise DesignError(f"invalid theta = {theta!r}: numbers are required") from None
+            raise DesignError(f"invalid theta = {theta!r}: numbers are required", field="theta",
+                              value=theta, allowed="numbers are required") from None
         flat = np.atleast_1d(t).ravel()
         bad = ~fam.theta_ok_array(flat)
         if np.any(bad):
@@ -198,8 +188,8 @@ class Design:
     def hypothesis(self) -> str:
         fam, knd = self.problem.family, self.problem.kind
         return "H0: " + knd.summary.format(
-            t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
-            high=_num(self.high))
+            t=f"{fam.theta_word}", value=number_text(self.value), low=number_text(self.low),
+            high=number_text(self.high))
 
     def describe(self, rule: str = "randomised", random_digits: int | None = None) -> str:
         """The decision rule in plain words, naming the side of H0 each rejection points to.
@@ -212,15 +202,18 @@ class Design:
 
         key = ALIASES.get(rule, rule)
         if key not in RULE_NAMES:
-            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits")
+            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits",
+                              field="rule", value=rule,
+                              allowed="randomised, conservative or digits")
         if key == "digits" and random_digits is None:
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
-        disp = ("" if self.dispersion is None
-                else f", {fam.dispersion_word} = {_num(self.dispersion)}")
-        lines.append(f"{knd.optimality} test, {fam.name} family, {fam.n_word} = {_num(self.n)}"
-                     f"{disp}, size alpha = {_num(self.alpha)}.")
+        disp = (f", {fam.dispersion_word} = {number_text(self.dispersion)}"
+                if self.dispersion is not None else "")
+        lines.append(f"{knd.optimality} test, {fam.name} family, "
+                     f"{fam.n_word} = {number_text(self.n)}"
+                     f"{disp}, size alpha = {number_text(self.alpha)}.")
         lines.append(self.hypothesis() + ".")
         note = fam.law_note(self.problem)
         if note:
@@ -233,7 +226,8 @@ class Design:
         word = fam.theta_word
         used = {"randomised": self, "conservative": self.nonrandomized()}.get(key)
         used = used if used is not None else self.digit_rule(random_digits)
-        sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, used.sizes))
+        sizes = "; ".join(f"at {word} = {number_text(t)}: {s:.6g}"
+                          for t, s in zip(self.points, used.sizes))
         lines.append(f"Size (probability of rejecting H0) {sizes}.")
         if self.verified:
             lines.append(f"Verified: the fast and the {self.precision}-digit solvers agree.")
@@ -256,5 +250,6 @@ def _random_digits(d) -> int:
     if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
         from .errors import show
 
-        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
+        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9",
+                          field="random_digits", value=d, allowed="a whole number from 1 to 9")
     return int(d)

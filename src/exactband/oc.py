@@ -18,7 +18,7 @@ import numpy as np
 
 from . import kinds as K
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .errors import ExactbandError, invalid
+from .errors import ExactbandError, invalid, recast
 from .families.base import as_real
 
 RULES = ("randomised", "conservative", "digits")
@@ -34,16 +34,12 @@ def one_hypothesis(designs, why: str) -> list:
     """The designs as a list, refused unless they share family, kind and hypothesis."""
     designs = list(designs)
     if not designs:
-        raise _error("designs", "[]", "at least one design is required")
+        raise invalid("designs", "[]", "at least one design is required", PlanningError)
     keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
     if len(keys) != 1:
         raise PlanningError(f"invalid designs: {why}; these differ in family, kind or "
-                            "hypothesis values")
+                            "hypothesis values", field="designs")
     return designs
-
-
-def _error(field, value, allowed) -> PlanningError:
-    return PlanningError(str(invalid(field, value, allowed)))
 
 
 def check_random_digits(d) -> int:
@@ -51,7 +47,7 @@ def check_random_digits(d) -> int:
     allowed = "a whole number of random digits from 1 to 9"
     x = _whole("random-digits", d, allowed)
     if not 1 <= x <= 9:
-        raise _error("random-digits", d, allowed)
+        raise invalid("random-digits", d, allowed, PlanningError)
     return x
 
 
@@ -61,14 +57,14 @@ def _whole(field, value, allowed) -> int:
     try:
         return whole(field, value, allowed)
     except ExactbandError as e:
-        raise PlanningError(str(e)) from None
+        raise recast(e, PlanningError) from None
 
 
 def check_rule(rule) -> str:
     key = rule.strip().lower() if isinstance(rule, str) else rule
     key = {"randomized": "randomised"}.get(key, key)  # accepted spelling
     if key not in RULES:
-        raise _error("rule", rule, "allowed: " + ", ".join(RULES))
+        raise invalid("rule", rule, "allowed: " + ", ".join(RULES), PlanningError)
     return key
 
 
@@ -76,7 +72,7 @@ def check_points(points) -> int:
     allowed = "a whole number of points from 2 to 100000"
     x = _whole("points", points, allowed)
     if not 2 <= x <= 100000:
-        raise _error("points", points, allowed)
+        raise invalid("points", points, allowed, PlanningError)
     return x
 
 
@@ -87,13 +83,13 @@ def check_thetas(design: Design, thetas, field: str = "theta") -> np.ndarray:
         thetas = [thetas]
     vals = list(thetas)
     if not vals:
-        raise _error(field, "[]", "at least one value is required")
+        raise invalid(field, "[]", "at least one value is required", PlanningError)
     out = []
     for x in vals:
         try:
             out.append(fam.check_theta(field, x))
         except ExactbandError as e:
-            raise PlanningError(str(e)) from None
+            raise recast(e, PlanningError) from None
     return np.array(out, dtype=float)
 
 
@@ -282,7 +278,7 @@ def power_sheet(designs, thetas, *, random_digits=DEFAULT_RANDOM_DIGITS):
             f.insert(pos, key, [val] * len(f))
         frames.append(f)
     if not frames:
-        raise _error("designs", "[]", "at least one design is required")
+        raise invalid("designs", "[]", "at least one design is required", PlanningError)
     return pd.concat(frames, ignore_index=True)
 
 
@@ -297,11 +293,12 @@ def parse_number_list(field: str, text) -> list:
     items = [x.strip() if isinstance(x, str) else x for x in items]
     items = [x for x in items if not (isinstance(x, str) and x == "")]
     if not items:
-        raise _error(field, text, "a comma-separated list of numbers is required")
+        raise invalid(field, text, "a comma-separated list of numbers is required", PlanningError)
     out = []
     for x in items:
         try:
             out.append(as_real(field, x))
         except ExactbandError:
-            raise _error(field, text, "a comma-separated list of finite numbers") from None
+            raise invalid(field, text, "a comma-separated list of finite numbers",
+                          PlanningError) from None
     return out

@@ -15,9 +15,9 @@ from dataclasses import dataclass, replace
 from decimal import ROUND_FLOOR, Decimal
 from pathlib import Path
 
-from .decide import DecideError, _error
+from .decide import DecideError
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .errors import ExactbandError
+from .errors import ExactbandError, invalid, recast
 from .params import make_problem
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
@@ -65,20 +65,21 @@ def _number(where, name, text, whole=False):
 def read_rows(path) -> list:
     p = Path(str(path))
     if not p.is_file():
-        raise _error("table", str(path), "an existing table CSV file (NAME.csv)")
+        raise invalid("table", str(path), "an existing table CSV file (NAME.csv)", DecideError)
     try:
         with open(p, encoding="utf-8-sig", newline="") as fh:
             reader = csv.DictReader(fh)
             rows = list(reader)
             cols = reader.fieldnames or []
     except (UnicodeDecodeError, csv.Error) as e:
-        raise _error("table", str(path), f"a UTF-8 CSV file ({type(e).__name__})") from None
+        raise invalid("table", str(path), f"a UTF-8 CSV file ({type(e).__name__})",
+                      DecideError) from None
     missing = [c for c in REQUIRED if c not in cols]
     if missing:
-        raise _error("table", str(path), "a generated table CSV; missing column(s) "
-                                         + ", ".join(missing))
+        raise invalid("table", str(path), "a generated table CSV; missing column(s) "
+                                         + ", ".join(missing), DecideError)
     if not rows:
-        raise _error("table", str(path), "a table with at least one row")
+        raise invalid("table", str(path), "a table with at least one row", DecideError)
     return rows
 
 
@@ -109,19 +110,22 @@ def select_row(path, row=None, **filters) -> tuple:
         try:
             k = whole("row", row, f"a whole number from 1 to {len(rows)}")
         except ExactbandError as e:
-            raise DecideError(str(e)) from None
+            raise recast(e, DecideError) from None
         if not 1 <= k <= len(rows):
-            raise _error("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)")
+            raise invalid("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)",
+                          DecideError)
         if given and not _matches(rows[k - 1], given):
-            raise _error("row", row, "that row does not match the design options given")
+            raise invalid("row", row, "that row does not match the design options given",
+                          DecideError)
         return k, rows[k - 1]
     if not given:
-        raise _error("row", row, "give --row or design options (e.g. --kind --n --alpha) "
-                                 "that pick one row")
+        raise invalid("row", row, "give --row or design options (e.g. --kind --n --alpha) "
+                                 "that pick one row", DecideError)
     hits = [i for i, r in enumerate(rows) if _matches(r, given)]
     desc = ", ".join(f"{k}={v}" for k, v in given.items())
     if not hits:
-        raise DecideError(f"invalid table = {path}: no row matches {desc}")
+        raise DecideError(f"invalid table = {path}: no row matches {desc}", field="table",
+                          value=path)
     if len(hits) > 1:
         raise DecideError(f"invalid table = {path}: {len(hits)} rows match {desc} "
                           f"(rows {', '.join(str(i + 1) for i in hits[:8])}); add options or --row")
@@ -159,7 +163,7 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
                             low=vals["low"], high=vals["high"], value=vals["value"],
                             dispersion=vals["dispersion"])
     except ExactbandError as e:
-        raise DecideError(f"{where}: {e}") from None
+        raise recast(e, DecideError, f"{where}: ") from None
     c1 = _number(where, "c1", vals["c1"], whole=True)
     c2 = _number(where, "c2", vals["c2"], whole=True)
     g1 = _number(where, "gamma1", vals["gamma1"])

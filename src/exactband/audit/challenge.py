@@ -135,7 +135,8 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     from openpyxl.utils import get_column_letter
 
     from .. import __version__
-    from .xlsx_report import CAUTION, _deterministic, print_setup
+    from ..xlsxzip import workbook_bytes
+    from .xlsx_report import CAUTION, print_setup
 
     wb = Workbook()
     ws = wb.active
@@ -167,6 +168,4 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     info.column_dimensions["A"].width = 100
     print_setup(info, pages_wide=1)
     info.page_setup.orientation = "portrait"
-    buf = io.BytesIO()
-    wb.save(buf)
-    return _deterministic(buf.getvalue())
+    return workbook_bytes(wb)

@@ -25,7 +25,7 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
 
-from ..api import fast_solve, from_fast
+from ..solving import fast_solve, from_fast
 from . import constructions as X
 from .match import agrees
 

@@ -175,7 +175,7 @@ class Family:
         if not self.uses_dispersion:
             if k is None:
                 return None
-            from . import dispersion_users
+            from .registry import dispersion_users
 
             raise invalid(
                 "dispersion", k,

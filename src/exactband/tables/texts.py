@@ -8,7 +8,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 from __future__ import annotations
 
 from ..families import get_family
-from .layout import KIND_TITLE, WORDS, gamma_places, plain
+from .tablewords import KIND_TITLE, WORDS, gamma_places, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
            "sampling plans and the consequences of a decision come from the governing "
