@@ -15,7 +15,7 @@ import numpy as np
 from .errors import DesignError, VerificationError, recast
 from .families import FAMILIES
 from .kinds import KINDS
-from .params import ALPHA_MAX, ALPHA_MIN, ALPHA_MIN_EQUIVALENCE, make_problem
+from .params import ALPHA_MAX, make_problem
 from .solving import DEFAULT_PRECISION, check_precision, precision_alias, verify_many
 
 COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
@@ -51,7 +51,7 @@ def _group_ok(fam, kind, a):
         ok = np.isfinite(n) & (n > 0) & (n <= 1e12)
         if fam.integer_n:
             ok &= (n >= 1) & (n == np.floor(n))
-        lo_alpha = ALPHA_MIN_EQUIVALENCE if kind.name == "equivalence" else ALPHA_MIN
+        lo_alpha = kind.alpha_min
         ok &= np.isfinite(alpha) & (alpha >= lo_alpha) & (alpha <= ALPHA_MAX)
         for name in ("low", "high", "value"):
             x = a[name]

@@ -98,7 +98,7 @@ def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
     t = design.problem.family.theta_word
     low, high = number_text(design.low), number_text(design.high)
     if not reject:
-        if design.kind == "equivalence":
+        if design.problem.kind.rejects_inside:
             return f"equivalence not shown: the data do not establish {low} < {t} < {high}"
         return "the data are consistent with " + design.hypothesis()[4:]
     sides = design.problem.kind.sides
@@ -138,14 +138,14 @@ def check_digits_text(digits, need: int | None) -> str:
 
 def _region(design: Design, y: int):
     """(words, cutoff index 1/2 or None, reject when not at a cutoff)."""
-    kind, c1, c2 = design.kind, design.c1, design.c2
-    if kind == "upper":
-        return ((f"above c2 = {c2}", None, True) if y > c2 else
-                (f"at c2 = {c2}", 2, None) if y == c2 else (f"below c2 = {c2}", None, False))
-    if kind == "lower":
-        return ((f"below c1 = {c1}", None, True) if y < c1 else
-                (f"at c1 = {c1}", 1, None) if y == c1 else (f"above c1 = {c1}", None, False))
-    outside = kind != "equivalence"  # band, point reject outside; equivalence inside
+    kind, c1, c2 = design.problem.kind, design.c1, design.c2
+    if kind.one_sided:  # upper rejects above its c2, lower below its c1
+        i, c, reject_above = (2, c2, True) if kind.uses_c2 else (1, c1, False)
+        if y == c:
+            return f"at c{i} = {c}", i, None
+        above = y > c
+        return f"{'above' if above else 'below'} c{i} = {c}", None, above == reject_above
+    outside = not kind.rejects_inside  # band, point reject outside; equivalence inside
     if y < c1:
         return f"below c1 = {c1}", None, outside
     if y > c2:
@@ -233,7 +233,7 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
 
     if at is None:
         why = "outside the cutoffs" if reject else "inside the cutoffs"
-        if design.kind == "equivalence":
+        if design.problem.kind.rejects_inside:
             why = "strictly between the cutoffs" if reject else "outside the cutoffs"
         return made(words, False, None, None, None, None, None, bool(reject),
                     f"Y is {why}: the rule "

@@ -108,10 +108,9 @@ def rule_label(rule: str, random_digits: int) -> str:
 
 
 # -- the default theta range ----------------------------------------------------
-def _limit(kind: str, side: int) -> float:
+def _limit(kind, side: int) -> float:
     """Power far out on one side (-1 left, +1 right): 1 where the rule rejects, else 0."""
-    rejects = {"upper": (False, True), "lower": (True, False), "point": (True, True),
-               "band": (True, True), "equivalence": (False, False)}[kind]
+    rejects = K.as_kind(kind).far_rejects
     return 1.0 if rejects[0 if side < 0 else 1] else 0.0
 
 
@@ -203,7 +202,7 @@ def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
     pad = 0.03 * (right - left)
     left = left - pad if fam.theta_ok(left - pad) else left
     right = right + pad if fam.theta_ok(right + pad) else right
-    if first.kind == "upper" and _bottom(fam) is not None:
+    if first.problem.kind.sides == ("above",) and _bottom(fam) is not None:
         left = _bottom(fam)  # all of H0: theta from the bottom of the space up to value
     grid = snap(np.linspace(left, right, pts))
     grid = grid[fam.theta_ok_array(grid)]

@@ -11,6 +11,7 @@ no dates in the metadata).  The figures draw data computed elsewhere
 from __future__ import annotations
 
 import io
+import math
 from pathlib import Path
 
 from .design import DEFAULT_RANDOM_DIGITS, Design
@@ -139,19 +140,15 @@ def _size_text(sizes) -> str:
 
 # -- shading and reference lines ------------------------------------------------------
 def _shade_null(ax, design: Design, x0: float, x1: float, label=True):
-    kind, lab = design.kind, ("null region (H0)" if label else None)
-    if kind == "band":
-        ax.axvspan(design.low, design.high, label=lab, **NULL_SHADE)
-    elif kind == "upper":
-        ax.axvspan(x0, design.value, label=lab, **NULL_SHADE)
-    elif kind == "lower":
-        ax.axvspan(design.value, x1, label=lab, **NULL_SHADE)
-    elif kind == "equivalence":
-        ax.axvspan(x0, design.low, label=lab, **NULL_SHADE)
-        ax.axvspan(design.high, x1, **NULL_SHADE)
-    else:  # point: a line, the null region has no width
-        ax.axvline(design.value, color="0.6", linewidth=4, zorder=0, alpha=0.6,
-                   label=("null value (H0)" if label else None))
+    lab = "null region (H0)" if label else None
+    pieces = design.problem.kind.null_pieces(design.low, design.high, design.value)
+    for i, (a, b) in enumerate(pieces):
+        if a == b:  # a point: a line, the null region has no width
+            ax.axvline(a, color="0.6", linewidth=4, zorder=0, alpha=0.6,
+                       label=("null value (H0)" if label else None))
+            continue
+        kw = {"label": lab} if i == 0 else {}
+        ax.axvspan(x0 if a == -math.inf else a, x1 if b == math.inf else b, **kw, **NULL_SHADE)
 
 
 def _alpha_line(ax, alpha, curve="power"):

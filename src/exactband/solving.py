@@ -18,6 +18,7 @@ from .design import Design
 from .errors import DesignError, VerificationError, invalid
 from .families.mptable import TableTooLarge
 from .params import Problem
+from .rule import Rule
 from .solvers import fast, precise
 
 MIN_PRECISION, MAX_PRECISION = 20, 1000
@@ -88,21 +89,12 @@ def _decimal(g) -> str | None:
     return mp.nstr(g, DECIMALS, min_fixed=-mp.inf, max_fixed=mp.inf, strip_zeros=False)
 
 
-def _canonical(c1, g1, c2, g2, kind):
-    """Float gammas that round to 1.0 become the neighbouring cutoff with gamma 0."""
-    if g1 is not None and g1 >= 1.0:
-        c1, g1 = (c1 + 1, 0.0) if kind != "equivalence" else (c1 - 1, 0.0)
-    if g2 is not None and g2 >= 1.0:
-        c2, g2 = (c2 - 1, 0.0) if kind != "equivalence" else (c2 + 1, 0.0)
-    return c1, g1, c2, g2
-
-
 def from_fast(p: Problem, sol: tuple) -> Design:
     """Unverified Design from the fast solver, sizes from the float law."""
-    c1, g1, c2, g2 = _canonical(*sol, p.kind.name)
-    base = Design(p, c1, g1, c2, g2, ())
+    rule = Rule.canonical(p.kind, *sol)  # float gammas that round to 1.0: the neighbour
+    base = Design(p, rule=rule, sizes=())
     sizes = tuple(float(base.power(t)) for t in p.points)
-    return Design(p, c1, g1, c2, g2, sizes)
+    return Design(p, rule=rule, sizes=sizes)
 
 
 def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
@@ -123,13 +115,13 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
         g2 = None if pd.gamma2 is None else float(pd.gamma2)
         d1, d2 = _decimal(pd.gamma1), _decimal(pd.gamma2)
         sizes = tuple(float(s) for s in pd.sizes)
-    c1, g1n, c2, g2n = _canonical(pd.c1, g1, pd.c2, g2, p.kind.name)
-    if g1n != g1:
+    rule = Rule.canonical(p.kind, pd.c1, g1, pd.c2, g2)
+    if rule.gamma1 != g1:
         d1 = "0"
-    if g2n != g2:
+    if rule.gamma2 != g2:
         d2 = "0"
-    return Design(p, c1, g1n, c2, g2n, sizes, verified=True, precision=precision,
-                  gamma1_decimal=d1, gamma2_decimal=d2, check=cc)
+    return Design(p, sizes=sizes, verified=True, precision=precision,
+                  gamma1_decimal=d1, gamma2_decimal=d2, check=cc, rule=rule)
 
 
 def _verify_task(args):

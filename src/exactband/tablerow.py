@@ -12,13 +12,14 @@ from __future__ import annotations
 import csv
 import math
 from dataclasses import dataclass, replace
-from decimal import ROUND_FLOOR, Decimal
+from decimal import Decimal
 from pathlib import Path
 
 from .decide import DecideError
 from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid, recast
 from .params import make_problem
+from .rule import threshold
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
             "c2", "gamma2")
@@ -133,7 +134,7 @@ def select_row(path, row=None, **filters) -> tuple:
 
 
 def _floor_t(gamma: float, d: int) -> int:
-    return int((Decimal(repr(gamma)) * Decimal(10) ** d).to_integral_value(rounding=ROUND_FLOOR))
+    return threshold(gamma, d)
 
 
 def _infer_digits(gammas, ts) -> int | None:

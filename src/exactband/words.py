@@ -96,7 +96,7 @@ def rule_lines(design, rule: str = "randomised", random_digits: int | None = Non
     kind, c1, c2 = design.problem.kind, design.c1, design.c2
     d = random_digits
     out = []
-    if "inside" in kind.sides:  # equivalence: reject in the middle
+    if kind.rejects_inside:  # equivalence: reject in the middle
         where = side_words(design, "inside")
         if c2 - c1 > 1:
             out.append(f"Reject H0 if {c1 + 1} <= Y <= {c2 - 1}: the data indicate "

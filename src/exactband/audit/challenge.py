@@ -18,9 +18,9 @@ import random
 
 from ..families import FAMILIES
 from ..fileio import safe_cell_text
+from ..kinds import KINDS  # every kind, in their order: upper, lower, point, band, equivalence
 from .columns import STANDARD
 
-KINDS = ("upper", "lower", "point", "band", "equivalence")
 HEADER = ("id", "regime") + STANDARD
 WIDTHS = {"id": 7, "regime": 18, "family": 17, "kind": 11, "n": 9, "alpha": 8, "low": 11,
           "high": 11, "value": 11, "dispersion": 10, "c1": 8, "gamma1": 14, "c2": 8, "gamma2": 14}
@@ -56,7 +56,7 @@ class _Grid:
         (a bounded parameter: theta + width * its distance to the nearer end)."""
         row = {"regime": regime, "family": family.name, "kind": kind, "n": n, "alpha": alpha,
                "dispersion": k if family.uses_dispersion else None}
-        if kind in ("band", "equivalence"):
+        if KINDS[kind].two_point:
             if family.bounded:
                 hi = theta + width * min(theta - family.theta_min, family.theta_max - theta)
             else:
@@ -81,7 +81,7 @@ def grid(seed: int = 0) -> list:
     for family in [f for f in FAMILIES.values() if f.discrete]:  # in registry order
         k = 2.0 if family.uses_dispersion else None
         for kind in KINDS:
-            wide = 0.5 if kind in ("band", "equivalence") else None
+            wide = 0.5 if KINDS[kind].two_point else None
             # small counts: a handful of expected events
             n = _n(family, g, 5, 20)
             g.add("small counts", family, kind, n, 0.05, g.jitter(2.5 / n), wide, k)
@@ -94,7 +94,7 @@ def grid(seed: int = 0) -> list:
             g.add("large n", family, kind, n, 0.01, g.jitter(5000 / n),
                   0.05 if wide else None, 0.5 if k else None)
             # narrow bands: the two side conditions nearly coincide
-            if kind in ("band", "equivalence"):
+            if KINDS[kind].two_point:
                 for width in (1e-2, 1e-4, 1e-6):
                     n = _n(family, g, 50, 400)
                     g.add(f"narrow band {width:g}", family, kind, n, 0.05, g.jitter(100 / n),
@@ -102,7 +102,7 @@ def grid(seed: int = 0) -> list:
         if family.bounded:  # near each end of the parameter space (a proportion: 0 and 1)
             lo, hi = family.theta_min, family.theta_max
             for kind in KINDS:
-                wide = 0.5 if kind in ("band", "equivalence") else None
+                wide = 0.5 if KINDS[kind].two_point else None
                 g.add(f"{family.symbol} near {lo:g}", family, kind, 5000, 0.05,
                       lo + g.jitter(2e-4), wide)
                 g.add(f"{family.symbol} near {hi:g}", family, kind, 500, 0.05,

@@ -12,9 +12,10 @@ import math
 from decimal import Decimal
 
 from ..errors import DesignError, ExactbandError, show
+from ..kinds import KINDS
 
-TWO_POINT = ("band", "equivalence")  # kinds that read `bands`
-ONE_POINT = ("upper", "lower", "point")  # kinds that read `values`
+TWO_POINT = tuple(n for n, k in KINDS.items() if k.two_point)  # kinds that read `bands`
+ONE_POINT = tuple(n for n, k in KINDS.items() if not k.two_point)  # kinds that read `values`
 LARGE_LIMIT = 200_000  # designs in one set with --allow-large
 
 

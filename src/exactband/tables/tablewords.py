@@ -11,9 +11,9 @@ from collections.abc import Mapping
 from decimal import Decimal
 
 from ..families import FAMILIES, get_family
+from ..kinds import KINDS
 
-KIND_TITLE = {"band": "Band test", "point": "Point test", "upper": "Upper test",
-              "lower": "Lower test", "equivalence": "Equivalence test"}
+KIND_TITLE = {name: k.title for name, k in KINDS.items()}  # e.g. "Band test" (Kind.title)
 
 
 class _FamilyWords(Mapping):
