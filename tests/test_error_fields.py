@@ -121,3 +121,16 @@ def test_audit_invalid_row_names_its_field(cli, tmp_path):
     marked = "00F4B6B6"  # xlsx_report.WRONG[0], the fill of a cell holding a wrong number
     assert fill["alpha"][1] == marked and fill["their c1"][2] == marked
     assert fill["alpha"][0] != marked and fill["alpha"][2] != marked
+
+
+def test_spec_unknown_and_missing_keys_name_the_key(tmp_path):
+    path = tmp_path / "s.toml"
+    path.write_text(SPEC.replace("BAD", "0.3") + "colour = 3\n", encoding="utf-8")
+    with pytest.raises(SpecError) as info:
+        load_spec(path)
+    assert "unknown key colour" in str(info.value)
+    assert (info.value.field, info.value.value) == ("colour", 3)
+    path.write_text(SPEC.replace("BAD", "0.3").replace('title = "t"\n', ""), encoding="utf-8")
+    with pytest.raises(SpecError) as info:
+        load_spec(path)
+    assert "missing key 'title'" in str(info.value) and info.value.field == "title"

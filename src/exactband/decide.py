@@ -109,7 +109,7 @@ def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
 
 def check_count(design: Design, y) -> int:
     """Y must be a whole number in the support of the family (0..n for binomial)."""
-    top = design.n if design.family == "binomial" else None
+    top = design.problem.family.support_max(design.n)
     allowed = ("a whole number from 0 to " + str(top) if top is not None
                else "a whole number >= 0")
     from .strict import whole

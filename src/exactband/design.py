@@ -229,7 +229,7 @@ class Design:
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
-        disp = (f", dispersion k = {number_text(self.dispersion)}"
+        disp = (f", {fam.dispersion_word} = {number_text(self.dispersion)}"
                 if self.dispersion is not None else "")
         lines.append(f"{knd.optimality} test, {fam.name} family, "
                      f"{fam.n_word} = {number_text(self.n)}"
@@ -238,8 +238,7 @@ class Design:
         note = fam.law_note(self.problem)
         if note:
             lines.append(note)
-        lines.append("Y = the total count over the sample." if fam.name != "binomial"
-                     else "Y = the number of units with the attribute among the n inspected.")
+        lines.append(f"Y = {fam.y_word}.")
         if key != "randomised":
             lines.append({"conservative": "The conservative rule (no randomisation):",
                           "digits": f"The field rule with {random_digits} random digits:"}[key])

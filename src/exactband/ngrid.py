@@ -75,16 +75,9 @@ class NGrid:
         return np.clip(np.asarray(out, dtype=float), 0.0, 1.0)
 
     def modal(self, ns, theta):
-        """Largest probability mass of Y at each n (the mode formula, checked at +-1)."""
+        """Largest probability mass of Y at each n (the float law's mode, checked at +-1)."""
         L, P = self._law(ns, theta)
-        name = self.fam.name
-        if name == "poisson":
-            mode = np.floor(P[0])
-        elif name == "binomial":
-            mode = np.minimum(np.floor((P[0] + 1.0) * P[1]), P[0])
-        else:
-            r, mean = P
-            mode = np.where(r > 1.0, np.floor((r - 1.0) * mean / r), 0.0)
+        mode = L.mode(P)
         cands = [L.pmf(np.maximum(mode + s, 0.0), P) for s in (-1.0, 0.0, 1.0)]
         return np.maximum.reduce(cands)
 

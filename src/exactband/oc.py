@@ -14,8 +14,6 @@ never a simulation.  Nothing here formats or plots.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from . import kinds as K
@@ -110,14 +108,6 @@ def rule_label(rule: str, random_digits: int) -> str:
 
 
 # -- the default theta range ----------------------------------------------------
-def _scale(fam):
-    """Map theta to an unbounded scale and back (log, or logit for a proportion)."""
-    if fam.name == "binomial":
-        return (lambda p: math.log(p) - math.log1p(-p),
-                lambda u: 1.0 / (1.0 + math.exp(-u)) if u > -700 else 0.0)
-    return math.log, lambda u: math.exp(u) if u < 700 else math.inf
-
-
 def _limit(kind, side: int) -> float:
     """Power far out on one side (-1 left, +1 right): 1 where the rule rejects, else 0."""
     rejects = K.as_kind(kind).far_rejects
@@ -127,7 +117,7 @@ def _limit(kind, side: int) -> float:
 def _edge(design: Design, start: float, side: int) -> float:
     """Theta beyond ``start`` on ``side`` where the power is within EDGE_TOL of its limit."""
     fam = design.problem.family
-    to_u, from_u = _scale(fam)
+    to_u, from_u = fam.theta_scale()  # theta onto an unbounded scale and back
     target = _limit(design.kind, side)
     u0 = to_u(start)
 

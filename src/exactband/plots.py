@@ -86,12 +86,6 @@ def _new_figure(size):
 
 
 # -- words --------------------------------------------------------------------------
-UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "probability per trial",
-              "negative-binomial": "mean count per unit"}
-AXIS_WORDS = {"poisson": "rate \u03b8", "binomial": "proportion p",
-              "negative-binomial": "mean \u03b8"}
-
-
 def pretty(text: str) -> str:
     """Typographic comparison signs for figure text."""
     return text.replace("<=", "\u2264").replace(">=", "\u2265")
@@ -99,8 +93,7 @@ def pretty(text: str) -> str:
 
 def theta_axis_label(design: Design) -> str:
     fam = design.problem.family
-    word = AXIS_WORDS.get(fam.name, fam.theta_word)
-    return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
+    return f"{fam.axis_word} ({fam.theta_unit})"
 
 
 def _g(x, exact=None, random_digits=None):
@@ -113,7 +106,7 @@ def _g(x, exact=None, random_digits=None):
 def design_caption(design: Design, random_digits: int | None = None) -> str:
     """One paragraph naming the design: family, kind, H0, n, alpha, cutoffs, gammas."""
     fam = design.problem.family
-    disp = (f", dispersion k = {number_text(design.dispersion)}"
+    disp = (f", {fam.dispersion_word} = {number_text(design.dispersion)}"
             if design.dispersion is not None else "")
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
              f"{pretty(design.hypothesis())}; {fam.n_word} = {number_text(design.n)}; "
@@ -269,9 +262,7 @@ def plan_figure(result, frame, *, size=None):
                        label=f"n_from = {number_text(result.n_from)} (every larger n meets it)")
         ax.set_ylabel(f"power at {fam.theta_word}\n= {number_text(a)}", fontsize=9)
         ax.grid(True, color="0.8", linewidth=0.5)
-    unit = "exposure units" if not fam.integer_n else ("trials" if fam.name == "binomial"
-                                                       else "units")
-    axes[-1].set_xlabel(f"{fam.n_word} ({unit}; grid step {number_text(result.step)})")
+    axes[-1].set_xlabel(f"{fam.n_word} ({fam.n_unit}; grid step {number_text(result.step)})")
     rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
@@ -284,7 +275,7 @@ def plan_figure(result, frame, *, size=None):
             f"t{i} = {t}" for i, t in enumerate(des.thresholds(d), start=1) if t is not None) + "."
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
                f"alpha = {number_text(result.alpha)}; "
-               f"alternatives ({UNIT_WORDS.get(fam.name, '')}) "
+               f"alternatives ({fam.theta_unit}) "
                f"{', '.join(number_text(x) for x in alts)}; target power {result.target:g}. "
                f"The {rule_words} at n = {number_text(result.n)}: {rule_at}")
     add_footer(foot, axes[0], caption)
@@ -324,7 +315,7 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
                            for x in group]) for group in rows[p:p + charts_per_page]]
         first = rows[p][0]
         fam = first.problem.family
-        disp = (f", dispersion k = {number_text(first.dispersion)}"
+        disp = (f", {fam.dispersion_word} = {number_text(first.dispersion)}"
                 if first.dispersion is not None else "")
         head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
                          f"{pretty(first.hypothesis())}, {fam.name} family{disp}")

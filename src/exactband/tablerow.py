@@ -56,10 +56,12 @@ def _number(where, name, text, whole=False):
     try:
         x = float(text)
     except ValueError:
-        raise DecideError(f"{where}: invalid {name} = {text}: a number is required") from None
+        raise DecideError(f"{where}: invalid {name} = {text}: a number is required",
+                          field=name, value=text, allowed="a number is required") from None
     if not math.isfinite(x) or (whole and x != math.floor(x)):
-        raise DecideError(f"{where}: invalid {name} = {text}: "
-                          f"{'a whole number' if whole else 'a finite number'} is required")
+        allowed = f"{'a whole number' if whole else 'a finite number'} is required"
+        raise DecideError(f"{where}: invalid {name} = {text}: {allowed}", field=name,
+                          value=text, allowed=allowed)
     return int(x) if whole else x
 
 
@@ -174,9 +176,11 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         if used and (c is None or g is None):
             raise DecideError(f"{where}: the {kind.name} kind needs c{name} and gamma{name}")
         if used and not 0.0 <= g < 1.0:
-            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)")
+            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)",
+                              field=f"gamma{name}", value=g, allowed="a number in [0, 1)")
         if used and c < 0:
-            raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0")
+            raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0",
+                              field=f"c{name}", value=c, allowed="a whole number >= 0")
     if not kind.uses_c1:
         c1 = g1 = None
     if not kind.uses_c2:
@@ -200,7 +204,8 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         if value is not None:
             dd = _number(where, source, str(value), whole=True)
             if not 1 <= dd <= 9:
-                raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9")
+                raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9",
+                                  field=source, value=value, allowed="a whole number 1 to 9")
             if source == "random_digits":
                 d = dd
             else:

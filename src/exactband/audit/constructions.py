@@ -15,8 +15,6 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
 
-from scipy import stats
-
 from .. import kinds as K
 from ..errors import ExactbandError
 from ..params import Problem, make_problem
@@ -25,14 +23,8 @@ STANDARD_ALPHAS = (0.1, 0.05, 0.025, 0.02, 0.01, 0.005, 0.001)
 
 
 def law(p: Problem, theta: float):
-    """scipy.stats frozen law of the total Y at theta."""
-    n, k = p.n, p.dispersion
-    if p.family.name == "poisson":
-        return stats.poisson(n * theta)
-    if p.family.name == "binomial":
-        return stats.binom(int(n), theta)
-    r, m = n * k, n * theta
-    return stats.nbinom(r, r / (r + m))
+    """scipy.stats frozen law of the total Y at theta (the family's ``scipy_law``)."""
+    return p.family.scipy_law(theta, p.n, p.dispersion)
 
 
 def lower_tail(dist, a: float) -> tuple[int, float]:

@@ -23,19 +23,13 @@ _U = np.logspace(-9, 0, 90, endpoint=False)  # relative steps towards a far limi
 
 def _spread(p: Problem, theta: float) -> float:
     """Standard error of the per-unit estimate of theta at theta."""
-    n, k = float(p.n), p.dispersion
-    if p.family.name == "binomial":
-        return math.sqrt(theta * (1 - theta) / n)
-    if p.family.name == "negative-binomial":
-        return math.sqrt((theta + theta * theta / k) / n)
-    return math.sqrt(theta / n)
+    return p.family.theta_spread(theta, float(p.n), p.dispersion)
 
 
 def _valid(p: Problem, t):
-    t = t[np.isfinite(t) & (t > 0)]
-    if p.family.name == "binomial":
-        t = t[t < 1]
-    return t
+    """The finite thetas inside the family's parameter space."""
+    t = t[np.isfinite(t)]
+    return t[p.family.theta_ok_array(t)]
 
 
 def _side(p: Problem, b: float, direction: int, stop: float | None):
@@ -44,8 +38,9 @@ def _side(p: Problem, b: float, direction: int, stop: float | None):
     ``stop`` is the width available on that side (None: the whole parameter space).
     """
     far = 10 * _spread(p, b)
-    if stop is None:
-        room = b if direction < 0 else (1.0 - b if p.family.name == "binomial" else 10 * far)
+    if stop is None:  # up to the end of the parameter space on that side, if it has one
+        end = p.family.theta_min if direction < 0 else p.family.theta_max
+        room = (b - end if direction < 0 else end - b) if math.isfinite(end) else 10 * far
     else:
         room = stop
     near = min(far, room)

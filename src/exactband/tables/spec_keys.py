@@ -150,12 +150,14 @@ def dispersion_of(v: Checker, fam, data):
     if "dispersion" not in data:
         if fam.uses_dispersion:
             raise v.fail(f"missing key 'dispersion': the {fam.name} family needs a known "
-                         "dispersion k > 0")
+                         f"{fam.dispersion_word} > 0")
         return None
     k = data["dispersion"]
     if not fam.uses_dispersion:
+        from ..families import dispersion_users
+
         raise v.bad("dispersion", k, f"the {fam.name} family takes no dispersion; leave the "
-                    "key out (it is used only by negative-binomial)")
+                    f"key out (it is used only by {dispersion_users()})")
     v.number("dispersion", k)
     try:
         return fam.check_dispersion(k)

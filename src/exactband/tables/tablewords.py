@@ -7,21 +7,31 @@ input number as printed and ``gamma_places`` the decimals of a printed gamma.
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from decimal import Decimal
 
+from ..families import FAMILIES, get_family
 from ..kinds import KINDS
 
 KIND_TITLE = {name: k.title for name, k in KINDS.items()}  # e.g. "Band test" (Kind.title)
 
-# The words the printed tables use for each family's parameter and sample size:
-# (symbol in formulas, what it is, what n is).
-WORDS = {
-    "poisson": ("rate", "the expected count per unit of exposure",
-                "the exposure (units inspected)"),
-    "binomial": ("p", "the proportion of units with the attribute",
-                 "the number of units inspected"),
-    "negative-binomial": ("mean", "the expected count per unit", "the number of units inspected"),
-}
+
+class _FamilyWords(Mapping):
+    """The words the printed tables use for a family's parameter and sample size, by the
+    family's name: (symbol in formulas, what it is, what n is), asked of the Family."""
+
+    def __getitem__(self, name: str) -> tuple[str, str, str]:
+        f = get_family(name)
+        return f.symbol, f.theta_what, f.n_what
+
+    def __iter__(self):
+        return iter(tuple(FAMILIES))
+
+    def __len__(self) -> int:
+        return len(FAMILIES)
+
+
+WORDS = _FamilyWords()
 
 
 def plain(x) -> str:

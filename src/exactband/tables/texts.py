@@ -7,6 +7,7 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
+from ..families import get_family
 from ..kinds import KINDS
 from .tablewords import KIND_TITLE, WORDS, gamma_places, plain
 
@@ -26,11 +27,7 @@ def hypothesis_at(kind: str, family: str, points) -> str:
 
 
 def y_text(family: str) -> str:
-    if family == "binomial":
-        return "Y = the number of units with the attribute among the n inspected"
-    if family == "poisson":
-        return "Y = the total count over the inspected exposure n"
-    return "Y = the total count over the n inspected units"
+    return f"Y = {get_family(family).y_inspected}"
 
 
 def _digits(d: int) -> str:
