@@ -145,7 +145,7 @@ def _nodes(lo: float, hi: float):
 
 def narrow(law, lo: float, hi: float) -> bool:
     """Whether the band [lo, hi] is narrow: width <= NARROW standard deviations of Y."""
-    return hi - lo <= NARROW * _f(law.theta_scale(lo))
+    return hi - lo <= NARROW * _f(law.theta_sd(lo))
 
 
 def _two_tail(law, alpha: float, lo: float, hi: float):

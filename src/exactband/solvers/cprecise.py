@@ -272,7 +272,7 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
     pts = kind.points(low, high, value)
     fl = family.continuous_float(n, dispersion)  # only the scales, for the digit budget
     lo_f, hi_f = float(pts[0]), float(pts[-1])
-    width = (hi_f - lo_f) / float(fl.theta_scale(lo_f)) if kind.two_point else None
+    width = (hi_f - lo_f) / float(fl.theta_sd(lo_f)) if kind.two_point else None
     ratio = abs(float(fl.mean(lo_f))) / float(fl.sd(lo_f))
     dps = working_dps(precision, kind, a_f, ratio, width)
     with mp.workdps(dps):
