@@ -20,9 +20,8 @@ import mpmath as mp
 import numpy as np
 from scipy import special as sp
 
-from ..errors import invalid
 from ..mpnum import dec
-from .base import Family, as_real
+from .continuous import ContinuousFamily
 
 _LOG_SQRT_2PI = 0.5 * math.log(2.0 * math.pi)
 
@@ -42,7 +41,7 @@ class NormalFloat:
     def sd(self, theta):
         return self.s + 0.0 * np.asarray(theta, dtype=float)
 
-    def theta_scale(self, theta):
+    def theta_sd(self, theta):
         """The change of theta worth one standard deviation of Y."""
         return self.sd(theta)
 
@@ -117,11 +116,8 @@ class NormalMp:
         return theta * self.sf(c, theta) + self.s ** 2 * self.pdf(c, theta)
 
 
-class Normal(Family):
+class Normal(ContinuousFamily):
     """Sample mean of n observations with known sigma (the dispersion)."""
-
-    discrete = False
-    float_law = None  # the discrete float law interface does not apply
 
     def theta_ok(self, theta):
         return math.isfinite(theta)
@@ -132,18 +128,12 @@ class Normal(Family):
     def theta_ok_array(self, theta):
         return np.isfinite(np.asarray(theta, dtype=float))
 
-    def check_dispersion(self, k):
-        allowed = ("the normal family needs the known standard deviation sigma of one "
-                   "observation as dispersion, a finite number > 0")
-        if k is None:
-            raise invalid("dispersion", k, allowed)
-        x = as_real("dispersion", k)
-        if not x > 0:
-            raise invalid("dispersion", k, allowed)
-        return x
+    def theta_scale(self):
+        """The mean is already on an unbounded scale: identity both ways."""
+        return (lambda t: t), (lambda u: u)
 
-    def natural_delta(self, lo, hi, n, k):
-        return (hi - lo) * math.sqrt(n) / k
+    def theta_spread(self, theta, n, k):
+        return float(k) / math.sqrt(float(n))
 
     def continuous_float(self, n, k) -> NormalFloat:
         return NormalFloat(n, k)
@@ -157,11 +147,13 @@ class Normal(Family):
 
         return stats.norm(loc=theta, scale=float(k) / math.sqrt(float(n)))
 
-    def y_words(self) -> str:
-        return "Y = the mean of the n observations."
-
 
 NORMAL = Normal(
-    name="normal", theta_word="mean", theta_unit="per observation",
-    n_word="number of observations n", integer_n=True, uses_dispersion=True,
+    name="normal", theta_word="mean", theta_unit="units of the measurement",
+    axis_word="mean \u03b8", symbol="mean", theta_what="the mean of one observation",
+    n_word="number of observations n", n_what="the number of observations",
+    n_unit="observations", y_word="the mean of the n observations",
+    y_inspected="the mean of the n observations measured", integer_n=True,
+    uses_dispersion=True, dispersion_word="standard deviation sigma of one observation",
+    theta_min=-math.inf, theta_max=math.inf,
 )
