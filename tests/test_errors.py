@@ -45,7 +45,7 @@ CASES = [
     (dict(high=None), "high", "needs low and high"),
     (dict(kind="upper"), "low", "takes only value"),
     (dict(kind="upper", low=None, high=None), "value", "needs value"),
-    (dict(family="weibull"), "family", "poisson, binomial, negative-binomial, normal"),
+    (dict(family="weibull"), "family", "poisson, binomial, negative-binomial, normal, gamma"),
     (dict(kind="two-sided"), "kind", "upper, lower, point, band, equivalence"),
 ]
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from .base import Family
 from .binomial import BINOMIAL
+from .gamma import GAMMA
 from .negbinomial import NEGBINOMIAL
 from .normal import NORMAL
 from .poisson import POISSON
@@ -17,7 +18,7 @@ def register(family: Family) -> Family:
     return add(family)
 
 
-for _family in (POISSON, BINOMIAL, NEGBINOMIAL, NORMAL):
+for _family in (POISSON, BINOMIAL, NEGBINOMIAL, NORMAL, GAMMA):
     register(_family)
 
 __all__ = ["FAMILIES", "Family", "dispersion_users", "get_family", "register"]

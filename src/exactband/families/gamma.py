@@ -28,10 +28,9 @@ import mpmath as mp
 import numpy as np
 from scipy import special as sp
 
-from ..errors import invalid
 from ..mpnum import dec
 from ._saddle import bd0, stirlerr
-from .base import Family, as_real
+from .continuous import ContinuousFamily
 from .mptable import TableTooLarge
 
 MAX_SHAPE = 1e6  # largest n k the mpmath law evaluates (series convergence)
@@ -54,7 +53,7 @@ class GammaFloat:
     def sd(self, theta):
         return math.sqrt(self.A) * np.asarray(theta, dtype=float) / self.k
 
-    def theta_scale(self, theta):
+    def theta_sd(self, theta):
         """The change of theta worth one standard deviation of Y."""
         return np.asarray(theta, dtype=float) / math.sqrt(self.A)
 
@@ -196,11 +195,8 @@ class GammaMp:
         return self.mean(theta) * self._tails(self.A + 1, self.k * c / theta)[1]
 
 
-class Gamma(Family):
+class Gamma(ContinuousFamily):
     """Total of n gamma units with known shape k (the dispersion) and mean theta."""
-
-    discrete = False
-    float_law = None  # the discrete float law interface does not apply
 
     def theta_ok(self, theta):
         return theta > 0 and math.isfinite(theta)
@@ -212,18 +208,8 @@ class Gamma(Family):
         t = np.asarray(theta, dtype=float)
         return (t > 0) & np.isfinite(t)
 
-    def check_dispersion(self, k):
-        allowed = ("the gamma family needs the known shape k of one unit as dispersion, "
-                   "a finite number > 0 (k = 1: exponential lifetimes)")
-        if k is None:
-            raise invalid("dispersion", k, allowed)
-        x = as_real("dispersion", k)
-        if not x > 0:
-            raise invalid("dispersion", k, allowed)
-        return x
-
-    def natural_delta(self, lo, hi, n, k):
-        return math.log(hi / lo) * math.sqrt(n * k)
+    def theta_spread(self, theta, n, k):
+        return theta / math.sqrt(float(n) * float(k))
 
     def continuous_float(self, n, k) -> GammaFloat:
         return GammaFloat(n, k)
@@ -237,11 +223,12 @@ class Gamma(Family):
 
         return stats.gamma(a=float(n) * float(k), scale=np.asarray(theta, dtype=float) / float(k))
 
-    def y_words(self) -> str:
-        return "Y = the total of the n units (total time on test when k = 1)."
-
 
 GAMMA = Gamma(
-    name="gamma", theta_word="mean per unit", theta_unit="per unit",
-    n_word="number of units n", integer_n=True, uses_dispersion=True,
+    name="gamma", theta_word="mean per unit", theta_unit="units of the measurement",
+    axis_word="mean \u03b8", symbol="mean", theta_what="the mean of one unit (its mean "
+    "lifetime when k = 1)", n_word="number of units n", n_what="the number of units",
+    n_unit="units", y_word="the total over the n units (total time on test when k = 1)",
+    y_inspected="the total over the n units tested", integer_n=True, uses_dispersion=True,
+    dispersion_word="shape k of one unit (k = 1: exponential)",
 )
