@@ -42,6 +42,7 @@ class ContinuousCheck:
 
     agree: bool
     cut_diff: float  # max |c_fast - c_precise| / (|c_precise| + floor)
+    max_phi_diff: float  # max over the points of P(Y lies where the two rules differ)
     fast_size_error: float  # max |E phi_fast - alpha| / alpha at the points (precise law)
     precise_size_error: float  # max |E phi_precise - alpha| / alpha
     size_tol: float  # relative to alpha
@@ -59,20 +60,23 @@ def representable(kappa: float) -> bool:
     return kappa <= KAPPA_MAX
 
 
-def compare(fast, precise, fast_sizes, alpha, floor: float, precision: int) -> ContinuousCheck:
+def compare(fast, precise, fast_sizes, alpha, floor: float, precision: int,
+            between: float = 0.0) -> ContinuousCheck:
     """``fast``: cfast.ContinuousSolution; ``precise``: cprecise.PreciseContinuous;
-    ``fast_sizes``: the fast cutoffs' sizes with the precise law (cprecise.sizes_of)."""
+    ``fast_sizes``: the fast cutoffs' sizes with the precise law (cprecise.sizes_of);
+    ``between``: the probability that Y falls where the two rules differ
+    (cprecise.mass_between), reported as the rules' phi difference."""
     with mp.workdps(precision + 15):
-        return _compare(fast, precise, fast_sizes, dec(alpha), floor, precision)
+        return _compare(fast, precise, fast_sizes, dec(alpha), floor, precision, between)
 
 
-def _compare(fast, precise, fast_sizes, a, floor, precision) -> ContinuousCheck:
+def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> ContinuousCheck:
     worst_cut = 0.0
     reason = ""
     for name, cf, cp in (("c1", fast.c1, precise.c1), ("c2", fast.c2, precise.c2)):
         if (cf is None) != (cp is None):
-            return ContinuousCheck(False, math.inf, math.inf, math.inf, 0.0, precision,
-                                   f"{name} present in one rule only")
+            return ContinuousCheck(False, math.inf, math.inf, math.inf, math.inf, 0.0,
+                                   precision, f"{name} present in one rule only")
         if cf is None:
             continue
         d = float(abs(mp.mpf(cf) - cp) / (abs(cp) + floor))
@@ -86,4 +90,5 @@ def _compare(fast, precise, fast_sizes, a, floor, precision) -> ContinuousCheck:
         reason = f"the fast rule's size is off by {fse:.3g} relative (tolerance {tol:.3g})"
     if not reason and pse > 10.0 ** -precision:
         reason = f"the precise rule's size is off by {pse:.3g} relative"
-    return ContinuousCheck(not reason, worst_cut, fse, pse, tol, precision, reason)
+    return ContinuousCheck(not reason, worst_cut, float(between), fse, pse, tol, precision,
+                           reason)

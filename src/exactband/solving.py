@@ -136,7 +136,9 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
     sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, fast_sol.c1, fast_sol.c2,
                               p.points, precision)
     floor = float(law.sd(p.points[0])) if law.floor_scale else 0.0
-    cc = ccheck.compare(fast_sol, pd, sizes, p.alpha, floor, precision)
+    between = cprecise.mass_between(p.family, p.n, p.dispersion, (fast_sol.c1, fast_sol.c2),
+                                    (pd.c1, pd.c2), p.points, precision)
+    cc = ccheck.compare(fast_sol, pd, sizes, p.alpha, floor, precision, between)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
     with mp.workdps(pd.dps):

@@ -302,3 +302,21 @@ def sizes_of(family, kind, n, dispersion, c1, c2, points, precision: int = 50) -
         cc1 = None if c1 is None else mp.mpf(c1)
         cc2 = None if c2 is None else mp.mpf(c2)
         return tuple(_size(law, kind, cc1, cc2, dec(t)) for t in points)
+
+
+def mass_between(family, n, dispersion, cuts_a, cuts_b, points, precision: int = 50) -> float:
+    """max over the points of sum_i P_theta(Y between a_i and b_i): where two rules with real
+    cutoffs (c1, c2) differ as test functions (mpmath law)."""
+    with mp.workdps(int(precision) + GUARD_DIGITS):
+        law = family.continuous_mp(n, dispersion)
+        worst = mp.mpf(0)
+        for t in points:
+            t = dec(t)
+            tot = mp.mpf(0)
+            for a, b in zip(cuts_a, cuts_b):
+                if a is None or b is None:
+                    continue
+                lo, hi = sorted((mp.mpf(a), mp.mpf(b)))
+                tot += abs(law.cdf(hi, t) - law.cdf(lo, t))
+            worst = max(worst, tot)
+        return float(worst)
