@@ -299,8 +299,8 @@ def sizes_of(family, kind, n, dispersion, c1, c2, points, precision: int = 50) -
     kind = as_kind(kind)
     with mp.workdps(int(precision) + GUARD_DIGITS):
         law = family.continuous_mp(n, dispersion)
-        cc1 = None if c1 is None else mp.mpf(c1)
-        cc2 = None if c2 is None else mp.mpf(c2)
+        cc1 = None if c1 is None else mp.mpf(c1 if isinstance(c1, float) else str(c1))
+        cc2 = None if c2 is None else mp.mpf(c2 if isinstance(c2, float) else str(c2))
         return tuple(_size(law, kind, cc1, cc2, dec(t)) for t in points)
 
 
