@@ -156,3 +156,51 @@ def test_designs_dataframe_and_bad_input():
         exactband.design("normal", "upper", n=5, alpha=0.05, value=1.0)
     with pytest.raises(DesignError, match="gamma mean"):
         exactband.design("gamma", "upper", n=5, alpha=0.05, value=-1.0, dispersion=1.0)
+
+
+def test_decide_from_a_table_row(sets, tmp_path):
+    from exactband.tableverify import verified_table_rule
+
+    path = sets["gamma"] / "gamma.csv"
+    rows = _rows(path)
+    i = next(j for j, r in enumerate(rows) if r["kind"] == "band")
+    tr = verified_table_rule(path, row=i + 1)
+    shown = Decimal(rows[i]["printed_c1"])
+    assert Decimal(repr(tr.design.c1)) == shown  # the printed cutoff is the one applied
+    assert decide(tr.design, float(shown) * 0.999).reject
+    assert not decide(tr.design, float(shown) * 1.001).reject
+    # a printed cutoff changed after publication is refused
+    rows[i]["printed_c1"] = f"{shown + Decimal('0.01')}"
+    with open(tmp_path / "gamma.csv", "w", newline="", encoding="utf-8") as fh:
+        w = csv.DictWriter(fh, fieldnames=list(rows[0]))
+        w.writeheader()
+        w.writerows(rows)
+    with pytest.raises(DecideError, match="printed_c1"):
+        verified_table_rule(tmp_path / "gamma.csv", row=i + 1)
+
+
+def test_plan_normal_point_matches_the_closed_form():
+    """Smallest n with power >= 0.8 at mean 9 and 11 (value 10, sigma 2): the power of the
+    two-sided normal rule is Phi(sqrt(n)/2 - z) + Phi(-sqrt(n)/2 - z) (scipy.stats.norm)."""
+    res = exactband.plan("normal", "point", alpha=0.05, value=10.0, dispersion=2.0,
+                         alternatives=[9.0, 11.0], target=0.8)
+    z = stats.norm.isf(0.025)
+
+    def power(n):
+        return stats.norm.cdf(math.sqrt(n) / 2 - z) + stats.norm.cdf(-math.sqrt(n) / 2 - z)
+
+    want = next(n for n in range(1, 200) if power(n) >= 0.8)
+    assert res.n == want
+
+
+def test_cli_design_and_decide(cli):
+    code, out, err = cli("design", "--family", "gamma", "--kind", "lower", "--n", "6",
+                         "--alpha", "0.05", "--value", "2", "--dispersion", "1")
+    assert code == 0 and "gamma1" not in out and "Reject H0 if Y < " in out
+    code, out, err = cli("decide", "--family", "normal", "--kind", "upper", "--n", "4",
+                         "--alpha", "0.05", "--value", "0", "--dispersion", "1", "--y", "0.9")
+    assert code == 0 and "REJECT H0" in out and "never randomised" in out
+    code, out, err = cli("decide", "--family", "normal", "--kind", "upper", "--n", "4",
+                         "--alpha", "0.05", "--value", "0", "--dispersion", "1", "--y", "0.9",
+                         "--digits-read", "123")
+    assert code == 2 and err.count("\n") == 1 and "digits-read" in err

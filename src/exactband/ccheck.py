@@ -50,6 +50,15 @@ class ContinuousCheck:
     reason: str = ""
 
 
+    def summary(self) -> str:
+        state = "agree" if self.agree else "DISAGREE"
+        return (f"solvers {state}: max relative cutoff difference = {self.cut_diff:.2e} "
+                f"(tolerance {CUT_TOL:.1e}); probability between the two rules' cutoffs "
+                f"{self.max_phi_diff:.2e}; fast-solver size error {self.fast_size_error:.2e} "
+                f"x alpha (tolerance {self.size_tol:.1e}); precise size error "
+                f"{self.precise_size_error:.1e} x alpha")
+
+
 def size_tolerance(kappa: float) -> float:
     """Tolerance on the fast rule's sizes, relative to alpha (see the module text)."""
     return min(SIZE_TOL, 1e-15 + kappa * CUT_TOL)

@@ -59,8 +59,9 @@ class Decision:
 
     def describe(self) -> str:
         d = self.design
+        rule = self.rule if d.problem.family.discrete else "real cutoffs, no randomisation"
         lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {number_text(d.n)}, "
-                 f"alpha = {number_text(d.alpha)}; rule: {self.rule}.",
+                 f"alpha = {number_text(d.alpha)}; rule: {rule}.",
                  f"Observed Y = {self.y}: {self.region}.", self.reason]
         if self.digits_read is not None:
             lines.append(f"Random digits used: {self.digits_read} ({self.digits_source}); "
@@ -145,6 +146,8 @@ def check_observation(design: Design, y) -> float:
 
 def _decide_real(design: Design, y, mode, digits_read, random_digits, thresholds) -> Decision:
     """Decision for a continuous Y: real cutoffs, never randomised (no digits)."""
+    if thresholds is not None and all(t is None for t in thresholds):
+        thresholds = None  # a table row of real cutoffs prints no thresholds
     for name, v in (("digits-read", digits_read), ("random-digits", random_digits),
                     ("thresholds", thresholds)):
         if v is not None:
