@@ -27,7 +27,7 @@ import mpmath as mp
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
 
-from ..families.mptable import MpTable
+from . import precise_tails
 from ..mpnum import dec, dec_complement
 
 GUARD_DIGITS = 15
@@ -94,7 +94,7 @@ def _table(family, theta, n, k, precision, alpha, moments=False):
         if hit is not None and hit._prec >= prec and hit.thr <= thr:
             _CACHE.move_to_end(kk)
             return hit
-    T = MpTable(family.mp_law(theta, n, k), thr, moments=moments)
+    T = precise_tails.table_for(family.mp_law(theta, n, k), thr, moments)
     old = _CACHE.pop((key, moments), None)
     _SIZE[0] += T.nbytes - (old.nbytes if old is not None else 0)
     _CACHE[(key, moments)] = T
