@@ -21,10 +21,11 @@ demo: install
 	$(PY) -m exactband.demo tables/demo.toml output/demo
 
 test: install
+	$(PY) -m ruff check src tests bench
 	$(PY) -m pytest
 
 bench: install
 	$(PY) bench/run.py
 
 clean:
-	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis
+	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis .ruff_cache

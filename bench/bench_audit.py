@@ -20,7 +20,6 @@ before (14-50 ms a row).
 
 from __future__ import annotations
 
-import resource
 import statistics
 import subprocess
 import sys

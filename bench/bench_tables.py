@@ -127,7 +127,13 @@ def breakdown(spec_path: Path, out: Path) -> None:
     """Time the stages of generate() one by one, in this process (verification on all cores)."""
     from exactband import api
     from exactband.tables import grid
-    from exactband.tables.build import TableSet, derive_all, random_digits, summarise, DIGITS_PER_PAGE
+    from exactband.tables.build import (
+        DIGITS_PER_PAGE,
+        TableSet,
+        derive_all,
+        random_digits,
+        summarise,
+    )
     from exactband.tables.publish import render
     from exactband.tables.spec import load_spec
 

@@ -5,8 +5,8 @@ from __future__ import annotations
 import csv
 import math
 
-from exactband.audit.challenge import FAMILIES, KINDS, grid
 from exactband.api import designs
+from exactband.audit.challenge import FAMILIES, KINDS, grid
 
 
 def test_grid_covers_the_hard_regimes():

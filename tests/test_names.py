@@ -1,6 +1,7 @@
 """One name per meaning: precision, random_digits, digits_read (and their old aliases)."""
 
 import json
+
 import pytest
 
 import exactband

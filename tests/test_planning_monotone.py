@@ -20,8 +20,8 @@ from hypothesis import strategies as st
 import exactband
 from exactband import kinds as K
 from exactband.families import get_family
-from exactband.params import make_problem
 from exactband.ngrid import NGrid as _Grid
+from exactband.params import make_problem
 
 TOL = 1e-12
 FAMILIES = ("poisson", "binomial", "negative-binomial")

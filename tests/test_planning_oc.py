@@ -8,10 +8,15 @@ from scipy import stats
 
 import exactband
 from exactband import kinds as K
-from exactband.oc import (PlanningError, default_thetas, operating_characteristics,
-                          power_sheet, rule_designs)
-from exactband.params import make_problem
 from exactband.ngrid import NGrid as _Grid
+from exactband.oc import (
+    PlanningError,
+    default_thetas,
+    operating_characteristics,
+    power_sheet,
+    rule_designs,
+)
+from exactband.params import make_problem
 
 # (family, kind, n, hypothesis, dispersion): one design of every family and kind
 CASES = [

@@ -13,7 +13,8 @@ import numpy as np
 import pytest
 from scipy import stats
 
-from exactband import api, kinds as K
+from exactband import api
+from exactband import kinds as K
 from exactband.cli import main
 from exactband.crosscheck import PHI_TOL, phi_distance
 from exactband.errors import DesignError

@@ -33,6 +33,7 @@ from exactband.oc import rule_designs
 from exactband.tables.build import build
 from exactband.tables.spec import load_spec
 from exactband.tables.spec_oc import chart_rows, curve_pages
+
 from .tables_support import BINOMIAL_OC, OC, SMALL, built, write_spec
 
 SETS = {"oc": OC, "binoc": BINOMIAL_OC}

@@ -28,6 +28,7 @@ from exactband.crosscheck import phi_distance
 from exactband.families import get_family
 from exactband.solvers import precise
 from exactband.tables.write_csv import COLUMNS, CONTRACT
+
 from .tables_support import BINOMIAL, NEGBIN, SMALL, built
 
 SETS = {"small": SMALL, "binom": BINOMIAL, "negbin": NEGBIN}

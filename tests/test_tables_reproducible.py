@@ -8,7 +8,6 @@ import hashlib
 import json
 import shutil
 import time
-from pathlib import Path
 
 import openpyxl
 import pytest
@@ -19,6 +18,7 @@ from exactband.errors import VerificationError
 from exactband.tables import build as build_mod
 from exactband.tables import cache as cache_mod
 from exactband.tables import generate
+
 from .tables_support import FINAL, OC, SMALL, built, set_files, write_spec
 
 

@@ -25,6 +25,7 @@ from exactband.tables import build as build_mod
 from exactband.tables import check_set, generate
 from exactband.tables.publish import folder_lock
 from exactband.tableverify import verified_table_rule
+
 from .tables_support import FINAL, SMALL, built, set_files, write_spec
 
 

@@ -6,6 +6,7 @@ import pytest
 
 from exactband.cli import main
 from exactband.tables.spec import GRID_LIMIT, LARGE_LIMIT, SpecError, load_spec
+
 from .tables_support import write_spec
 
 BASE = {

@@ -9,9 +9,7 @@ printed sheets' shading by band and digits grouped as read.
 from __future__ import annotations
 
 import json
-import math
 import re
-from dataclasses import replace
 from decimal import ROUND_FLOOR, Decimal, localcontext
 from pathlib import Path
 
@@ -309,8 +307,8 @@ def test_sheets_shade_by_band_and_group_digits(ocset):
 def test_pdf_zebra_by_band_and_cover_sides(ocset):
     from pypdf import PdfReader
 
-    from exactband.tables.write_pdf import _shaded_runs, band_index
     from exactband.tables.layout import Section
+    from exactband.tables.write_pdf import _shaded_runs, band_index
 
     sec = Section(1, "band", 0.05, "s", "h", "H0", "r", (), tuple(range(12)), (0, 5, 9))
     assert band_index(sec) == [0] * 5 + [1] * 4 + [2] * 3

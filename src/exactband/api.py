@@ -6,7 +6,6 @@ solvers.precise -> crosscheck -> Design.  Nothing here formats output.
 
 from __future__ import annotations
 
-
 import mpmath as mp
 import numpy as np
 

@@ -81,8 +81,8 @@ def safe_cell_text(text) -> str:
     """User text for a spreadsheet/CSV cell that can never be read as a formula.
 
     Text starting with = + - @ (or a tab / carriage return) gets a leading
-    apostrophe-free guard: a single quote character is prefixed, the common
-    practice of spreadsheet tools for literal text.
+    apostrophe (a single quote character is prefixed), the common practice of
+    spreadsheet tools for literal text.
     """
     s = "" if text is None else str(text)
     return "'" + s if s.startswith(_FORMULA_START) else s

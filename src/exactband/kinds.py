@@ -22,7 +22,6 @@ from dataclasses import dataclass
 import numpy as np
 
 
-
 @dataclass(frozen=True)
 class Kind:
     name: str

@@ -1,4 +1,4 @@
-"""Ordered map over a process pool, with progress callbacks (used by the slow checks).
+"""Ordered map over a process pool, with progress callbacks, and the number of workers.
 
 One rule for the number of worker processes everywhere (API and every command):
 the default is every core this process may run on (``os.sched_getaffinity``),

@@ -10,7 +10,6 @@ from .families import Family, get_family
 from .families.base import as_real
 from .kinds import Kind, get_kind
 
-
 # Supported range of alpha (inside (0, 1)).  Below 1e-100 tail probabilities approach
 # the double-precision underflow; an equivalence design is solved through its
 # complement of size 1 - alpha, which a double resolves only for alpha >= 1e-12.

@@ -46,9 +46,18 @@ from .api import design as make_design
 from .design import _num
 from .errors import ExactbandError, VerificationError
 from .families.base import as_real
-from .oc import (DEFAULT_RANDOM_DIGITS, PlanningError, _error, check_random_digits, check_rule,
-                 operating_characteristics, parse_number_list, power_sheet, rule_designs)
 from .ngrid import NGrid, first_k
+from .oc import (
+    DEFAULT_RANDOM_DIGITS,
+    PlanningError,
+    _error,
+    check_random_digits,
+    check_rule,
+    operating_characteristics,
+    parse_number_list,
+    power_sheet,
+    rule_designs,
+)
 from .params import make_problem
 
 DEFAULT_N_MAX = 1e7

@@ -13,7 +13,6 @@ from __future__ import annotations
 import io
 from pathlib import Path
 
-
 from .design import DEFAULT_RANDOM_DIGITS, Design, _num
 from .figfooter import add_footer
 from .oc import _error, one_hypothesis, operating_characteristics, rule_label

@@ -17,7 +17,7 @@ others are listed as also consistent):
    is judged, so a row shifted by one n is found) or alpha (alpha/2, 2 alpha,
    the usual levels 0.1 ... 0.001).
 
-Otherwise: "no known construction".  ``file_level`` then looks across the
+Otherwise: "no known construction".  ``FileLevel`` then looks across the
 findings for a file-wide cause (gamma or cutoff columns swapped), said once.
 """
 
@@ -166,10 +166,3 @@ class FileLevel:
                            "rule with them exchanged")
         return out
 
-
-def file_level(verdicts) -> list:
-    """File-wide diagnoses (columns swapped) from the row diagnoses, said once at the top."""
-    acc = FileLevel()
-    for v in verdicts:
-        acc.add(v)
-    return acc.result()

@@ -111,14 +111,3 @@ def _crosses_null(p: Problem, lo: float, hi: float) -> bool:
     if k == "lower":
         return hi >= p.value
     return lo <= p.low or hi >= p.high  # equivalence: the null lies outside (low, high)
-
-
-def slack_at(p: Problem, rule: tuple, tol: tuple, theta: float) -> float:
-    """How far the power at theta can move when the printed gammas move within tolerance."""
-    L = p.family.float_law
-    P = L.make(np.array([theta]), p.n, p.dispersion)
-    out = 1e-9 * p.alpha + 1e-15
-    for c, t in ((rule[0], tol[0]), (rule[2], tol[1])):
-        if c is not None and t is not None:
-            out += t * float(L.pmf(np.array([float(c)]), P)[0])
-    return out

@@ -24,8 +24,17 @@ import textwrap
 from pathlib import Path
 
 from ..fileio import atomic_open, atomic_write_bytes
-from .reports import (COLUMNS, CSV_NAME, HEADERS, JSON_NAME, XLSX_NAME, _csv_text, _json_record,
-                      json_head, record)
+from .reports import (
+    COLUMNS,
+    CSV_NAME,
+    HEADERS,
+    JSON_NAME,
+    XLSX_NAME,
+    _csv_text,
+    _json_record,
+    json_head,
+    record,
+)
 
 XLSX_ROWS = 20_000  # rows listed in the XLSX report (the default --max-rows)
 _EMPTY = '"rows_with_findings": []\n}'

@@ -17,8 +17,8 @@ import re
 import zipfile
 from pathlib import Path
 
-from .errors import AuditInputError
 from . import readers as R  # limits read at run time (tests lower them)
+from .errors import AuditInputError
 from .readers import Source
 
 MAX_COLUMN = 16_384  # XFD, the last spreadsheet column

@@ -80,7 +80,7 @@ def _int(name, text, lo):
 
 def options(args):
     """Options for exactband.audit from the parsed arguments."""
-    from ..audit import AuditInputError, Options
+    from ..audit import Options
     from ..audit.columns import parse_map_flags, read_mapping_file
 
     mapping, consts = ({}, {}) if not args.mapping else read_mapping_file(args.mapping)

@@ -35,9 +35,8 @@ def run(args) -> int:
 
     from ..audit import AuditInputError
     from ..audit import challenge as ch
-    from ..fileio import atomic_write_bytes
-
     from ..errors import ExactbandError
+    from ..fileio import atomic_write_bytes
     from ..strict import whole
 
     try:

@@ -53,9 +53,9 @@ def add_parser(sub) -> None:
 
 
 def _powers(result, values) -> str:
-    from ..design import _num
-
     import math
+
+    from ..design import _num
 
     word = result.design.problem.family.theta_word
     # truncated, not rounded: a power shown as 0.900000 is never below a target of 0.9

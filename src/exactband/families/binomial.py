@@ -6,13 +6,12 @@ import mpmath as mp
 import numpy as np
 
 from ..mpnum import dec, dec_complement, frac
-
-_ZERO = mp.mpf(0)
-_ONE = mp.mpf(1)
-
 from . import mptable as mt
 from .base import Family
 from .floatlaw import BinomialLaw
+
+_ZERO = mp.mpf(0)
+_ONE = mp.mpf(1)
 
 
 class BinomialMp:

@@ -13,12 +13,11 @@ import mpmath as mp
 import numpy as np
 
 from ..mpnum import dec, frac
-
-_ZERO = mp.mpf(0)
-
 from . import mptable as mt
 from .base import Family
 from .floatlaw import NegBinomialLaw
+
+_ZERO = mp.mpf(0)
 
 
 class NegBinomialMp:

@@ -8,7 +8,6 @@ import mpmath as mp
 import numpy as np
 
 from ..mpnum import dec, frac
-
 from . import mptable as mt
 from .base import Family
 from .floatlaw import PoissonLaw

@@ -20,15 +20,16 @@ Reference: E. L. Lehmann and J. P. Romano, Testing Statistical Hypotheses,
 from __future__ import annotations
 
 import math
+from collections import OrderedDict
 from dataclasses import dataclass, field
 
 import mpmath as mp
 
+from ..mpnum import dec, dec_complement
+from . import precise_tails
+
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
-
-from . import precise_tails
-from ..mpnum import dec, dec_complement
 
 GUARD_DIGITS = 15
 
@@ -68,7 +69,7 @@ def working_dps(precision: int, kind: str, low=None, high=None, alpha=None) -> i
     return int(precision) + GUARD_DIGITS + extra
 
 
-_CACHE: "OrderedDict" = None
+_CACHE: OrderedDict | None = None
 _SIZE = [0]  # bytes held by the cache
 CACHE_BYTES = 64 * 2**20  # tables kept for reuse across designs (same law, other alpha/kind)
 
@@ -82,7 +83,6 @@ def _table(family, theta, n, k, precision, alpha, moments=False):
     needed.
     """
     global _CACHE
-    from collections import OrderedDict
 
     if _CACHE is None:
         _CACHE = OrderedDict()

@@ -19,7 +19,6 @@ import os
 import signal
 
 ENV = "EXACTBAND_STOP_AT"
-POINTS = ("chunk-saved", "inside-write", "staged", "manifest-removed", "moved", "published")
 _seen: dict = {}
 
 

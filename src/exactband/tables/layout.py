@@ -151,7 +151,7 @@ def _cells(row, cols) -> tuple:
 
 def build_sections(tset) -> list:
     """The printed sections of a TableSet, in order."""
-    from .texts import rule_text, hypothesis_text
+    from .texts import hypothesis_text, rule_text
 
     spec = tset.spec
     out = []

@@ -156,8 +156,13 @@ def merge_charts(spec, document: bytes, slots) -> bytes:
     if not slots:
         return document
     from pypdf import PdfReader, PdfWriter
-    from pypdf.generic import (ArrayObject, DecodedStreamObject, DictionaryObject, FloatObject,
-                               NameObject)
+    from pypdf.generic import (
+        ArrayObject,
+        DecodedStreamObject,
+        DictionaryObject,
+        FloatObject,
+        NameObject,
+    )
 
     writer = PdfWriter(clone_from=PdfReader(io.BytesIO(document)))
     for k, slot in enumerate(slots, start=1):

@@ -24,8 +24,17 @@ from ..design import DEFAULT_RANDOM_DIGITS
 from ..errors import show
 from ..families import FAMILIES, get_family
 from ..kinds import KINDS
-from .spec_keys import (LARGE_LIMIT, TWO_POINT, Checker, SpecError, alpha_check,
-                        dispersion_of, hypotheses, n_values, show_value)
+from .spec_keys import (
+    LARGE_LIMIT,
+    TWO_POINT,
+    Checker,
+    SpecError,
+    alpha_check,
+    dispersion_of,
+    hypotheses,
+    n_values,
+    show_value,
+)
 from .spec_oc import MAX_PAGES, OC_KEYS, OcSpec, curve_pages, parse_oc
 
 GRID_LIMIT = 20_000  # designs in one set without --allow-large

@@ -220,9 +220,9 @@ def legend(spec) -> list:
 
 def provenance_rows(tset, csv_sha256: str) -> list:
     """(label, value) pairs of the provenance page and sheet."""
+    from ..crosscheck import PHI_TOL, SIZE_TOL
     from .build import DIGITS_PER_PAGE
     from .versions import versions
-    from ..crosscheck import PHI_TOL, SIZE_TOL
 
     spec, v = tset.spec, tset.verification
     rows = [("Title", spec.title), ("Spec file", spec.source), ("Spec SHA-256", spec.sha256)]

@@ -23,9 +23,19 @@ from reportlab.lib.styles import ParagraphStyle
 from reportlab.lib.units import mm
 from reportlab.pdfbase.pdfmetrics import stringWidth
 from reportlab.pdfgen import canvas as rl_canvas
-from reportlab.platypus import (BaseDocTemplate, CondPageBreak, Flowable, Frame,
-                                NextPageTemplate, PageBreak, PageTemplate, Paragraph, Spacer,
-                                Table, TableStyle)
+from reportlab.platypus import (
+    BaseDocTemplate,
+    CondPageBreak,
+    Flowable,
+    Frame,
+    NextPageTemplate,
+    PageBreak,
+    PageTemplate,
+    Paragraph,
+    Spacer,
+    Table,
+    TableStyle,
+)
 
 from .pdf_oc import contents_rows as oc_contents_rows
 from .pdf_oc import merge_charts, oc_flowables
@@ -368,7 +378,8 @@ def _provenance(rows, pages, geo) -> list:
     return out
 
 
-def _build(tset, sections, blocks, provenance, pages, draft=False) -> bytes:
+def _build(tset, sections, blocks, provenance, pages, draft=False) -> tuple:
+    """(the document's bytes, the OC chart slots to fill); ``pages`` collects where things land."""
     spec = tset.spec
     geo = _Geometry(spec.paper)
     buf = io.BytesIO()

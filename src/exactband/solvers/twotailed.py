@@ -1,0 +1,200 @@
+"""The search of the fast solver for two-tailed kinds (band, point; equivalence via its complement).
+
+Tail-split parameterisation: a left tail of mass ``a`` and a right tail of mass
+``r = s - a`` at the first constraint point give cutoffs c1(a), c2(r) and
+gammas; the second side condition Q(a) (``conditions``) is then strictly
+decreasing in ``a`` (monotone likelihood ratio) and piecewise linear.  On the
+linear piece that holds the current point, the 2x2 linear system for the gammas
+gives the exact root of that piece (a Newton step); if the solution has both
+gammas in [0, 1] it is the answer, otherwise it proposes the next point,
+safeguarded by a bracket and bisection.  No cutoff pair is ever enumerated.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from .search import BIG, first_true, sub
+
+GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
+_MAX_ITER = 200
+MIDDLE_SUM = 64  # middle masses of at most this many points are summed term by term
+
+
+class SolverFailure(RuntimeError):
+    """The fast solver did not converge for some designs (never silent)."""
+
+
+def initial_split(L, Pl, Ph, s):
+    """Starting left-tail mass a at the first point (only a start; errors are fixed later).
+
+    Point design: half the size.  Band: a few fixed-point rounds of "left tail at
+    low, right tail at high" find the split of a wide band.  Equivalence
+    (complement of size 1 - alpha): the rejection window sits where the
+    likelihood ratio f_high/f_low crosses 1.
+    """
+    a = s / 2.0
+    if Ph is None:
+        return a
+    if np.all(s > 0.5):
+        dt = L.t(Ph) - L.t(Pl)
+        l0, l1 = L.logratio(0.0, Pl, dt), L.logratio(1.0, Pl, dt)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            ystar = np.floor(-l0 / (l1 - l0))
+        ystar = np.clip(np.nan_to_num(ystar, nan=0.0), 0.0, np.minimum(L.supmax(Pl), BIG))
+        alpha = 1.0 - s
+        return np.clip(L.cdf(ystar, Pl) - 0.5 * alpha, 0.0, s)
+    for _ in range(3):
+        c1 = L.quantile_guess(a, Pl)
+        ah = L.cdf(c1 - 1.0, Ph)
+        c2 = L.quantile_guess(1.0 - np.maximum(s - ah, 1e-300), Ph)
+        a = s - L.sf(c2, Pl)
+    return np.clip(a, 0.0, s)
+
+
+def _window_sums(L, P, second, c1, c2, rows):
+    """Mass and second-condition sum over c1..c2 at P, term by term, for `rows`.
+
+    Used where the acceptance window is narrow (at most MIDDLE_SUM + 1 points):
+    there the tails hold almost all the mass and their differences lose the
+    window's digits, while the window's own terms keep them.
+    """
+    j = np.nonzero(rows)[0]
+    Pj, a, b = sub(P, j), c1[j], c2[j]
+    sub2 = second.subset(j)
+    mass = np.zeros(j.size)
+    dsum = np.zeros(j.size)
+    k = np.arange(j.size)  # rows whose window reaches a + i
+    for i in range(MIDDLE_SUM + 1):
+        k = k[a[k] + i <= b[k]]
+        if k.size == 0:
+            break
+        y = a[k] + i
+        fy = L.pmf(y, sub(Pj, k))
+        mass[k] += fy
+        dsum[k] += sub2.subset(k).dpmf(y, fy)
+    return j, mass, dsum
+
+
+def two_tailed(L, Pl, Pr, second, s, a0, b=None):
+    """Band-form test of size s (left tail at Pl, right tail at Pr) with condition `second`.
+
+    ``b`` is 1 - s formed exactly (from the decimal alpha); where s > 1/2 and the
+    acceptance window c1..c2 is narrow, the linear system's right sides are then
+    taken from the window's own terms (mass - b and the summed condition), not
+    from differences of tails near 1/2 that have lost the window's digits (alpha
+    within ~1e-11 of 1 at a large mean failed to converge before).
+
+    The state is the left-tail mass ``a`` at the first point.  The right tail is
+    fixed by its own mass at ``Pr``: for a band, the size at ``high`` is then exact
+    by construction and the residual is the size at ``low`` (a wide band's right
+    tail at ``low`` may lie far below the smallest double and never needs to be
+    represented); for the point design ``Pr`` is the point itself.  The second
+    condition, evaluated as a difference quotient, decreases in ``a``.
+
+    Each round takes, in order of preference: the root of the current linear
+    piece (a Newton step) while it keeps shrinking |Q|; a jump over a flat piece
+    where the two tails end at one point; an Illinois regula falsi step; bisection.
+    """
+    size = s.shape[0]
+    same = Pr is Pl
+    out = [np.full(size, np.nan) for _ in range(4)]
+    st = {
+        "idx": np.arange(size), "s": s, "a": np.array(a0, float),
+        "alo": np.zeros(size), "ahi": s.copy(),
+        "qlo": np.full(size, np.nan), "qhi": np.full(size, np.nan),
+        "qprev": np.full(size, np.inf), "side": np.zeros(size),
+        "c1": L.quantile_guess(a0, Pl), "c2": L.quantile_guess(1.0 - (s - np.asarray(a0)), Pr),
+        "zero": np.zeros(size), "top": np.minimum(L.supmax(Pl), BIG),
+        "b": None if b is None else np.asarray(b, float),
+    }
+    lo_ok, hi_ok = -GAMMA_TOL, 1.0 + GAMMA_TOL
+    for _ in range(_MAX_ITER):
+        a, s_ = st["a"], st["s"]
+        P, R = Pl, Pr
+        c1 = first_true(lambda c, j: L.cdf(c, sub(P, j)) > a[j], st["c1"], st["zero"], st["top"])
+        Fm, f1 = L.cdf(c1 - 1.0, P), L.pmf(c1, P)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            g1 = (a - Fm) / f1
+        if same:
+            rh = s_ - a
+        else:
+            rh = s_ - (L.cdf(c1 - 1.0, R) + g1 * L.pmf(c1, R))
+        c2 = first_true(lambda c, j: L.sf(c, sub(R, j)) <= rh[j], st["c2"], st["zero"], st["top"])
+        S2r, f2r = L.sf(c2, R), L.pmf(c2, R)
+        S2, f2 = (S2r, f2r) if same else (L.sf(c2, P), L.pmf(c2, P))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            g2 = (rh - S2r) / f2r
+        d1, d2 = second.dpmf(c1, f1), second.dpmf(c2, f2)
+        R2 = second.dcdf(c2) - second.dcdf(c1 - 1.0)
+        R1 = (a - Fm) + ((s_ - a) - S2)
+        if st["b"] is not None:
+            narrow = (s_ > 0.5) & (c2 - c1 <= MIDDLE_SUM) & (c2 >= c1)
+            if np.any(narrow):
+                j, mass, dsum = _window_sums(L, P, second, c1, c2, narrow)
+                R1 = R1.copy()
+                R2 = R2.copy()
+                R1[j] = mass - st["b"][j]
+                R2[j] = dsum
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            det = f1 * d2 - f2 * d1
+            g1n = (R1 * d2 - f2 * R2) / det
+            g2n = (f1 * R2 - d1 * R1) / det
+            Q = g1 * d1 + g2 * d2 - R2
+        done = ((c1 < c2) & np.isfinite(g1n) & np.isfinite(g2n)
+                & (g1n >= lo_ok) & (g1n <= hi_ok) & (g2n >= lo_ok) & (g2n <= hi_ok))
+        if np.any(done):
+            k = st["idx"][done]
+            out[0][k], out[2][k] = c1[done], c2[done]
+            out[1][k] = np.clip(g1n[done], 0.0, 1.0)
+            out[3][k] = np.clip(g2n[done], 0.0, 1.0)
+        keep = ~done
+        if not np.any(keep):
+            break
+        up = Q > 0  # the root lies at a larger left tail
+        alo = np.where(up, a, st["alo"])
+        ahi = np.where(up, st["ahi"], a)
+        qlo = np.where(up, Q, st["qlo"])
+        qhi = np.where(up, st["qhi"], Q)
+        # Illinois: an end kept twice in a row has its Q halved
+        qhi = np.where(up & (st["side"] == 1.0), 0.5 * qhi, qhi)
+        qlo = np.where(~up & (st["side"] == -1.0), 0.5 * qlo, qlo)
+        # Newton: the root of the current linear piece
+        an = Fm + g1n * f1
+        newton = (np.abs(Q) < 0.5 * st["qprev"]) & np.isfinite(an) & (an > alo) & (an < ahi)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = qlo / (qlo - qhi)
+        rf = np.isfinite(t) & (t > 0) & (t < 1)
+        am = np.where(rf, alo + t * (ahi - alo), 0.5 * (alo + ahi))
+        meet = (c1 >= c2) & ~newton
+        if np.any(meet):
+            ja = _jump(L, P, R, c1, s_, up)
+            am = np.where(meet & (ja > alo) & (ja < ahi), ja, am)
+        st.update(a=np.where(newton, an, am), alo=alo, ahi=ahi, qlo=qlo, qhi=qhi,
+                  qprev=np.abs(Q), side=np.where(up, 1.0, -1.0), c1=c1, c2=c2)
+        sel = np.nonzero(keep)[0]
+        st = {key: (None if val is None else val[sel]) for key, val in st.items()}
+        Pl = sub(Pl, sel)
+        Pr = Pl if same else sub(Pr, sel)
+        second = second.subset(sel)
+    else:
+        raise SolverFailure(f"fast solver did not converge for {st['idx'].size} design(s)")
+    return tuple(out)
+
+
+def _jump(L, P, R, c, s, up):
+    """Left-tail mass in the middle of the piece next to a flat one (both tails end at c).
+
+    Next piece (c, c+1): gamma1 at c such that the right tail at R ends at c+1.
+    Previous piece (c-1, c): gamma1 at c-1 such that the right tail at R ends at c.
+    """
+    def window(cl, cr):
+        fl = L.pmf(cl, R)
+        base = s - L.cdf(cl - 1.0, R)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            lo = np.clip((base - L.sf(cr - 1.0, R)) / fl, 0.0, 1.0)
+            hi = np.clip((base - L.sf(cr, R)) / fl, 0.0, 1.0)
+        g = 0.5 * (lo + hi)
+        return L.cdf(cl - 1.0, P) + g * L.pmf(cl, P)
+
+    return np.where(up, window(c, c + 1.0), window(c - 1.0, c))
