@@ -106,6 +106,10 @@ class NegBinomialTails:
         rf, mf = float(self.r), float(self.m)
         self.mean_f = mf
         self.sd_f = math.sqrt(mf + mf * mf / rf)
+        # the fractions take ~sqrt-of-the-parameters terms: cheap while the spread comes
+        # from the dispersion (r <= m, variance >= 2 m); a huge r is Poisson-like and its
+        # table is short (sd ~ sqrt(m)), so it is tabulated instead
+        self.suited = self.r <= self.m
         self.terms = 0  # continued-fraction terms spent (diagnostics)
         self.calls = 0
 

@@ -27,16 +27,23 @@ from __future__ import annotations
 import math
 
 import mpmath as mp
+from mpmath import libmp
 
 from ..families.mptable import MAX_TABLE_BYTES, MpTable, table_estimate
 from ..families.mptails import GUARD_BITS
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
-TAIL_TERMS = 150_000  # a law whose table would be longer is read through TailTable
+TAIL_TERMS = 20_000  # a law whose table would be longer is read through TailTable
 REACH = 8192  # masses walked from a segment before a new anchor is cheaper
 CANCEL_BITS = 40  # guard bits a subtraction may cost before the value is re-anchored
 SPARE_BITS = 64  # fixed-point bits below the anchor's mass (floors of a long walk)
+MAX_SEG = 1 << 18  # masses per segment (bounds the floors' error, docs/tolerances.md 6)
+CHECK_BITS = 16  # a certified tail agrees with a fresh anchor to 2**-(prec + CHECK_BITS)
+
+
+class TailCheckFailure(ArithmeticError):
+    """A tail read from a segment disagrees with a fresh evaluation (never silent)."""
 
 
 class _Seg:
@@ -47,7 +54,7 @@ class _Seg:
         e = mp.frexp(p0)[1] if p0 > 0 else 0
         self.S = S = bits + SPARE_BITS - e  # P(y) = pmf(y) * 2**S
         self.floor_P = 1 << (bits - 8)  # below: the walk has lost too many bits
-        P0 = int(mp.floor(mp.ldexp(p0, S)))
+        P0 = libmp.to_int(libmp.mpf_shift(p0._mpf_, S))  # exact: floor(p0 2**S)
         self.lo = self.hi = y0
         self.right = [P0]  # P(y0), P(y0+1), ...
         self.cumR = [0]  # cumR[i] = P(y0+1) + ... + P(y0+i)
@@ -134,7 +141,7 @@ class TailTable:
             d = s.lo - y if y < s.lo else y - s.hi
             if dist is None or d < dist:
                 best, dist = s, d
-        if best is not None and dist <= REACH:
+        if best is not None and dist <= REACH and best.hi - best.lo + dist < MAX_SEG:
             if (best.grow_left(y) if y < best.lo else best.grow_right(y)):
                 return best
         return self._anchor(y)
@@ -204,6 +211,37 @@ class TailTable:
             with mp.workprec(self._prec):
                 self._hi = self.first_sf_at_most(mp.ldexp(_ONE, -(self._prec + 100)))
         return self._hi
+
+    def certify(self, points):
+        """Check both tails at each point against fresh anchors a few masses away.
+
+        S(y) = S(z) + pmf(y+1) + ... + pmf(z) with z = y + 2 (y + 3 when an
+        anchor already sits there) and F(y) = F(z') + pmf(z'+1) + ... + pmf(y)
+        with z' = y - 2 (y - 3), each from a new continued fraction with other
+        parameters and masses from loggamma (sums only, no cancellation), must
+        agree with the values the solver used to 2**-(prec + CHECK_BITS)
+        relative; otherwise TailCheckFailure.  Returns the worst relative
+        difference seen.
+        """
+        worst = _ZERO
+        anchors = {s.y0 for s in self._segs}
+        for y in sorted({int(p) for p in points if p is not None and p >= 0}):
+            for use_F in (False, True):
+                z = y + 2 if not use_F else y - 2
+                if z in anchors:
+                    z += 1 if not use_F else -1
+                used = self._value(y, use_F)
+                with mp.workprec(self._prec):
+                    Fz, Sz = self.tails.tails(z) if z >= 0 else (_ZERO, _ONE)
+                with mp.workprec(self._bits + 20):
+                    span = range(y + 1, z + 1) if not use_F else range(max(z + 1, 0), y + 1)
+                    fresh = (Sz if not use_F else Fz) + sum(self.tails.pmf(w) for w in span)
+                    diff = abs(fresh - used) / used if used > 0 else abs(fresh)
+                worst = max(worst, diff)
+                if diff > mp.ldexp(_ONE, -(self._prec + CHECK_BITS)):
+                    raise TailCheckFailure(f"tail at {y} differs from a fresh evaluation by "
+                                           f"{mp.nstr(diff, 3)} relative")
+        return worst
 
     # -- quantiles ---------------------------------------------------------------
     def first_cdf_above(self, a):
@@ -278,7 +316,8 @@ class TailTable:
             step = float(step) if use_F is False else -float(step)
         if not math.isfinite(step):
             return y + max(1, int(self.tails.sd_f))
-        step = max(min(step, 50.0 * self.tails.sd_f + 1e6), -50.0 * self.tails.sd_f - 1e6)
+        cap = 1e4 * self.tails.sd_f + 2.0 * abs(y) + 1e6  # a wild step only costs a probe
+        step = max(min(step, cap), -cap)
         return int(round(y + step))
 
     def _guess(self, use_F, t, L, H):
@@ -298,13 +337,16 @@ class TailTable:
 def table_for(law, thr, moments: bool = False):
     """MpTable of the law, or a TailTable when the table would exceed TAIL_TERMS terms.
 
-    A TailTable needs the family's single-point tails (``law.tails``); a law
-    without them is tabulated (and declined beyond mptable's limits).
+    A TailTable needs the family's single-point tails (``law.tails``) and their
+    word that they are cheap for this law (``suited``); otherwise the law is
+    tabulated (and declined beyond mptable's limits).
     """
     tails = getattr(law, "tails", None)
     if tails is not None:
         sd = float(mp.sqrt(law.variance))
         terms, nbytes = table_estimate(sd, thr, mp.mp.prec)
         if terms > TAIL_TERMS or nbytes > MAX_TABLE_BYTES:
-            return TailTable(law, tails(), moments=True)
+            T = tails()
+            if T.suited:
+                return TailTable(law, T, moments=True)
     return MpTable(law, thr, moments=moments)
