@@ -74,10 +74,10 @@ def test_xml_bomb_in_xlsx(cli, tmp_path, member):
 
 
 def test_zip_that_unpacks_too_far(cli, tmp_path, monkeypatch):
-    from exactband.audit import readers
+    from exactband.audit import xlsx_reader
 
     src = _xlsx(tmp_path / "ok.xlsx", [good_row()])
-    monkeypatch.setattr(readers, "MAX_UNZIPPED", 1000)  # the real limit is 256 MiB
+    monkeypatch.setattr(xlsx_reader, "MAX_UNZIPPED", 1000)  # the real limit is 256 MiB
     err = refused(cli, src, tmp_path)
     assert "would unpack to" in err
 

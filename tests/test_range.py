@@ -190,7 +190,7 @@ def test_poisson_right_tail_large_mean_float_law():
     # scipy.special.gammainc loses digits 5 sd above a mean of 1e6; reference: mpmath gammainc
     import mpmath as mp
 
-    from exactband.families.floatlaw import PoissonLaw
+    from exactband.families.poisson import PoissonLaw
 
     mu, c = 1e6, 1005000.0
     got = PoissonLaw.sf(np.array([c]), (np.array([mu]),))[0]

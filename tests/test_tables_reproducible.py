@@ -12,7 +12,7 @@ import time
 import openpyxl
 import pytest
 
-from exactband import api
+from exactband import solving
 from exactband.cli import main
 from exactband.errors import VerificationError
 from exactband.tables import build as build_mod
@@ -87,7 +87,7 @@ def test_check_ok_and_tampering(root, ref, capsys):
 
 
 def test_disagreement_stops_before_writing(tmp_path, monkeypatch, capsys):
-    real = api.fast_solve
+    real = solving.fast_solve
 
     def wrong(problems):
         sols = real(problems)
@@ -95,7 +95,7 @@ def test_disagreement_stops_before_writing(tmp_path, monkeypatch, capsys):
         sols[3] = (c1, g1, c2 + 2, g2)  # a wrong upper cutoff in the fourth design
         return sols
 
-    monkeypatch.setattr(api, "fast_solve", wrong)
+    monkeypatch.setattr(solving, "fast_solve", wrong)
     spec = write_spec(tmp_path, "small", SMALL)
     with pytest.raises(VerificationError, match=r"poisson band \(n=10.0, alpha=0.01, low=2.0"):
         generate(spec, tmp_path / "out", workers=1)

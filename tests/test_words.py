@@ -308,12 +308,12 @@ def test_pdf_zebra_by_band_and_cover_sides(ocset):
     from pypdf import PdfReader
 
     from exactband.tables.layout import Section
-    from exactband.tables.write_pdf import _shaded_runs, band_index
+    from exactband.tables.pdf_sections import band_index, shaded_runs
 
     sec = Section(1, "band", 0.05, "s", "h", "H0", "r", (), tuple(range(12)), (0, 5, 9))
     assert band_index(sec) == [0] * 5 + [1] * 4 + [2] * 3
-    assert _shaded_runs(sec, 0, 12) == [(5, 9)]  # the second band only, never across a line
-    assert _shaded_runs(sec, 6, 6) == [(0, 3)]  # a page starting inside it
+    assert shaded_runs(sec, 0, 12) == [(5, 9)]  # the second band only, never across a line
+    assert shaded_runs(sec, 6, 6) == [(0, 3)]  # a page starting inside it
     folder = ocset
     cover = " ".join(PdfReader(folder / "oc.pdf").pages[0].extract_text().split())
     assert "below the band (rate < low)" in cover and "above the value (rate > value)" in cover

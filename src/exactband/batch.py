@@ -12,10 +12,11 @@ from __future__ import annotations
 
 import numpy as np
 
-from .errors import DesignError, VerificationError
+from .errors import DesignError, VerificationError, recast
 from .families import FAMILIES
 from .kinds import KINDS
-from .params import ALPHA_MAX, ALPHA_MIN, ALPHA_MIN_EQUIVALENCE, make_problem
+from .params import ALPHA_MAX, make_problem
+from .solving import DEFAULT_PRECISION, check_precision, precision_alias, verify_many
 
 COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
 _NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion")
@@ -50,7 +51,7 @@ def _group_ok(fam, kind, a):
         ok = np.isfinite(n) & (n > 0) & (n <= 1e12)
         if fam.integer_n:
             ok &= (n >= 1) & (n == np.floor(n))
-        lo_alpha = ALPHA_MIN_EQUIVALENCE if kind.name == "equivalence" else ALPHA_MIN
+        lo_alpha = kind.alpha_min
         ok &= np.isfinite(alpha) & (alpha >= lo_alpha) & (alpha <= ALPHA_MAX)
         for name in ("low", "high", "value"):
             x = a[name]
@@ -94,7 +95,7 @@ def _explain(frame, pos):
         make_problem(row["family"], row["kind"], n=row["n"], alpha=row["alpha"], low=row["low"],
                      high=row["high"], value=row["value"], dispersion=row["dispersion"])
     except DesignError as e:
-        raise DesignError(f"row {frame.index[pos]}: {e}") from None
+        raise recast(e, DesignError, f"row {frame.index[pos]}: ") from None
     raise DesignError(f"row {frame.index[pos]}: invalid row: check its values")  # pragma: no cover
 
 
@@ -111,25 +112,26 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     """
     import pandas as pd
 
-    from . import api
     from .solvers import fast
 
     if not isinstance(frame, pd.DataFrame):
         raise DesignError(f"invalid frame = {type(frame).__name__}: a pandas DataFrame with "
-                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))")
+                          f"columns {', '.join(COLUMNS)} (e.g. pandas.DataFrame(your_dict))",
+                          field="frame", value=type(frame).__name__)
     missing = [c for c in ("family", "kind", "n", "alpha") if c not in frame.columns]
     if missing:
         raise DesignError(f"invalid frame: missing column(s) {', '.join(missing)}; "
-                          f"expected columns {', '.join(COLUMNS)}")
+                          f"expected columns {', '.join(COLUMNS)}", field="frame")
     import numbers
 
     from .parallel import check_workers
 
     if not isinstance(verify, (bool, numbers.Integral)):
-        raise DesignError(f"invalid verify = {verify!r}: True or False")
+        raise DesignError(f"invalid verify = {verify!r}: True or False", field="verify",
+                          value=verify, allowed="True or False")
     check_workers(workers)
-    precision = api.precision_alias(precision, digits, "designs")
-    d = api.check_precision(api.DEFAULT_PRECISION if precision is None else precision)
+    precision = precision_alias(precision, digits, "designs")
+    d = check_precision(DEFAULT_PRECISION if precision is None else precision)
     size = len(frame)
     fams, knds = _text(frame, "family"), _text(frame, "kind")
     cols, unreadable = {}, np.zeros(size, dtype=bool)
@@ -170,9 +172,9 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
                                                               else float(v[pos]))
                               for j, v in enumerate((c1, g1, c2, g2))))
         try:
-            ds = api.verify_many(problems, sols, d, workers=workers)
+            ds = verify_many(problems, sols, d, workers=workers)
         except VerificationError as e:
-            raise VerificationError(str(e)) from None
+            raise recast(e, VerificationError) from None
         c1 = np.array([np.nan if x.c1 is None else x.c1 for x in ds], dtype=float)
         g1 = np.array([np.nan if x.gamma1 is None else x.gamma1 for x in ds], dtype=float)
         c2 = np.array([np.nan if x.c2 is None else x.c2 for x in ds], dtype=float)

@@ -28,9 +28,11 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 import mpmath as mp
-import numpy as np
 
 from . import kinds as K
+from .rule import phi_distance
+
+__all__ = ["CrossCheck", "compare", "phi_distance", "sizes_with_tables", "tolerances"]
 
 PHI_TOL = 1e-6  # cap of the per-design phi tolerance
 SIZE_TOL = 1e-9  # cap of the per-design size tolerance, relative to alpha
@@ -70,27 +72,6 @@ class CrossCheck:
                 f"{self.precise_size_error:.1e}")
 
 
-def phi_distance(kind: str, a: tuple, b: tuple) -> float:
-    """max_y |phi_a(y) - phi_b(y)| for two designs (c1, g1, c2, g2) of one kind.
-
-    phi is constant between cutoffs, so the cutoffs and their neighbours are a
-    complete set of points to look at.
-    """
-    pts = set()
-    for c in (a[0], a[2], b[0], b[2]):
-        if c is not None and not (isinstance(c, float) and np.isnan(c)):
-            pts.update((int(c) - 1, int(c), int(c) + 1))
-    pts = np.array(sorted(p for p in pts if p >= 0), dtype=float)
-    if pts.size == 0:
-        return 0.0
-
-    def ev(d):
-        c1, g1, c2, g2 = (np.nan if v is None else float(v) for v in d)
-        return K.phi(kind, c1, g1, c2, g2, pts)
-
-    return float(np.max(np.abs(ev(a) - ev(b))))
-
-
 def sizes_with_tables(kind: str, design: tuple, tables, dps: int) -> list:
     """E phi at each constraint point for a design, computed from precise tables."""
     c1, g1, c2, g2 = design
@@ -112,17 +93,18 @@ def tolerances(kind: str, alpha, precise) -> tuple:
     eps = law_eps(sd) + max(getattr(t.law, "float_extra_eps", 0.0) for t in T)
     a = float(alpha)
     c1, c2 = precise.c1, precise.c2
+    k = K.as_kind(kind)
     with mp.workdps(precise.dps):
-        if kind in ("upper", "lower"):
-            c = c2 if kind == "upper" else c1
+        if k.one_sided:
+            c = c2 if k.uses_c2 else c1
             f = float(T[0].pmf(c))
             dg = eps * (2.0 * min(a, 1.0 - a) + f) / f if f > 0 else 1.0
             fmax = f
         else:
-            s = a if kind in ("band", "point") else 1.0 - a
+            s = 1.0 - a if k.rejects_inside else a
             t0 = T[0]
             f1, f2 = float(t0.pmf(c1)), float(t0.pmf(c2))
-            if kind == "point":
+            if k.moment_condition:
                 mu = float(t0.law.mean)
                 d1, d2 = (c1 - mu) * f1, (c2 - mu) * f2
                 e2 = eps * (abs(c1 - mu) + abs(c2 - mu) + 1.0) * (s + f1 + f2)
@@ -132,7 +114,7 @@ def tolerances(kind: str, alpha, precise) -> tuple:
                 d2 = float(th.pmf(c2) - t0.pmf(c2))
                 dF = float(abs(th.cdf(c1 - 1) - t0.cdf(c1 - 1)))
                 dS = float(abs(th.sf(c2) - t0.sf(c2)))
-                if kind == "equivalence":
+                if k.rejects_inside:
                     dF = float(abs(th.cdf(c2 - 1) - th.cdf(c1) - t0.cdf(c2 - 1) + t0.cdf(c1)))
                     dS = 0.0
                 e2 = 2.0 * eps * (dF + dS + abs(d1) + abs(d2))

@@ -14,8 +14,9 @@ from __future__ import annotations
 import secrets
 from dataclasses import dataclass
 
-from .design import DEFAULT_RANDOM_DIGITS, Design, _num
-from .errors import ExactbandError, invalid
+from .design import DEFAULT_RANDOM_DIGITS, Design
+from .errors import ExactbandError, invalid, recast
+from .numtext import number_text
 from .words import gamma_text, side_words
 
 MODES = ("randomised", "conservative")
@@ -26,10 +27,6 @@ READ = "read by the inspector"
 
 class DecideError(ExactbandError, ValueError):
     """Unusable input to a field decision (one line)."""
-
-
-def _error(field, value, allowed) -> DecideError:
-    return DecideError(str(invalid(field, value, allowed)))
 
 
 @dataclass(frozen=True)
@@ -62,8 +59,8 @@ class Decision:
 
     def describe(self) -> str:
         d = self.design
-        lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {_num(d.n)}, "
-                 f"alpha = {_num(d.alpha)}; rule: {self.rule}.",
+        lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {number_text(d.n)}, "
+                 f"alpha = {number_text(d.alpha)}; rule: {self.rule}.",
                  f"Observed Y = {self.y}: {self.region}.", self.reason]
         if self.digits_read is not None:
             lines.append(f"Random digits used: {self.digits_read} ({self.digits_source}); "
@@ -99,9 +96,9 @@ def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
     from .words import the
 
     t = design.problem.family.theta_word
-    low, high = _num(design.low), _num(design.high)
+    low, high = number_text(design.low), number_text(design.high)
     if not reject:
-        if design.kind == "equivalence":
+        if design.problem.kind.rejects_inside:
             return f"equivalence not shown: the data do not establish {low} < {t} < {high}"
         return "the data are consistent with " + design.hypothesis()[4:]
     sides = design.problem.kind.sides
@@ -112,7 +109,7 @@ def conclusion(design: Design, reject: bool, side: str | None = None) -> str:
 
 def check_count(design: Design, y) -> int:
     """Y must be a whole number in the support of the family (0..n for binomial)."""
-    top = design.n if design.family == "binomial" else None
+    top = design.problem.family.support_max(design.n)
     allowed = ("a whole number from 0 to " + str(top) if top is not None
                else "a whole number >= 0")
     from .strict import whole
@@ -120,9 +117,9 @@ def check_count(design: Design, y) -> int:
     try:
         x = whole("y", y, allowed)
     except ExactbandError as e:
-        raise DecideError(str(e)) from None
+        raise recast(e, DecideError) from None
     if x < 0 or (top is not None and x > top):
-        raise _error("y", y, allowed)
+        raise invalid("y", y, allowed, DecideError)
     return x
 
 
@@ -130,25 +127,25 @@ def check_digits_text(digits, need: int | None) -> str:
     """Random digits as typed: ASCII digits only, exactly ``need`` of them when fixed."""
     s = str(digits).strip()
     if not s or not s.isascii() or not s.isdigit():
-        raise _error("digits-read", digits, "only the digits 0-9, e.g. 482")
+        raise invalid("digits-read", digits, "only the digits 0-9, e.g. 482", DecideError)
     if need is not None and len(s) != need:
-        raise _error("digits-read", digits, f"the rule reads exactly {need} random digits "
-                                            f"({len(s)} given)")
+        raise invalid("digits-read", digits, f"the rule reads exactly {need} random digits "
+                                             f"({len(s)} given)", DecideError)
     if len(s) > 9:
-        raise _error("digits-read", digits, "at most 9 random digits")
+        raise invalid("digits-read", digits, "at most 9 random digits", DecideError)
     return s
 
 
 def _region(design: Design, y: int):
     """(words, cutoff index 1/2 or None, reject when not at a cutoff)."""
-    kind, c1, c2 = design.kind, design.c1, design.c2
-    if kind == "upper":
-        return ((f"above c2 = {c2}", None, True) if y > c2 else
-                (f"at c2 = {c2}", 2, None) if y == c2 else (f"below c2 = {c2}", None, False))
-    if kind == "lower":
-        return ((f"below c1 = {c1}", None, True) if y < c1 else
-                (f"at c1 = {c1}", 1, None) if y == c1 else (f"above c1 = {c1}", None, False))
-    outside = kind != "equivalence"  # band, point reject outside; equivalence inside
+    kind, c1, c2 = design.problem.kind, design.c1, design.c2
+    if kind.one_sided:  # upper rejects above its c2, lower below its c1
+        i, c, reject_above = (2, c2, True) if kind.uses_c2 else (1, c1, False)
+        if y == c:
+            return f"at c{i} = {c}", i, None
+        above = y > c
+        return f"{'above' if above else 'below'} c{i} = {c}", None, above == reject_above
+    outside = not kind.rejects_inside  # band, point reject outside; equivalence inside
     if y < c1:
         return f"below c1 = {c1}", None, outside
     if y > c2:
@@ -195,15 +192,18 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         warnings.warn("decide(digits=...) is deprecated; use digits_read=...",
                       DeprecationWarning, stacklevel=2)
         if digits_read is not None and digits_read != digits:
-            raise _error("digits", digits, "give digits_read only (digits is its old name)")
+            raise invalid("digits", digits, "give digits_read only (digits is its old name)",
+                          DecideError)
         digits_read = digits
     if not isinstance(design, Design):
         raise DecideError(f"invalid design = {type(design).__name__}: a Design from "
-                          "exactband.design() or a table row")
+                          "exactband.design() or a table row", field="design",
+                          value=type(design).__name__,
+                          allowed="a Design from exactband.design() or a table row")
     mode = rule.strip().lower() if isinstance(rule, str) else rule
     mode = MODE_ALIASES.get(mode, mode) if isinstance(mode, str) else mode
     if mode not in MODES:
-        raise _error("rule", rule, "randomised or conservative")
+        raise invalid("rule", rule, "randomised or conservative", DecideError)
     yy = check_count(design, y)
     need = None
     if random_digits is not None:
@@ -212,9 +212,9 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
         try:
             need = whole("random-digits", random_digits, "a whole number from 1 to 9")
         except ExactbandError as e:
-            raise DecideError(str(e)) from None
+            raise recast(e, DecideError) from None
         if not 1 <= need <= 9:
-            raise _error("random-digits", random_digits, "a whole number from 1 to 9")
+            raise invalid("random-digits", random_digits, "a whole number from 1 to 9", DecideError)
     text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)
     notes = ()
@@ -233,7 +233,7 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
 
     if at is None:
         why = "outside the cutoffs" if reject else "inside the cutoffs"
-        if design.kind == "equivalence":
+        if design.problem.kind.rejects_inside:
             why = "strictly between the cutoffs" if reject else "outside the cutoffs"
         return made(words, False, None, None, None, None, None, bool(reject),
                     f"Y is {why}: the rule "

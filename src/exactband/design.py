@@ -13,48 +13,79 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from . import kinds as K
 from .errors import DesignError
+from .numtext import number_text
 from .params import Problem
+from .rule import DEFAULT_RANDOM_DIGITS, Rule
 
-DEFAULT_RANDOM_DIGITS = 3  # random digits of the field rule: decide, tables, power, plan
-
-
-def _num(x) -> str:
-    """Short, exact-looking text for a user number (25.0 -> '25')."""
-    if x is None:
-        return "-"
-    if isinstance(x, (int, np.integer)):
-        return str(int(x))
-    x = float(x)
-    if x.is_integer() and abs(x) < 1e15:
-        return str(int(x))
-    return repr(x)
+__all__ = ["DEFAULT_RANDOM_DIGITS", "Design", "Rule"]
 
 
-@dataclass(frozen=True)
+def power_at(problem: Problem, cut: tuple, thetas) -> np.ndarray:
+    """E_theta phi(Y) at an array of valid thetas for a rule's (c1, g1, c2, g2) (float law).
+
+    ``cut`` as ``Rule.filled`` gives it (an absent cutoff nan, an absent gamma 0); a
+    printed (c, gamma = 1) is evaluated as printed.
+    """
+    L = problem.family.float_law
+    P = L.make(thetas, problem.n, problem.dispersion)
+    out = problem.kind.expectation(*cut, lambda c: L.cdf(c, P), lambda c: L.sf(c, P),
+                                   lambda c: L.pmf(c, P))
+    return np.clip(np.broadcast_to(out, thetas.shape).astype(float), 0.0, 1.0)
+
+
+@dataclass(frozen=True, init=False)
 class Design:
     """Exact UMP/UMPU test for one problem (see kinds for the test-function contract).
 
-    c1, gamma1, c2, gamma2 are Python int / float (None where the kind has no
-    such cutoff); gammas lie in [0, 1).  ``sizes`` are E_theta phi at the
-    constraint points ``points`` (low and high, or value).  When ``verified`` the
-    numbers come from the high-precision solver after it agreed with the fast
-    one, ``gamma1_decimal``/``gamma2_decimal`` carry 30 significant digits and
+    ``rule`` is the Rule (kind, c1, gamma1, c2, gamma2); c1, gamma1, c2, gamma2
+    are its values (Python int / float, None where the kind has no such cutoff;
+    gammas in [0, 1)).  ``sizes`` are E_theta phi at the constraint points
+    ``points`` (low and high, or value).  When ``verified`` the numbers come from
+    the high-precision solver after it agreed with the fast one,
+    ``gamma1_decimal``/``gamma2_decimal`` carry 30 significant digits and
     ``check`` holds the comparison.
+
+    Made as Design(problem, c1, gamma1, c2, gamma2, sizes, ...) or
+    Design(problem, rule=Rule(...), sizes=...).
     """
 
     problem: Problem
-    c1: int | None
-    gamma1: float | None
-    c2: int | None
-    gamma2: float | None
+    rule: Rule
     sizes: tuple
     verified: bool = False
     precision: int | None = None
     gamma1_decimal: str | None = None
     gamma2_decimal: str | None = None
     check: object = field(default=None, compare=False)
+
+    def __init__(self, problem: Problem, c1=None, gamma1=None, c2=None, gamma2=None,
+                 sizes: tuple = (), verified: bool = False, precision: int | None = None,
+                 gamma1_decimal: str | None = None, gamma2_decimal: str | None = None,
+                 check=None, *, rule: Rule | None = None):
+        if rule is None:
+            rule = Rule(problem.kind, c1, gamma1, c2, gamma2)
+        elif rule.kind != problem.kind:
+            raise DesignError(f"invalid rule = {rule!r}: a {problem.kind.name} rule is required")
+        self.__dict__.update(problem=problem, rule=rule, sizes=sizes, verified=verified,
+                             precision=precision, gamma1_decimal=gamma1_decimal,
+                             gamma2_decimal=gamma2_decimal, check=check)  # frozen: no setattr
+
+    @property
+    def c1(self):
+        return self.rule.c1
+
+    @property
+    def gamma1(self):
+        return self.rule.gamma1
+
+    @property
+    def c2(self):
+        return self.rule.c2
+
+    @property
+    def gamma2(self):
+        return self.rule.gamma2
 
     @property
     def digits(self):
@@ -113,13 +144,11 @@ class Design:
 
     # -- the test ---------------------------------------------------------------
     def _cut(self):
-        nan = float("nan")
-        return (nan if self.c1 is None else self.c1, 0.0 if self.gamma1 is None else self.gamma1,
-                nan if self.c2 is None else self.c2, 0.0 if self.gamma2 is None else self.gamma2)
+        return self.rule.filled()
 
     def phi(self, y):
         """Rejection probability phi(y) for an observed total y (vectorised)."""
-        out = K.phi(self.kind, *self._cut(), y)
+        out = self.rule.phi(y)
         return float(out) if np.ndim(out) == 0 else out
 
     def power(self, theta):
@@ -128,17 +157,13 @@ class Design:
         try:
             t = np.asarray(theta, dtype=float)
         except (TypeError, ValueError):
-            raise DesignError(f"invalid theta = {theta!r}: numbers are required") from None
+            raise DesignError(f"invalid theta = {theta!r}: numbers are required", field="theta",
+                              value=theta, allowed="numbers are required") from None
         flat = np.atleast_1d(t).ravel()
         bad = ~fam.theta_ok_array(flat)
         if np.any(bad):
             fam.check_theta("theta", float(flat[bad][0]))  # raises the one-line message
-        L = fam.float_law
-        P = L.make(flat, self.n, self.dispersion)
-        c1, g1, c2, g2 = self._cut()
-        out = K.expectation(self.kind, c1, g1, c2, g2,
-                            lambda c: L.cdf(c, P), lambda c: L.sf(c, P), lambda c: L.pmf(c, P))
-        out = np.clip(np.broadcast_to(out, flat.shape).astype(float), 0.0, 1.0).reshape(t.shape)
+        out = power_at(self.problem, self.rule.filled(), flat).reshape(t.shape)
         return float(out) if out.ndim == 0 else out
 
     def oc(self, theta):
@@ -162,44 +187,29 @@ class Design:
         randomised rule's.  Uses the exact decimal gammas when verified, so a
         gamma such as 0.123 is never floored to 122 by binary rounding.
         """
-        from decimal import ROUND_FLOOR, Decimal, localcontext
-
-        digits = _random_digits(random_digits)
-        scale = Decimal(10) ** digits
-
-        def one(g, text):
-            if g is None:
-                return None
-            exact = Decimal(text) if text is not None else Decimal(repr(g))
-            with localcontext(prec=80):  # exact product: 30 digits never round up to t + 1
-                return int((exact * scale).to_integral_value(rounding=ROUND_FLOOR))
-
-        return one(self.gamma1, self.gamma1_decimal), one(self.gamma2, self.gamma2_decimal)
+        return self.rule.thresholds(random_digits, (self.gamma1_decimal, self.gamma2_decimal))
 
     def with_gammas(self, gamma1, gamma2) -> "Design":
         """Same cutoffs, other gammas (e.g. the digit-rounded or the conservative rule).
 
         The result is unverified; its sizes are computed with the float law.
         """
-        g1 = None if self.gamma1 is None else float(gamma1)
-        g2 = None if self.gamma2 is None else float(gamma2)
-        base = Design(self.problem, self.c1, g1, self.c2, g2, ())
+        rule = self.rule.with_gammas(gamma1, gamma2)
+        base = Design(self.problem, rule=rule, sizes=())
         sizes = tuple(float(base.power(t)) for t in self.points)
-        return Design(self.problem, self.c1, g1, self.c2, g2, sizes)
+        return Design(self.problem, rule=rule, sizes=sizes)
 
     def digit_rule(self, random_digits: int = DEFAULT_RANDOM_DIGITS) -> "Design":
         """The rule field staff apply with d = ``random_digits`` digits: gamma = t / 10**d."""
-        t1, t2 = self.thresholds(random_digits)
-        scale = 10 ** _random_digits(random_digits)
-        return self.with_gammas(None if t1 is None else t1 / scale,
-                                None if t2 is None else t2 / scale)
+        return self.with_gammas(*self.rule.digit_gammas(
+            random_digits, (self.gamma1_decimal, self.gamma2_decimal)))
 
     # -- words --------------------------------------------------------------
     def hypothesis(self) -> str:
         fam, knd = self.problem.family, self.problem.kind
         return "H0: " + knd.summary.format(
-            t=f"{fam.theta_word}", value=_num(self.value), low=_num(self.low),
-            high=_num(self.high))
+            t=f"{fam.theta_word}", value=number_text(self.value), low=number_text(self.low),
+            high=number_text(self.high))
 
     def describe(self, rule: str = "randomised", random_digits: int | None = None) -> str:
         """The decision rule in plain words, naming the side of H0 each rejection points to.
@@ -212,20 +222,23 @@ class Design:
 
         key = ALIASES.get(rule, rule)
         if key not in RULE_NAMES:
-            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits")
+            raise DesignError(f"invalid rule = {rule!r}: randomised, conservative or digits",
+                              field="rule", value=rule,
+                              allowed="randomised, conservative or digits")
         if key == "digits" and random_digits is None:
             random_digits = DEFAULT_RANDOM_DIGITS
         fam, knd = self.problem.family, self.problem.kind
         lines = []
-        disp = f", dispersion k = {_num(self.dispersion)}" if self.dispersion is not None else ""
-        lines.append(f"{knd.optimality} test, {fam.name} family, {fam.n_word} = {_num(self.n)}"
-                     f"{disp}, size alpha = {_num(self.alpha)}.")
+        disp = (f", {fam.dispersion_word} = {number_text(self.dispersion)}"
+                if self.dispersion is not None else "")
+        lines.append(f"{knd.optimality} test, {fam.name} family, "
+                     f"{fam.n_word} = {number_text(self.n)}"
+                     f"{disp}, size alpha = {number_text(self.alpha)}.")
         lines.append(self.hypothesis() + ".")
         note = fam.law_note(self.problem)
         if note:
             lines.append(note)
-        lines.append("Y = the total count over the sample." if fam.name != "binomial"
-                     else "Y = the number of units with the attribute among the n inspected.")
+        lines.append(f"Y = {fam.y_word}.")
         if key != "randomised":
             lines.append({"conservative": "The conservative rule (no randomisation):",
                           "digits": f"The field rule with {random_digits} random digits:"}[key])
@@ -233,7 +246,8 @@ class Design:
         word = fam.theta_word
         used = {"randomised": self, "conservative": self.nonrandomized()}.get(key)
         used = used if used is not None else self.digit_rule(random_digits)
-        sizes = "; ".join(f"at {word} = {_num(t)}: {s:.6g}" for t, s in zip(self.points, used.sizes))
+        sizes = "; ".join(f"at {word} = {number_text(t)}: {s:.6g}"
+                          for t, s in zip(self.points, used.sizes))
         lines.append(f"Size (probability of rejecting H0) {sizes}.")
         if self.verified:
             lines.append(f"Verified: the fast and the {self.precision}-digit solvers agree.")
@@ -247,14 +261,3 @@ class Design:
                    size_low=self.size_low, size_high=self.size_high, verified=self.verified,
                    precision=self.precision)
         return out
-
-
-def _random_digits(d) -> int:
-    """Number of random digits of a field rule: a whole number from 1 to 9."""
-    import numbers
-
-    if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
-        from .errors import show
-
-        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9")
-    return int(d)

@@ -40,7 +40,7 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         with os.fdopen(fd, mode, **kwargs) as fh:
             yield fh
             fh.flush()
-            os.chmod(tmp, 0o666 & ~_umask())  # mkstemp makes 0600; give a normal file's mode
+            os.chmod(tmp, file_mode())  # mkstemp makes 0600; give a normal file's mode
             os.fsync(fh.fileno())
         try:
             os.replace(tmp, path)
@@ -53,10 +53,13 @@ def atomic_open(path, mode: str = "wb", encoding: str | None = None, newline: st
         raise
 
 
-def _umask() -> int:
-    mask = os.umask(0)
+def file_mode() -> int:
+    """Permissions of an ordinary new file under the current umask (0o666 less the mask).
+
+    The umask can only be read by setting it; it is set back at once."""
+    mask = os.umask(0o022)
     os.umask(mask)
-    return mask
+    return 0o666 & ~mask
 
 
 def fsync_dir(folder: Path) -> None:

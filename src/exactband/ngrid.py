@@ -9,12 +9,12 @@ is the galloping-and-bisection search over a monotone predicate.
 
 from __future__ import annotations
 
-from decimal import ROUND_FLOOR, Decimal
+from decimal import Decimal
 
 import numpy as np
 
-from . import kinds as K
 from .oc import PlanningError
+from .rule import threshold
 from .solvers import fast
 
 CERT_MARGIN = 1e-12  # the certificate must clear the target by more than float noise
@@ -27,12 +27,13 @@ class NGrid:
         self.p = problem
         self.fam = problem.family
         self.kind = problem.kind.name
+        self.knd = problem.kind
         self.alts = alternatives
         self.step = step
         self.step_dec = Decimal(repr(step)) if isinstance(step, float) else Decimal(step)
         self.rule = rule
         self.d = random_digits
-        self.j = 1 if self.kind in ("upper", "lower") else 2
+        self.j = len(self.knd.cutoffs)  # cutoffs where the digit rule can lose power
         self.delta = {"randomised": 0.0, "conservative": 1.0,
                       "digits": 10.0 ** -(random_digits or 0)}[rule]
         self.evaluations = 0
@@ -57,11 +58,7 @@ class NGrid:
                                     high=full(p.high), value=full(p.value),
                                     dispersion=full(p.dispersion))
         # canonical form: a gamma that rounds to 1 is the neighbouring cutoff with gamma 0
-        inward = -1.0 if self.kind == "equivalence" else 1.0
-        hit1, hit2 = g1 >= 1.0, g2 >= 1.0
-        c1, g1 = np.where(hit1, c1 + inward, c1), np.where(hit1, 0.0, g1)
-        c2, g2 = np.where(hit2, c2 - inward, c2), np.where(hit2, 0.0, g2)
-        return ns, (c1, g1, c2, g2)
+        return ns, self.knd.canonical(c1, g1, c2, g2)
 
     def _law(self, ns, theta):
         L = self.fam.float_law
@@ -73,21 +70,14 @@ class NGrid:
         if gammas is not None:
             g1, g2 = gammas
         L, P = self._law(ns, theta)
-        out = K.expectation(self.kind, c1, np.nan_to_num(g1), c2, np.nan_to_num(g2),
+        out = self.knd.expectation(c1, np.nan_to_num(g1), c2, np.nan_to_num(g2),
                             lambda c: L.cdf(c, P), lambda c: L.sf(c, P), lambda c: L.pmf(c, P))
         return np.clip(np.asarray(out, dtype=float), 0.0, 1.0)
 
     def modal(self, ns, theta):
-        """Largest probability mass of Y at each n (the mode formula, checked at +-1)."""
+        """Largest probability mass of Y at each n (the float law's mode, checked at +-1)."""
         L, P = self._law(ns, theta)
-        name = self.fam.name
-        if name == "poisson":
-            mode = np.floor(P[0])
-        elif name == "binomial":
-            mode = np.minimum(np.floor((P[0] + 1.0) * P[1]), P[0])
-        else:
-            r, mean = P
-            mode = np.where(r > 1.0, np.floor((r - 1.0) * mean / r), 0.0)
+        mode = L.mode(P)
         cands = [L.pmf(np.maximum(mode + s, 0.0), P) for s in (-1.0, 0.0, 1.0)]
         return np.maximum.reduce(cands)
 
@@ -121,14 +111,12 @@ class NGrid:
 
 def floor_digits(g, d):
     """floor(g * 10**d) / 10**d elementwise, from the decimal repr of g (as Design.thresholds)."""
-    scale = Decimal(10) ** d
     out = []
     for x in np.atleast_1d(g):
         if not np.isfinite(x):
             out.append(0.0)
             continue
-        t = int((Decimal(repr(float(x))) * scale).to_integral_value(rounding=ROUND_FLOOR))
-        out.append(t / 10 ** d)
+        out.append(threshold(float(x), d) / 10 ** d)
     return np.array(out, dtype=float)
 
 

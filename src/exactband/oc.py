@@ -14,13 +14,11 @@ never a simulation.  Nothing here formats or plots.
 
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from . import kinds as K
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .errors import ExactbandError, invalid
+from .errors import ExactbandError, invalid, recast
 from .families.base import as_real
 
 RULES = ("randomised", "conservative", "digits")
@@ -36,16 +34,12 @@ def one_hypothesis(designs, why: str) -> list:
     """The designs as a list, refused unless they share family, kind and hypothesis."""
     designs = list(designs)
     if not designs:
-        raise _error("designs", "[]", "at least one design is required")
+        raise invalid("designs", "[]", "at least one design is required", PlanningError)
     keys = {(x.family, x.kind, x.low, x.high, x.value, x.dispersion) for x in designs}
     if len(keys) != 1:
         raise PlanningError(f"invalid designs: {why}; these differ in family, kind or "
-                            "hypothesis values")
+                            "hypothesis values", field="designs")
     return designs
-
-
-def _error(field, value, allowed) -> PlanningError:
-    return PlanningError(str(invalid(field, value, allowed)))
 
 
 def check_random_digits(d) -> int:
@@ -53,7 +47,7 @@ def check_random_digits(d) -> int:
     allowed = "a whole number of random digits from 1 to 9"
     x = _whole("random-digits", d, allowed)
     if not 1 <= x <= 9:
-        raise _error("random-digits", d, allowed)
+        raise invalid("random-digits", d, allowed, PlanningError)
     return x
 
 
@@ -63,14 +57,14 @@ def _whole(field, value, allowed) -> int:
     try:
         return whole(field, value, allowed)
     except ExactbandError as e:
-        raise PlanningError(str(e)) from None
+        raise recast(e, PlanningError) from None
 
 
 def check_rule(rule) -> str:
     key = rule.strip().lower() if isinstance(rule, str) else rule
     key = {"randomized": "randomised"}.get(key, key)  # accepted spelling
     if key not in RULES:
-        raise _error("rule", rule, "allowed: " + ", ".join(RULES))
+        raise invalid("rule", rule, "allowed: " + ", ".join(RULES), PlanningError)
     return key
 
 
@@ -78,7 +72,7 @@ def check_points(points) -> int:
     allowed = "a whole number of points from 2 to 100000"
     x = _whole("points", points, allowed)
     if not 2 <= x <= 100000:
-        raise _error("points", points, allowed)
+        raise invalid("points", points, allowed, PlanningError)
     return x
 
 
@@ -89,13 +83,13 @@ def check_thetas(design: Design, thetas, field: str = "theta") -> np.ndarray:
         thetas = [thetas]
     vals = list(thetas)
     if not vals:
-        raise _error(field, "[]", "at least one value is required")
+        raise invalid(field, "[]", "at least one value is required", PlanningError)
     out = []
     for x in vals:
         try:
             out.append(fam.check_theta(field, x))
         except ExactbandError as e:
-            raise PlanningError(str(e)) from None
+            raise recast(e, PlanningError) from None
     return np.array(out, dtype=float)
 
 
@@ -114,25 +108,16 @@ def rule_label(rule: str, random_digits: int) -> str:
 
 
 # -- the default theta range ----------------------------------------------------
-def _scale(fam):
-    """Map theta to an unbounded scale and back (log, or logit for a proportion)."""
-    if fam.name == "binomial":
-        return (lambda p: math.log(p) - math.log1p(-p),
-                lambda u: 1.0 / (1.0 + math.exp(-u)) if u > -700 else 0.0)
-    return math.log, lambda u: math.exp(u) if u < 700 else math.inf
-
-
-def _limit(kind: str, side: int) -> float:
+def _limit(kind, side: int) -> float:
     """Power far out on one side (-1 left, +1 right): 1 where the rule rejects, else 0."""
-    rejects = {"upper": (False, True), "lower": (True, False), "point": (True, True),
-               "band": (True, True), "equivalence": (False, False)}[kind]
+    rejects = K.as_kind(kind).far_rejects
     return 1.0 if rejects[0 if side < 0 else 1] else 0.0
 
 
 def _edge(design: Design, start: float, side: int) -> float:
     """Theta beyond ``start`` on ``side`` where the power is within EDGE_TOL of its limit."""
     fam = design.problem.family
-    to_u, from_u = _scale(fam)
+    to_u, from_u = fam.theta_scale()  # theta onto an unbounded scale and back
     target = _limit(design.kind, side)
     u0 = to_u(start)
 
@@ -217,7 +202,7 @@ def shared_thetas(designs, points: int = DEFAULT_POINTS) -> np.ndarray:
     pad = 0.03 * (right - left)
     left = left - pad if fam.theta_ok(left - pad) else left
     right = right + pad if fam.theta_ok(right + pad) else right
-    if first.kind == "upper" and _bottom(fam) is not None:
+    if first.problem.kind.sides == ("above",) and _bottom(fam) is not None:
         left = _bottom(fam)  # all of H0: theta from the bottom of the space up to value
     grid = snap(np.linspace(left, right, pts))
     grid = grid[fam.theta_ok_array(grid)]
@@ -292,7 +277,7 @@ def power_sheet(designs, thetas, *, random_digits=DEFAULT_RANDOM_DIGITS):
             f.insert(pos, key, [val] * len(f))
         frames.append(f)
     if not frames:
-        raise _error("designs", "[]", "at least one design is required")
+        raise invalid("designs", "[]", "at least one design is required", PlanningError)
     return pd.concat(frames, ignore_index=True)
 
 
@@ -307,11 +292,12 @@ def parse_number_list(field: str, text) -> list:
     items = [x.strip() if isinstance(x, str) else x for x in items]
     items = [x for x in items if not (isinstance(x, str) and x == "")]
     if not items:
-        raise _error(field, text, "a comma-separated list of numbers is required")
+        raise invalid(field, text, "a comma-separated list of numbers is required", PlanningError)
     out = []
     for x in items:
         try:
             out.append(as_real(field, x))
         except ExactbandError:
-            raise _error(field, text, "a comma-separated list of finite numbers") from None
+            raise invalid(field, text, "a comma-separated list of finite numbers",
+                          PlanningError) from None
     return out

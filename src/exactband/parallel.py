@@ -46,8 +46,8 @@ def resolve_workers(workers, tasks: int | None = None) -> int:
     return max(1, w)
 
 
-def _die_with_parent(parent: int) -> None:
-    """Pool initializer: ask Linux to kill this worker when its parent dies."""
+def die_with_parent(parent: int) -> None:
+    """Ask Linux to kill this process when its parent dies (pool initializer, forked child)."""
     import signal
     import sys
 
@@ -85,7 +85,7 @@ def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64) -> list:
     import multiprocessing
 
     parent = os.getpid() if multiprocessing.get_start_method() == "fork" else None
-    with ProcessPoolExecutor(max_workers=workers, initializer=_die_with_parent,
+    with ProcessPoolExecutor(max_workers=workers, initializer=die_with_parent,
                              initargs=(parent,)) as ex:
         for r in ex.map(fn, tasks, chunksize=chunk):
             out.append(r)

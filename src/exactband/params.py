@@ -8,13 +8,13 @@ from dataclasses import dataclass
 from .errors import invalid
 from .families import Family, get_family
 from .families.base import as_real
-from .kinds import Kind, get_kind
+from .kinds import ALPHA_MIN, ALPHA_MIN_EQUIVALENCE, Kind, get_kind
 
-# Supported range of alpha (inside (0, 1)).  Below 1e-100 tail probabilities approach
-# the double-precision underflow; an equivalence design is solved through its
-# complement of size 1 - alpha, which a double resolves only for alpha >= 1e-12.
-ALPHA_MIN = 1e-100
-ALPHA_MIN_EQUIVALENCE = 1e-12
+# Supported range of alpha (inside (0, 1)).  Below 1e-100 (ALPHA_MIN) tail
+# probabilities approach the double-precision underflow; an equivalence design is
+# solved through its complement of size 1 - alpha, which a double resolves only for
+# alpha >= 1e-12 (ALPHA_MIN_EQUIVALENCE): ``Kind.alpha_min``.
+__all__ = ["ALPHA_MAX", "ALPHA_MIN", "ALPHA_MIN_EQUIVALENCE", "Problem", "make_problem"]
 ALPHA_MAX = 1.0 - 1e-12
 
 
@@ -34,7 +34,7 @@ class Problem:
     @property
     def points(self) -> tuple:
         """The constraint points: (value,) or (low, high)."""
-        return (self.value,) if self.kind.takes == ("value",) else (self.low, self.high)
+        return self.kind.points(self.low, self.high, self.value)
 
     def inputs(self) -> dict:
         return {
@@ -74,7 +74,7 @@ def make_problem(family, kind, *, n, alpha, low=None, high=None, value=None,
     if knd.two_point and not vals["low"] < vals["high"]:
         raise invalid("low", given["low"], f"low must be smaller than high (high = {given['high']})")
     k = fam.check_dispersion(dispersion)
-    lo_alpha = ALPHA_MIN_EQUIVALENCE if knd.name == "equivalence" else ALPHA_MIN
+    lo_alpha = knd.alpha_min
     if not lo_alpha <= a <= ALPHA_MAX:
         raise invalid("alpha", alpha, f"{knd.name} designs are computed for "
                       f"{lo_alpha:g} <= alpha <= 1 - {1 - ALPHA_MAX:.0e}")

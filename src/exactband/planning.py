@@ -43,14 +43,13 @@ import numpy as np
 
 from . import kinds as K
 from .api import design as make_design
-from .design import _num
-from .errors import ExactbandError, VerificationError
+from .errors import ExactbandError, VerificationError, invalid, recast
 from .families.base import as_real
 from .ngrid import NGrid, first_k
+from .numtext import number_text
 from .oc import (
     DEFAULT_RANDOM_DIGITS,
     PlanningError,
-    _error,
     check_random_digits,
     check_rule,
     operating_characteristics,
@@ -141,16 +140,18 @@ def _check_step(fam, step):
         try:
             x = whole("step", step, allowed)
         except ExactbandError as e:
-            raise PlanningError(str(e)) from None
+            raise recast(e, PlanningError) from None
         if x < 1:
-            raise _error("step", step, allowed)
+            raise invalid("step", step, allowed, PlanningError)
         return x
     try:
         x = as_real("step", step)
     except ExactbandError:
-        raise _error("step", step, "a finite number > 0 (exposure grows in steps of it)") from None
+        raise invalid("step", step, "a finite number > 0 (exposure grows in steps of it)",
+                      PlanningError) from None
     if x <= 0:
-        raise _error("step", step, "a finite number > 0 (exposure grows in steps of it)")
+        raise invalid("step", step, "a finite number > 0 (exposure grows in steps of it)",
+                      PlanningError)
     return x
 
 
@@ -159,16 +160,17 @@ def _check_target(target, alpha):
     try:
         x = as_real("target", target)
     except ExactbandError:
-        raise _error("target", target, allowed) from None
+        raise invalid("target", target, allowed, PlanningError) from None
     if not alpha < x < 1.0:
-        raise _error("target", target, allowed)
+        raise invalid("target", target, allowed, PlanningError)
     return x
 
 
 def _null_words(problem) -> str:
     t = problem.family.theta_word
-    return problem.kind.summary.format(t=t, value=_num(problem.value), low=_num(problem.low),
-                                       high=_num(problem.high))
+    return problem.kind.summary.format(t=t, value=number_text(problem.value),
+                                       low=number_text(problem.low),
+                                       high=number_text(problem.high))
 
 
 def _check_alternatives(problem, alternatives) -> tuple:
@@ -178,10 +180,10 @@ def _check_alternatives(problem, alternatives) -> tuple:
         try:
             x = problem.family.check_theta("alternative", a)
         except ExactbandError as e:
-            raise PlanningError(str(e)) from None
+            raise recast(e, PlanningError) from None
         if bool(K.in_null(problem.kind.name, x, problem.low, problem.high, problem.value)):
-            raise _error("alternative", a, f"it lies in the null region ({_null_words(problem)}); "
-                                           "alternatives must lie outside it")
+            raise invalid("alternative", a, f"it lies in the null region ({_null_words(problem)}); "
+                                            "alternatives must lie outside it", PlanningError)
         out.append(x)
     return tuple(dict.fromkeys(out))
 
@@ -228,9 +230,9 @@ def plan(family, kind, *, alpha, alternatives, target, low=None, high=None, valu
     try:
         nmax = as_real("n-max", n_max)
     except ExactbandError:
-        raise _error("n-max", n_max, "a number >= step") from None
+        raise invalid("n-max", n_max, "a number >= step", PlanningError) from None
     if not st <= nmax <= 1e12:
-        raise _error("n-max", n_max, f"a number from step = {st} to 1e12")
+        raise invalid("n-max", n_max, f"a number from step = {st} to 1e12", PlanningError)
     grid = NGrid(probe, alts, st, rule, d)
     k_max = int(math.floor(nmax / st + 1e-9))
 
@@ -357,7 +359,7 @@ def power_against_n(result: PlanResult, ns=None):
     else:
         ks = np.array([round(float(x) / result.step) for x in ns])
         if np.any(ks < 1):
-            raise _error("n", min(ns), f"grid values of n >= step = {result.step}")
+            raise invalid("n", min(ns), f"grid values of n >= step = {result.step}", PlanningError)
     ns_arr, cut = grid.solve(ks)
     rows = []
     for a in result.alternatives:

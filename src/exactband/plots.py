@@ -11,11 +11,14 @@ no dates in the metadata).  The figures draw data computed elsewhere
 from __future__ import annotations
 
 import io
+import math
 from pathlib import Path
 
-from .design import DEFAULT_RANDOM_DIGITS, Design, _num
+from .design import DEFAULT_RANDOM_DIGITS, Design
+from .errors import invalid
 from .figfooter import add_footer
-from .oc import _error, one_hypothesis, operating_characteristics, rule_label
+from .numtext import number_text
+from .oc import PlanningError, one_hypothesis, operating_characteristics, rule_label
 
 FORMATS = ("png", "svg")
 PAGE_INCHES = {"A4": (8.27, 11.69), "Letter": (8.5, 11.0)}
@@ -45,9 +48,9 @@ def check_plot_path(path) -> Path:
     p = Path(str(path))
     ext = p.suffix.lower().lstrip(".")
     if ext not in FORMATS:
-        raise _error("plot", str(path), "the file name must end in .png or .svg")
+        raise invalid("plot", str(path), "the file name must end in .png or .svg", PlanningError)
     if p.exists() and p.is_dir():
-        raise _error("plot", str(path), "a file name is required, not a folder")
+        raise invalid("plot", str(path), "a file name is required, not a folder", PlanningError)
     return p
 
 
@@ -60,7 +63,7 @@ def figure_bytes(fig, fmt: str, dpi: int = 150) -> bytes:
             "pdf": {"CreationDate": None, "ModDate": None, "Producer": None,
                     "Creator": None}}.get(fmt)
     if meta is None:
-        raise _error("format", fmt, "png, svg or pdf")
+        raise invalid("format", fmt, "png, svg or pdf", PlanningError)
     buf = io.BytesIO()
     with matplotlib.rc_context({"svg.hashsalt": "exactband", "svg.fonttype": "none"}):
         fig.savefig(buf, format=fmt, dpi=dpi, metadata=meta)
@@ -83,12 +86,6 @@ def _new_figure(size):
 
 
 # -- words --------------------------------------------------------------------------
-UNIT_WORDS = {"poisson": "counts per unit of exposure", "binomial": "probability per trial",
-              "negative-binomial": "mean count per unit"}
-AXIS_WORDS = {"poisson": "rate \u03b8", "binomial": "proportion p",
-              "negative-binomial": "mean \u03b8"}
-
-
 def pretty(text: str) -> str:
     """Typographic comparison signs for figure text."""
     return text.replace("<=", "\u2264").replace(">=", "\u2265")
@@ -96,8 +93,7 @@ def pretty(text: str) -> str:
 
 def theta_axis_label(design: Design) -> str:
     fam = design.problem.family
-    word = AXIS_WORDS.get(fam.name, fam.theta_word)
-    return f"{word} ({UNIT_WORDS.get(fam.name, fam.theta_unit)})"
+    return f"{fam.axis_word} ({fam.theta_unit})"
 
 
 def _g(x, exact=None, random_digits=None):
@@ -110,10 +106,11 @@ def _g(x, exact=None, random_digits=None):
 def design_caption(design: Design, random_digits: int | None = None) -> str:
     """One paragraph naming the design: family, kind, H0, n, alpha, cutoffs, gammas."""
     fam = design.problem.family
-    disp = f", dispersion k = {_num(design.dispersion)}" if design.dispersion is not None else ""
+    disp = (f", {fam.dispersion_word} = {number_text(design.dispersion)}"
+            if design.dispersion is not None else "")
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
-             f"{pretty(design.hypothesis())}; {fam.n_word} = {_num(design.n)}; "
-             f"alpha = {_num(design.alpha)}."]
+             f"{pretty(design.hypothesis())}; {fam.n_word} = {number_text(design.n)}; "
+             f"alpha = {number_text(design.alpha)}."]
     parts.append(_cutoff_text(design, random_digits))
     if random_digits:
         t1, t2 = design.thresholds(random_digits)
@@ -143,31 +140,27 @@ def _size_text(sizes) -> str:
 
 # -- shading and reference lines ------------------------------------------------------
 def _shade_null(ax, design: Design, x0: float, x1: float, label=True):
-    kind, lab = design.kind, ("null region (H0)" if label else None)
-    if kind == "band":
-        ax.axvspan(design.low, design.high, label=lab, **NULL_SHADE)
-    elif kind == "upper":
-        ax.axvspan(x0, design.value, label=lab, **NULL_SHADE)
-    elif kind == "lower":
-        ax.axvspan(design.value, x1, label=lab, **NULL_SHADE)
-    elif kind == "equivalence":
-        ax.axvspan(x0, design.low, label=lab, **NULL_SHADE)
-        ax.axvspan(design.high, x1, **NULL_SHADE)
-    else:  # point: a line, the null region has no width
-        ax.axvline(design.value, color="0.6", linewidth=4, zorder=0, alpha=0.6,
-                   label=("null value (H0)" if label else None))
+    lab = "null region (H0)" if label else None
+    pieces = design.problem.kind.null_pieces(design.low, design.high, design.value)
+    for i, (a, b) in enumerate(pieces):
+        if a == b:  # a point: a line, the null region has no width
+            ax.axvline(a, color="0.6", linewidth=4, zorder=0, alpha=0.6,
+                       label=("null value (H0)" if label else None))
+            continue
+        kw = {"label": lab} if i == 0 else {}
+        ax.axvspan(x0 if a == -math.inf else a, x1 if b == math.inf else b, **kw, **NULL_SHADE)
 
 
 def _alpha_line(ax, alpha, curve="power"):
     y = alpha if curve == "power" else 1.0 - alpha
     name = "alpha" if curve == "power" else "1 - alpha"
     ax.axhline(y, color="0.25", linewidth=0.9, linestyle=(0, (1, 2)), zorder=2,
-               label=f"{name} = {_num(y) if curve == 'power' else f'{y:g}'}")
+               label=f"{name} = {number_text(y) if curve == 'power' else f'{y:g}'}")
 
 
 def _curve_col(curve: str) -> str:
     if curve not in ("power", "oc"):
-        raise _error("curve", curve, "power or oc")
+        raise invalid("curve", curve, "power or oc", PlanningError)
     return "power" if curve == "power" else "oc"
 
 
@@ -220,7 +213,8 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
     ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
     caption = design_caption(design, d) + (
         " Sizes are the probabilities of rejecting H0 at "
-        f"{', '.join(_num(p) for p in design.points)} (6 decimals); the conservative and field "
+        f"{', '.join(number_text(p) for p in design.points)} (6 decimals); "
+        "the conservative and field "
         "rules never exceed alpha. All values are exact sums of probabilities.")
     add_footer(foot, ax, caption)
     return fig
@@ -260,17 +254,15 @@ def plan_figure(result, frame, *, size=None):
                    label=f"target power {result.target:g}")
         if result.rule != "randomised":
             ax.axvline(result.n_randomised, color="0.6", linewidth=1.0, linestyle=(0, (1, 1)),
-                       label=f"n = {_num(result.n_randomised)} (randomised rule)")
+                       label=f"n = {number_text(result.n_randomised)} (randomised rule)")
         ax.axvline(result.n, color="0.15", linewidth=1.2, linestyle=(0, (4, 1, 1, 1)),
-                   label=f"n = {_num(result.n)} (smallest n meeting the target)")
+                   label=f"n = {number_text(result.n)} (smallest n meeting the target)")
         if result.n_from != result.n:
             ax.axvline(result.n_from, color="0.4", linewidth=1.2, linestyle=(0, (2, 1)),
-                       label=f"n_from = {_num(result.n_from)} (every larger n meets it)")
-        ax.set_ylabel(f"power at {fam.theta_word}\n= {_num(a)}", fontsize=9)
+                       label=f"n_from = {number_text(result.n_from)} (every larger n meets it)")
+        ax.set_ylabel(f"power at {fam.theta_word}\n= {number_text(a)}", fontsize=9)
         ax.grid(True, color="0.8", linewidth=0.5)
-    unit = "exposure units" if not fam.integer_n else ("trials" if fam.name == "binomial"
-                                                       else "units")
-    axes[-1].set_xlabel(f"{fam.n_word} ({unit}; grid step {_num(result.step)})")
+    axes[-1].set_xlabel(f"{fam.n_word} ({fam.n_unit}; grid step {number_text(result.step)})")
     rule_words = {"randomised": "randomised rule", "conservative": "conservative rule",
                   "digits": f"field rule with {d} random digits"}[result.rule]
     axes[0].set_title(f"Power against n, {rule_words}: {pretty(des.hypothesis())}", fontsize=10)
@@ -282,9 +274,10 @@ def plan_figure(result, frame, *, size=None):
         rule_at += f" Thresholds t = floor(gamma x 10^{d}): " + ", ".join(
             f"t{i} = {t}" for i, t in enumerate(des.thresholds(d), start=1) if t is not None) + "."
     caption = (f"{des.problem.kind.optimality} {des.kind} test, {fam.name} family, "
-               f"alpha = {_num(result.alpha)}; alternatives ({UNIT_WORDS.get(fam.name, '')}) "
-               f"{', '.join(_num(x) for x in alts)}; target power {result.target:g}. "
-               f"The {rule_words} at n = {_num(result.n)}: {rule_at}")
+               f"alpha = {number_text(result.alpha)}; "
+               f"alternatives ({fam.theta_unit}) "
+               f"{', '.join(number_text(x) for x in alts)}; target power {result.target:g}. "
+               f"The {rule_words} at n = {number_text(result.n)}: {rule_at}")
     add_footer(foot, axes[0], caption)
     return fig
 
@@ -305,9 +298,9 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
     rules = tuple({"randomized": "randomised"}.get(r, r) for r in rules)  # accepted spelling
     for r in rules:
         if r not in STYLE:
-            raise _error("rules", r, "randomised, conservative, digits")
+            raise invalid("rules", r, "randomised, conservative, digits", PlanningError)
     if paper not in PAGE_INCHES:
-        raise _error("paper", paper, "A4 or Letter")
+        raise invalid("paper", paper, "A4 or Letter", PlanningError)
     from .oc import shared_thetas
 
     theta = shared_thetas(designs, points)  # one x-range for every row of charts
@@ -322,7 +315,8 @@ def oc_pages(designs, *, rules=("randomised", "conservative"), curve="oc", rando
                            for x in group]) for group in rows[p:p + charts_per_page]]
         first = rows[p][0]
         fam = first.problem.family
-        disp = f", dispersion k = {_num(first.dispersion)}" if first.dispersion is not None else ""
+        disp = (f", {fam.dispersion_word} = {number_text(first.dispersion)}"
+                if first.dispersion is not None else "")
         head = title or (f"{'OC' if col == 'oc' else 'Power'} curves: "
                          f"{pretty(first.hypothesis())}, {fam.name} family{disp}")
         pages.append(draw_oc_page(charts, rules=rules, curve=col, random_digits=random_digits,
@@ -355,13 +349,14 @@ def draw_oc_page(charts, *, rules, curve="oc", random_digits=DEFAULT_RANDOM_DIGI
             for i, (x, f) in enumerate(zip(group, frames)):
                 st = dict(N_STYLES[i % len(N_STYLES)])
                 ax.plot(f["theta"].to_numpy(float), f[f"{col}_{rule}"].to_numpy(float),
-                        label=f"n = {_num(x.n)}", markevery=(0.02 * i, 0.1), markersize=4, **st)
+                        label=f"n = {number_text(x.n)}", markevery=(0.02 * i, 0.1),
+                        markersize=4, **st)
             ax.set_xlim(x0, x1)
             ax.set_ylim(-0.02, 1.02)
             ax.grid(True, color="0.85", linewidth=0.5)
             sep = ", " if len(rules) < 3 else "\n"  # three columns: too narrow for one line
             ax.set_title(f"{SHORT_RULE[rule].format(d=random_digits)}{sep}"
-                         f"alpha = {_num(group[0].alpha)}", fontsize=8.5)
+                         f"alpha = {number_text(group[0].alpha)}", fontsize=8.5)
             ax.tick_params(labelsize=7.5)
             if c == 0:
                 ax.set_ylabel(_y_label(col), fontsize=8)

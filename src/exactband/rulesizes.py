@@ -22,8 +22,6 @@ import numpy as np
 
 from . import kinds as K
 
-ONE_AT_A_TIME = frozenset({"negative-binomial"})  # float law not elementwise (see above)
-
 
 def sizes_with_gammas(designs, gammas) -> list:
     """[d.with_gammas(g1, g2).sizes for d, (g1, g2) in zip(designs, gammas)], vectorised."""
@@ -36,7 +34,7 @@ def sizes_with_gammas(designs, gammas) -> list:
         groups[(d.problem.family.name, d.kind)].append(i)
     out = [None] * len(designs)
     for (name, kind), idx in groups.items():
-        if name in ONE_AT_A_TIME:
+        if not designs[idx[0]].problem.family.float_law.elementwise:  # (see above)
             for i in idx:
                 out[i] = designs[i].with_gammas(*gammas[i]).sizes
             continue

@@ -17,7 +17,7 @@ import numbers
 import re
 from decimal import Decimal
 
-from .errors import DesignError, invalid
+from .errors import invalid
 
 _REAL = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?", re.ASCII)
 _WHOLE = re.compile(r"\+?[0-9]+", re.ASCII)
@@ -93,8 +93,7 @@ def name(field: str, value, allowed: tuple) -> str:
     key = value.strip().lower()
     if key in allowed:
         return key
-    raise DesignError(str(invalid(field, value, f"allowed: {', '.join(allowed)}"))
-                      + suggest(key, allowed))
+    raise invalid(field, value, f"allowed: {', '.join(allowed)}{suggest(key, allowed)}")
 
 
 def suggest(word: str, choices) -> str:

@@ -12,13 +12,14 @@ from __future__ import annotations
 import csv
 import math
 from dataclasses import dataclass, replace
-from decimal import ROUND_FLOOR, Decimal
+from decimal import Decimal
 from pathlib import Path
 
-from .decide import DecideError, _error
+from .decide import DecideError
 from .design import DEFAULT_RANDOM_DIGITS, Design
-from .errors import ExactbandError
+from .errors import ExactbandError, invalid, recast
 from .params import make_problem
+from .rule import threshold
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
             "c2", "gamma2")
@@ -55,30 +56,33 @@ def _number(where, name, text, whole=False):
     try:
         x = float(text)
     except ValueError:
-        raise DecideError(f"{where}: invalid {name} = {text}: a number is required") from None
+        raise DecideError(f"{where}: invalid {name} = {text}: a number is required",
+                          field=name, value=text, allowed="a number is required") from None
     if not math.isfinite(x) or (whole and x != math.floor(x)):
-        raise DecideError(f"{where}: invalid {name} = {text}: "
-                          f"{'a whole number' if whole else 'a finite number'} is required")
+        allowed = f"{'a whole number' if whole else 'a finite number'} is required"
+        raise DecideError(f"{where}: invalid {name} = {text}: {allowed}", field=name,
+                          value=text, allowed=allowed)
     return int(x) if whole else x
 
 
 def read_rows(path) -> list:
     p = Path(str(path))
     if not p.is_file():
-        raise _error("table", str(path), "an existing table CSV file (NAME.csv)")
+        raise invalid("table", str(path), "an existing table CSV file (NAME.csv)", DecideError)
     try:
         with open(p, encoding="utf-8-sig", newline="") as fh:
             reader = csv.DictReader(fh)
             rows = list(reader)
             cols = reader.fieldnames or []
     except (UnicodeDecodeError, csv.Error) as e:
-        raise _error("table", str(path), f"a UTF-8 CSV file ({type(e).__name__})") from None
+        raise invalid("table", str(path), f"a UTF-8 CSV file ({type(e).__name__})",
+                      DecideError) from None
     missing = [c for c in REQUIRED if c not in cols]
     if missing:
-        raise _error("table", str(path), "a generated table CSV; missing column(s) "
-                                         + ", ".join(missing))
+        raise invalid("table", str(path), "a generated table CSV; missing column(s) "
+                                         + ", ".join(missing), DecideError)
     if not rows:
-        raise _error("table", str(path), "a table with at least one row")
+        raise invalid("table", str(path), "a table with at least one row", DecideError)
     return rows
 
 
@@ -109,19 +113,22 @@ def select_row(path, row=None, **filters) -> tuple:
         try:
             k = whole("row", row, f"a whole number from 1 to {len(rows)}")
         except ExactbandError as e:
-            raise DecideError(str(e)) from None
+            raise recast(e, DecideError) from None
         if not 1 <= k <= len(rows):
-            raise _error("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)")
+            raise invalid("row", row, f"a whole number from 1 to {len(rows)} (the table's rows)",
+                          DecideError)
         if given and not _matches(rows[k - 1], given):
-            raise _error("row", row, "that row does not match the design options given")
+            raise invalid("row", row, "that row does not match the design options given",
+                          DecideError)
         return k, rows[k - 1]
     if not given:
-        raise _error("row", row, "give --row or design options (e.g. --kind --n --alpha) "
-                                 "that pick one row")
+        raise invalid("row", row, "give --row or design options (e.g. --kind --n --alpha) "
+                                 "that pick one row", DecideError)
     hits = [i for i, r in enumerate(rows) if _matches(r, given)]
     desc = ", ".join(f"{k}={v}" for k, v in given.items())
     if not hits:
-        raise DecideError(f"invalid table = {path}: no row matches {desc}")
+        raise DecideError(f"invalid table = {path}: no row matches {desc}", field="table",
+                          value=path)
     if len(hits) > 1:
         raise DecideError(f"invalid table = {path}: {len(hits)} rows match {desc} "
                           f"(rows {', '.join(str(i + 1) for i in hits[:8])}); add options or --row")
@@ -129,7 +136,7 @@ def select_row(path, row=None, **filters) -> tuple:
 
 
 def _floor_t(gamma: float, d: int) -> int:
-    return int((Decimal(repr(gamma)) * Decimal(10) ** d).to_integral_value(rounding=ROUND_FLOOR))
+    return threshold(gamma, d)
 
 
 def _infer_digits(gammas, ts) -> int | None:
@@ -159,7 +166,7 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
                             low=vals["low"], high=vals["high"], value=vals["value"],
                             dispersion=vals["dispersion"])
     except ExactbandError as e:
-        raise DecideError(f"{where}: {e}") from None
+        raise recast(e, DecideError, f"{where}: ") from None
     c1 = _number(where, "c1", vals["c1"], whole=True)
     c2 = _number(where, "c2", vals["c2"], whole=True)
     g1 = _number(where, "gamma1", vals["gamma1"])
@@ -169,9 +176,11 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         if used and (c is None or g is None):
             raise DecideError(f"{where}: the {kind.name} kind needs c{name} and gamma{name}")
         if used and not 0.0 <= g < 1.0:
-            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)")
+            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)",
+                              field=f"gamma{name}", value=g, allowed="a number in [0, 1)")
         if used and c < 0:
-            raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0")
+            raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0",
+                              field=f"c{name}", value=c, allowed="a whole number >= 0")
     if not kind.uses_c1:
         c1 = g1 = None
     if not kind.uses_c2:
@@ -195,7 +204,8 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
         if value is not None:
             dd = _number(where, source, str(value), whole=True)
             if not 1 <= dd <= 9:
-                raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9")
+                raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9",
+                                  field=source, value=value, allowed="a whole number 1 to 9")
             if source == "random_digits":
                 d = dd
             else:

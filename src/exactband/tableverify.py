@@ -25,9 +25,9 @@ import math
 from decimal import Decimal, InvalidOperation
 from pathlib import Path
 
-from .api import DEFAULT_PRECISION, fast_solve, verify_one
 from .decide import DecideError
-from .errors import ExactbandError
+from .errors import ExactbandError, recast
+from .solving import DEFAULT_PRECISION, fast_solve, verify_one
 from .tablerow import TableRule, select_row, table_rule
 
 GAMMA_TOL = 1e-15
@@ -80,7 +80,7 @@ def check_row(tr: TableRule, cells: dict) -> None:
     try:
         d = verify_one(p, fast_solve([p])[0], _precision(cells))
     except ExactbandError as e:
-        raise DecideError(f"{where}: its design cannot be verified: {e}") from None
+        raise recast(e, DecideError, f"{where}: its design cannot be verified: ") from None
     printed = tr.printed_random_digits  # the printed thresholds follow the table's count
     t1, t2 = d.thresholds(printed)
     cons = d.nonrandomized().sizes

@@ -9,6 +9,8 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, Decimal, localcontext
 
+from .numtext import number_text
+
 RULE_NAMES = ("randomised", "conservative", "digits")
 ALIASES = {"randomized": "randomised"}  # accepted spelling
 GAMMA_PLACES = 6  # decimals a gamma shows at least
@@ -43,11 +45,9 @@ def gamma_text(gamma, exact: str | None = None, random_digits: int | None = None
 
 def side_words(design, side: str) -> str:
     """A rejection's side with this design's numbers, e.g. 'below the band (p < 0.01)'."""
-    from .design import _num
-
     return design.problem.kind.side_text(side, design.problem.family.theta_word,
-                                         _num(design.low), _num(design.high),
-                                         _num(design.value))
+                                         number_text(design.low), number_text(design.high),
+                                         number_text(design.value))
 
 
 def _g(design, i):
@@ -96,7 +96,7 @@ def rule_lines(design, rule: str = "randomised", random_digits: int | None = Non
     kind, c1, c2 = design.problem.kind, design.c1, design.c2
     d = random_digits
     out = []
-    if "inside" in kind.sides:  # equivalence: reject in the middle
+    if kind.rejects_inside:  # equivalence: reject in the middle
         where = side_words(design, "inside")
         if c2 - c1 > 1:
             out.append(f"Reject H0 if {c1 + 1} <= Y <= {c2 - 1}: the data indicate "

@@ -2,12 +2,12 @@
 
 Every kind and every discrete family meets each hard regime: small counts, a
 narrow band (relative widths 1e-2 to 1e-6), alpha down to 1e-6, large n, and
-for the binomial p near 0 or 1.  A seed jitters the parameters inside each
-cell of the grid (Python's random.Random, stable across versions), and every
-value is rounded to four significant digits so it prints exactly.  The same
-seed and exactband version give the same file, byte for byte.  The answer
-columns c1, gamma1, c2, gamma2 are left empty; ``exactband audit`` of the
-filled file grades it.
+for a bounded parameter (the binomial p) each end of its space.  A seed
+jitters the parameters inside each cell of the grid (Python's random.Random,
+stable across versions), and every value is rounded to four significant digits
+so it prints exactly.  The same seed and exactband version give the same file,
+byte for byte.  The answer columns c1, gamma1, c2, gamma2 are left empty;
+``exactband audit`` of the filled file grades it.
 """
 
 from __future__ import annotations
@@ -16,11 +16,11 @@ import csv
 import io
 import random
 
+from ..families import FAMILIES
 from ..fileio import safe_cell_text
+from ..kinds import KINDS  # every kind, in their order: upper, lower, point, band, equivalence
 from .columns import STANDARD
 
-FAMILIES = ("poisson", "binomial", "negative-binomial")
-KINDS = ("upper", "lower", "point", "band", "equivalence")
 HEADER = ("id", "regime") + STANDARD
 WIDTHS = {"id": 7, "regime": 18, "family": 17, "kind": 11, "n": 9, "alpha": 8, "low": 11,
           "high": 11, "value": 11, "dispersion": 10, "c1": 8, "gamma1": 14, "c2": 8, "gamma2": 14}
@@ -52,11 +52,15 @@ class _Grid:
         return _sig(x * (1 + self.rng.uniform(-spread, spread)))
 
     def add(self, regime, family, kind, n, alpha, theta, width=None, k=None):
-        """One design around theta; two-point kinds get [theta, theta * (1 + width)]."""
-        row = {"regime": regime, "family": family, "kind": kind, "n": n, "alpha": alpha,
-               "dispersion": k if family == "negative-binomial" else None}
-        if kind in ("band", "equivalence"):
-            hi = theta * (1 + width) if family != "binomial" else theta + width * min(theta, 1 - theta)
+        """One design around theta; two-point kinds get [theta, theta * (1 + width)]
+        (a bounded parameter: theta + width * its distance to the nearer end)."""
+        row = {"regime": regime, "family": family.name, "kind": kind, "n": n, "alpha": alpha,
+               "dispersion": k if family.uses_dispersion else None}
+        if KINDS[kind].two_point:
+            if family.bounded:
+                hi = theta + width * min(theta - family.theta_min, family.theta_max - theta)
+            else:
+                hi = theta * (1 + width)
             lo, hi = _sig(theta, 8), _sig(hi, 8)
             if not lo < hi:
                 return
@@ -66,18 +70,18 @@ class _Grid:
         self.rows.append(row)
 
 
-def _n(family, g: _Grid, poisson: float, counted: int) -> float | int:
-    """Exposure (Poisson, jittered) or number of trials / units."""
-    return g.jitter(poisson) if family == "poisson" else counted
+def _n(family, g: _Grid, exposure: float, counted: int) -> float | int:
+    """An exposure (real n, jittered) or a number of trials / units (whole n)."""
+    return counted if family.integer_n else g.jitter(exposure)
 
 
 def grid(seed: int = 0) -> list:
     """The challenge designs as dicts of the standard input columns (plus id, regime)."""
     g = _Grid(seed)
-    for family in FAMILIES:
-        k = 2.0 if family == "negative-binomial" else None
+    for family in [f for f in FAMILIES.values() if f.discrete]:  # in registry order
+        k = 2.0 if family.uses_dispersion else None
         for kind in KINDS:
-            wide = 0.5 if kind in ("band", "equivalence") else None
+            wide = 0.5 if KINDS[kind].two_point else None
             # small counts: a handful of expected events
             n = _n(family, g, 5, 20)
             g.add("small counts", family, kind, n, 0.05, g.jitter(2.5 / n), wide, k)
@@ -85,21 +89,24 @@ def grid(seed: int = 0) -> list:
             for alpha in (1e-3, 1e-6):
                 n = _n(family, g, 40, 300)
                 g.add(f"alpha {alpha:g}", family, kind, n, alpha, g.jitter(60 / n), wide, k)
-            # large n: thousands of expected events
-            n = _n(family, g, 20_000, 100_000 if family == "binomial" else 2000)
+            # large n: thousands of expected events (a proportion: n > 5000 for 5000 events)
+            n = _n(family, g, 20_000, 100_000 if family.bounded else 2000)
             g.add("large n", family, kind, n, 0.01, g.jitter(5000 / n),
                   0.05 if wide else None, 0.5 if k else None)
             # narrow bands: the two side conditions nearly coincide
-            if kind in ("band", "equivalence"):
+            if KINDS[kind].two_point:
                 for width in (1e-2, 1e-4, 1e-6):
                     n = _n(family, g, 50, 400)
                     g.add(f"narrow band {width:g}", family, kind, n, 0.05, g.jitter(100 / n),
                           width, k)
-        if family == "binomial":
+        if family.bounded:  # near each end of the parameter space (a proportion: 0 and 1)
+            lo, hi = family.theta_min, family.theta_max
             for kind in KINDS:
-                wide = 0.5 if kind in ("band", "equivalence") else None
-                g.add("p near 0", family, kind, 5000, 0.05, g.jitter(2e-4), wide)
-                g.add("p near 1", family, kind, 500, 0.05, _sig(1 - g.jitter(1e-3), 6), wide)
+                wide = 0.5 if KINDS[kind].two_point else None
+                g.add(f"{family.symbol} near {lo:g}", family, kind, 5000, 0.05,
+                      lo + g.jitter(2e-4), wide)
+                g.add(f"{family.symbol} near {hi:g}", family, kind, 500, 0.05,
+                      _sig(hi - g.jitter(1e-3), 6), wide)
     for i, row in enumerate(g.rows, start=1):
         row["id"] = f"CH{i:03d}"
     return g.rows
@@ -128,7 +135,8 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     from openpyxl.utils import get_column_letter
 
     from .. import __version__
-    from .xlsx_report import CAUTION, _deterministic, print_setup
+    from ..xlsxzip import workbook_bytes
+    from .xlsx_report import CAUTION, print_setup
 
     wb = Workbook()
     ws = wb.active
@@ -160,6 +168,4 @@ def xlsx_bytes(rows, seed: int) -> bytes:
     info.column_dimensions["A"].width = 100
     print_setup(info, pages_wide=1)
     info.page_setup.orientation = "portrait"
-    buf = io.BytesIO()
-    wb.save(buf)
-    return _deterministic(buf.getvalue())
+    return workbook_bytes(wb)

@@ -43,7 +43,8 @@ def parse_map_flags(items) -> dict:
         ours = ours.strip().lower()
         if not sep or not theirs.strip():
             raise AuditInputError(f"invalid --map = {item!r}: write OURS=THEIRS, e.g. "
-                                  "--map c1='Lower limit'")
+                                  "--map c1='Lower limit'", field="--map", value=item,
+                                  allowed="OURS=THEIRS")
         _check_ours(ours, f"--map {item!r}")
         out[ours] = theirs.strip()
     return out

@@ -15,8 +15,7 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
 
-from scipy import stats
-
+from .. import kinds as K
 from ..errors import ExactbandError
 from ..params import Problem, make_problem
 
@@ -24,14 +23,8 @@ STANDARD_ALPHAS = (0.1, 0.05, 0.025, 0.02, 0.01, 0.005, 0.001)
 
 
 def law(p: Problem, theta: float):
-    """scipy.stats frozen law of the total Y at theta."""
-    n, k = p.n, p.dispersion
-    if p.family.name == "poisson":
-        return stats.poisson(n * theta)
-    if p.family.name == "binomial":
-        return stats.binom(int(n), theta)
-    r, m = n * k, n * theta
-    return stats.nbinom(r, r / (r + m))
+    """scipy.stats frozen law of the total Y at theta (the family's ``scipy_law``)."""
+    return p.family.scipy_law(theta, p.n, p.dispersion)
 
 
 def lower_tail(dist, a: float) -> tuple[int, float]:
@@ -58,7 +51,7 @@ def upper_tail(dist, a: float) -> tuple[int, float]:
 def equal_tailed(p: Problem):
     """alpha/2 in each tail, each tail at its own end of the null (band, point)."""
     a = p.alpha / 2
-    lo, hi = (p.low, p.high) if p.kind.name == "band" else (p.value, p.value)
+    lo, hi = p.points[0], p.points[-1]  # the two ends of the null (band), or the value
     c1, g1 = lower_tail(law(p, lo), a)
     c2, g2 = upper_tail(law(p, hi), a)
     return c1, g1, c2, g2
@@ -67,7 +60,7 @@ def equal_tailed(p: Problem):
 def end_anchored(p: Problem):
     """Each tail of size alpha at its own band end (band); two one-sided tests (equivalence)."""
     dl, dh = law(p, p.low), law(p, p.high)
-    if p.kind.name == "band":
+    if not p.kind.rejects_inside:
         c1, g1 = lower_tail(dl, p.alpha)
         c2, g2 = upper_tail(dh, p.alpha)
         return c1, g1, c2, g2
@@ -111,7 +104,7 @@ def shifted(kind: str, ours):
                      for c, s in (("c1", s1), ("c2", s2)) if s]
             # printing the last count rejected outright ('reject if Y <= c1') moves c1 down and
             # c2 up by one for the kinds that reject in the tails
-            outward = kind != "equivalence" and s1 <= 0 and s2 >= 0
+            outward = not K.as_kind(kind).rejects_inside and s1 <= 0 and s2 >= 0
             note = ": 'reject if Y <= c1 / Y >= c2' read as < / >" if outward else ""
             out.append((f"cutoff convention shifted by one ({'; '.join(parts)}{note})",
                         (None if c1 is None else c1 + s1, g1, None if c2 is None else c2 + s2, g2)))
@@ -132,7 +125,7 @@ def other_problems(p: Problem):
         except ExactbandError:
             pass
 
-    if p.kind.name == "band":
+    if p.kind.two_point and p.kind.two_tailed:  # a band: its limits at each end
         add(f"point design at the band's low end (theta = {p.low:g})", kind="point",
             value=p.low, low=None, high=None)
         add(f"point design at the band's high end (theta = {p.high:g})", kind="point",

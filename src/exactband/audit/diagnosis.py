@@ -25,7 +25,7 @@ from __future__ import annotations
 
 from decimal import ROUND_FLOOR, ROUND_HALF_UP, Decimal
 
-from ..api import fast_solve, from_fast
+from ..solving import fast_solve, from_fast
 from . import constructions as X
 from .match import agrees
 
@@ -42,7 +42,7 @@ FILE_SWAPS = {SWAP_GAMMAS: "the gamma1 and gamma2 columns appear swapped for the
 
 
 def _first_tries(p, ours):
-    kind = p.kind.name
+    kind = p.kind
     yield "conservative non-randomised design (randomisation dropped: gammas 0)", \
         lambda: X.conservative(ours)
     c1, g1, c2, g2 = ours
@@ -50,16 +50,14 @@ def _first_tries(p, ours):
         yield SWAP_GAMMAS, lambda: (c1, g2, c2, g1)
         yield SWAP_CUTOFFS, lambda: (c2, g1, c1, g2)
         yield SWAP_PAIRS, lambda: (c2, g2, c1, g1)
-    if kind == "band":
-        yield "equal-tailed: alpha/2 in each tail, each tail at its own band end", \
+    if kind.two_tailed:
+        yield ("equal-tailed: alpha/2 in each tail, each tail at its own band end"
+               if kind.two_point else "equal-tailed: alpha/2 in each tail at the value"), \
             lambda: X.equal_tailed(p)
-        yield ("end-anchored tails: left tail of size alpha at low, right tail of size alpha "
-               "at high"), lambda: X.end_anchored(p)
-    elif kind == "point":
-        yield "equal-tailed: alpha/2 in each tail at the value", lambda: X.equal_tailed(p)
-    elif kind == "equivalence":
-        yield ("end-anchored tails: two one-sided tests of size alpha, one at each band end"), \
-            lambda: X.end_anchored(p)
+    if kind.two_point:
+        yield ("end-anchored tails: two one-sided tests of size alpha, one at each band end"
+               if kind.rejects_inside else "end-anchored tails: left tail of size alpha at "
+               "low, right tail of size alpha at high"), lambda: X.end_anchored(p)
 
 
 def _solved(problems):

@@ -51,10 +51,4 @@ def agrees(kind, theirs, other, tol, slack=SLACK) -> bool:
 
 def canonical(kind, rule):
     """(c, gamma = 1) written as the neighbouring cutoff with gamma 0."""
-    c1, g1, c2, g2 = rule
-    out1 = -1 if kind == "equivalence" else 1
-    if g1 is not None and g1 >= 1:
-        c1, g1 = c1 + out1, 0.0
-    if g2 is not None and g2 >= 1:
-        c2, g2 = c2 - out1, 0.0
-    return c1, g1, c2, g2
+    return K.as_kind(kind).canonical(*rule)

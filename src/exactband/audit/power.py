@@ -15,7 +15,7 @@ import math
 import numpy as np
 from scipy.optimize import minimize_scalar
 
-from ..design import Design
+from ..design import power_at
 from ..params import Problem
 
 _U = np.logspace(-9, 0, 90, endpoint=False)  # relative steps towards a far limit
@@ -23,19 +23,13 @@ _U = np.logspace(-9, 0, 90, endpoint=False)  # relative steps towards a far limi
 
 def _spread(p: Problem, theta: float) -> float:
     """Standard error of the per-unit estimate of theta at theta."""
-    n, k = float(p.n), p.dispersion
-    if p.family.name == "binomial":
-        return math.sqrt(theta * (1 - theta) / n)
-    if p.family.name == "negative-binomial":
-        return math.sqrt((theta + theta * theta / k) / n)
-    return math.sqrt(theta / n)
+    return p.family.theta_spread(theta, float(p.n), p.dispersion)
 
 
 def _valid(p: Problem, t):
-    t = t[np.isfinite(t) & (t > 0)]
-    if p.family.name == "binomial":
-        t = t[t < 1]
-    return t
+    """The finite thetas inside the family's parameter space."""
+    t = t[np.isfinite(t)]
+    return t[p.family.theta_ok_array(t)]
 
 
 def _side(p: Problem, b: float, direction: int, stop: float | None):
@@ -44,8 +38,9 @@ def _side(p: Problem, b: float, direction: int, stop: float | None):
     ``stop`` is the width available on that side (None: the whole parameter space).
     """
     far = 10 * _spread(p, b)
-    if stop is None:
-        room = b if direction < 0 else (1.0 - b if p.family.name == "binomial" else 10 * far)
+    if stop is None:  # up to the end of the parameter space on that side, if it has one
+        end = p.family.theta_min if direction < 0 else p.family.theta_max
+        room = (b - end if direction < 0 else end - b) if math.isfinite(end) else 10 * far
     else:
         room = stop
     near = min(far, room)
@@ -54,45 +49,40 @@ def _side(p: Problem, b: float, direction: int, stop: float | None):
 
 def alternative_grid(p: Problem):
     """(thetas, pieces): grid over the alternative of the problem's kind."""
-    kind = p.kind.name
-    if kind in ("band",):
-        ts = [_side(p, p.low, -1, None), _side(p, p.high, +1, None)]
-    elif kind == "point":
-        ts = [_side(p, p.value, -1, None), _side(p, p.value, +1, None)]
-    elif kind == "upper":
-        ts = [_side(p, p.value, +1, None)]
-    elif kind == "lower":
-        ts = [_side(p, p.value, -1, None)]
-    else:  # equivalence: the alternative is low < theta < high
-        w = p.high - p.low
-        ts = [_side(p, p.low, +1, w), _side(p, p.high, -1, w), np.linspace(p.low, p.high, 41)[1:-1]]
+    kind, lo, hi = p.kind, p.points[0], p.points[-1]
+    ts = []
+    for side in kind.sides:
+        if side == "below":
+            ts.append(_side(p, lo, -1, None))
+        elif side == "above":
+            ts.append(_side(p, hi, +1, None))
+        else:  # inside: the alternative is low < theta < high
+            w = hi - lo
+            ts += [_side(p, lo, +1, w), _side(p, hi, -1, w), np.linspace(lo, hi, 41)[1:-1]]
     t = _valid(p, np.concatenate(ts))
-    if kind == "equivalence":
-        t = t[(t > p.low) & (t < p.high)]
-    elif kind == "band":
-        t = t[(t < p.low) | (t > p.high)]
-    elif kind == "point":
-        t = t[t != p.value]
-    elif kind == "upper":
-        t = t[t > p.value]
-    else:
-        t = t[t < p.value]
+    t = t[~kind.in_null(t, p.low, p.high, p.value)]
     return np.unique(t)
 
 
 def lowest_power(p: Problem, rule: tuple) -> tuple[float | None, float | None]:
     """(theta, power) where the rule's power is lowest in the alternative."""
-    d = Design(p, *rule, ())
+    cut = tuple(float("nan") if x is None else x for x in rule[0::2])
+    c1, c2 = cut
+    g1, g2 = (0.0 if x is None else x for x in rule[1::2])
+
+    def power(theta):  # the rule as printed (a gamma of 1 included)
+        return power_at(p, (c1, g1, c2, g2), np.atleast_1d(np.asarray(theta, dtype=float)))
+
     t = alternative_grid(p)
     if t.size == 0:
         return None, None
-    pw = np.asarray(d.power(t), dtype=float)
+    pw = power(t)
     i = int(np.argmin(pw))
     best_t, best_p = float(t[i]), float(pw[i])
     lo = t[i - 1] if i > 0 else t[i]
     hi = t[i + 1] if i + 1 < t.size else t[i]
     if hi > lo and not _crosses_null(p, lo, hi):
-        res = minimize_scalar(lambda x: float(d.power(x)), bounds=(lo, hi), method="bounded",
+        res = minimize_scalar(lambda x: float(power(x)[0]), bounds=(lo, hi), method="bounded",
                               options={"xatol": (hi - lo) * 1e-6})
         if res.success and res.fun < best_p and lo <= res.x <= hi:
             best_t, best_p = float(res.x), float(res.fun)
@@ -101,13 +91,4 @@ def lowest_power(p: Problem, rule: tuple) -> tuple[float | None, float | None]:
 
 def _crosses_null(p: Problem, lo: float, hi: float) -> bool:
     """Whether [lo, hi] holds a point of the null (refinement must stay outside it)."""
-    k = p.kind.name
-    if k == "band":
-        return lo <= p.high and hi >= p.low
-    if k == "point":
-        return lo <= p.value <= hi
-    if k == "upper":
-        return lo <= p.value
-    if k == "lower":
-        return hi >= p.value
-    return lo <= p.low or hi >= p.high  # equivalence: the null lies outside (low, high)
+    return p.kind.crosses_null(lo, hi, p.low, p.high, p.value)

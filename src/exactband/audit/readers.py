@@ -10,42 +10,29 @@ arrives as its text (``=...``) and is refused later as a value.
 
 Evidence: a CSV file is read twice (count, then parse), each pass hashing every
 byte it reads; the two hashes must agree, so the hash reported is that of the
-bytes judged.  An XLSX workbook is read into memory once (at most MAX_XLSX
-bytes), hashed, and parsed from those bytes.
+bytes judged.  An XLSX workbook is read into memory once (at most
+xlsx_reader.MAX_XLSX bytes), hashed, and parsed from those bytes.
 
 XLSX: rows come from the sheet data itself, never from its ``<dimension>``
 element (which a writer may leave stale); the work is bounded by the cells
 present, and a disagreement with the dimension is reported.  Sheets are parsed
 with defusedxml (no DTD, no entities: no XML bombs), streaming row by row; an
-archive that would unpack to more than MAX_UNZIPPED bytes is refused unopened.
+archive that would unpack to more than xlsx_reader.MAX_UNZIPPED bytes is refused
+unopened.
 """
 
 from __future__ import annotations
 
 import csv
 import hashlib
-from dataclasses import dataclass, field
 from pathlib import Path
 
 from .errors import AuditInputError
+from .source import Source
 
 MAX_LINE = 1_000_000  # characters in one CSV line
 MAX_FIELD = 100_000  # characters in one CSV field
-MAX_UNZIPPED = 256 * 2**20  # bytes an XLSX archive may unpack to
-MAX_XLSX = 64 * 2**20  # bytes of an XLSX file (read into memory once)
 DELIMITERS = (",", ";", "\t")
-
-
-@dataclass
-class Source:
-    """A file opened for auditing (see the module docstring)."""
-
-    name: str
-    sha256: str
-    header: list
-    count: int  # data rows present
-    rows: object  # callable: () -> iterator of (data_row, file_line, cells)
-    notes: list = field(default_factory=list)
 
 
 def file_format(path: Path) -> str:
@@ -211,10 +198,12 @@ def _check_csv_options(delimiter, encoding) -> str:
         text_codec = False
     if not text_codec:
         raise AuditInputError(f"invalid --encoding = {encoding!r}: not a text encoding; "
-                              "e.g. utf-8, cp1252, latin-1")
+                              "e.g. utf-8, cp1252, latin-1", field="--encoding", value=encoding,
+                              allowed="a text encoding, e.g. utf-8, cp1252, latin-1")
     if delimiter is not None and (len(delimiter) != 1 or delimiter in "\"\r\n"):
         raise AuditInputError(f"invalid --delimiter = {delimiter!r}: one character such as , ; "
-                              "or a tab")
+                              "or a tab", field="--delimiter", value=delimiter,
+                              allowed="one character such as , ; or a tab")
     return "utf-8-sig" if encoding.lower().replace("_", "-") in ("utf-8", "utf8") else encoding
 
 

@@ -18,11 +18,11 @@ from decimal import Decimal
 
 import mpmath as mp
 
-from ..api import fast_solve
 from ..crosscheck import compare, sizes_with_tables
 from ..errors import ExactbandError
 from ..mpnum import dec
 from ..solvers import precise
+from ..solving import fast_solve
 
 OUR_DIGITS = 17  # significant digits of our gammas shown in reports
 EXACT_DIGITS = 40  # significant digits of our gammas used to judge theirs

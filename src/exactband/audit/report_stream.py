@@ -24,17 +24,9 @@ import textwrap
 from pathlib import Path
 
 from ..fileio import atomic_open, atomic_write_bytes
-from .reports import (
-    COLUMNS,
-    CSV_NAME,
-    HEADERS,
-    JSON_NAME,
-    XLSX_NAME,
-    _csv_text,
-    _json_record,
-    json_head,
-    record,
-)
+from .report_data import COLUMNS, HEADERS, json_record, record
+from .reports import CSV_NAME, JSON_NAME, XLSX_NAME, csv_text, json_head
+from .xlsx_report import xlsx_bytes
 
 XLSX_ROWS = 20_000  # rows listed in the XLSX report (the default --max-rows)
 _EMPTY = '"rows_with_findings": []\n}'
@@ -57,17 +49,15 @@ class Writer:
 
     def row(self, v) -> None:
         rec = record(v, self.modes)
-        self.csv.writerow([_csv_text(rec.get(c), k) for c, k in COLUMNS])
+        self.csv.writerow([csv_text(rec.get(c), k) for c, k in COLUMNS])
         if v.verdict != "ok":
-            text = json.dumps(_json_record(v, self.modes), indent=2, allow_nan=False)
+            text = json.dumps(json_record(v, self.modes), indent=2, allow_nan=False)
             self.spool.write((",\n" if self.spooled else "") + textwrap.indent(text, "    "))
             self.spooled += 1
         if len(self.kept) < self.xlsx_rows:
             self.kept.append(v)
 
     def finish(self, result) -> None:
-        from .xlsx_report import xlsx_bytes
-
         atomic_write_bytes(self.dir / XLSX_NAME, xlsx_bytes(result, self.kept))
         head = json_head(result)
         assert head.endswith(_EMPTY)

@@ -19,6 +19,7 @@ from __future__ import annotations
 import pickle
 import tempfile
 from collections import Counter
+from dataclasses import dataclass
 
 from . import policy as P
 from .diagnosis import FileLevel
@@ -161,3 +162,21 @@ def _notes(decimals, modes, rounding) -> list:
             continue
         said.setdefault(text, []).append(name)
     return [f"{', '.join(names)}: {text}" for text, names in said.items()]
+
+
+@dataclass
+class Batch:
+    """The verdicts of ``judge_batch`` with the rounding, notes and file diagnosis."""
+
+    verdicts: list
+    modes: tuple  # rounding of the gamma1 / gamma2 columns
+    notes: list  # policy notes (e.g. "gammas truncated to 4 decimals")
+    file_diagnosis: list  # said once at the top of the report
+
+
+def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
+    """Verdicts for ``rows`` in order, all in memory (a whole file is judged in chunks
+    by ``Judging``; see the docstring of verdicts for the policy)."""
+    j = Judging(lambda size: iter([rows]), precision, workers, progress, rounding)
+    verdicts = list(j)
+    return Batch(verdicts, j.modes, j.notes, j.file_diagnosis)

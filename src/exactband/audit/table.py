@@ -42,6 +42,7 @@ class Row:
     tol: tuple = (None, None)  # symmetric gamma allowance at c1, c2 (for diagnoses)
     decimals: tuple = (None, None)  # decimals each gamma cell is read with (None: exact)
     error: str | None = None
+    error_field: str | None = None  # the input the error names (e.g. "alpha", "c1")
     kind: str | None = None  # the kind named by the row, when it names a valid one
     numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed (Number)
 
@@ -89,10 +90,12 @@ def open_table(path, opts: Options):
     p = Path(path)
     mark = opts.decimal_mark
     if mark is not None and mark not in (".", ","):
-        raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','")
+        raise AuditInputError(f"invalid --decimal-mark = {mark!r}: '.' or ','",
+                              field="--decimal-mark", value=mark, allowed="'.' or ','")
     if opts.gamma_rounding is not None and opts.gamma_rounding not in MODES:
         raise AuditInputError(f"invalid --gamma-rounding = {opts.gamma_rounding!r}: "
-                              + " or ".join(MODES))
+                              + " or ".join(MODES), field="--gamma-rounding",
+                              value=opts.gamma_rounding, allowed=" or ".join(MODES))
     src = open_source(p, sheet=opts.sheet, delimiter=opts.delimiter, encoding=opts.encoding,
                       max_rows=opts.max_rows)
     header = src.header
@@ -191,7 +194,7 @@ def _number(field_name, text, mark):
     try:
         return N.parse(text, mark)
     except N.NumberError as e:
-        raise DesignError(f"invalid {field_name}: {e}") from None
+        raise DesignError(f"invalid {field_name}: {e}", field=field_name, value=text) from None
 
 
 def _row(index, line, t, consts, mark, pos) -> Row:
@@ -203,14 +206,15 @@ def _row(index, line, t, consts, mark, pos) -> Row:
             text = consts.get(k, t.get(k, ""))
             if k in ("family", "kind"):
                 if N.is_formula(text):
-                    raise DesignError(f"invalid {k}: {text!r} is a formula; type the name")
+                    raise DesignError(f"invalid {k}: {text!r} is a formula; type the name",
+                                      field=k, value=text)
                 vals[k] = None if _empty(text) else text
             else:
                 vals[k] = None if _empty(text) else float(_number(k, text, mark))
             row.text[k] = text
         if vals["family"] is None or vals["kind"] is None:
             which = "family" if vals["family"] is None else "kind"
-            raise DesignError(f"invalid {which}: empty")
+            raise DesignError(f"invalid {which}: empty", field=which)
         fam, knd = get_family(vals["family"]), get_kind(vals["kind"])
         row.kind = knd.name
         row.problem = make_problem(fam, knd, n=vals["n"], alpha=vals["alpha"], low=vals["low"],
@@ -218,7 +222,7 @@ def _row(index, line, t, consts, mark, pos) -> Row:
                                    dispersion=vals["dispersion"])
         row.theirs, row.numbers = _answers(row.problem, t, mark, pos)
     except DesignError as e:
-        row.error = str(e)
+        row.error, row.error_field = str(e), e.field
     return row
 
 
@@ -233,22 +237,25 @@ def _answers(p: Problem, t, mark, pos):
                 keep = " and ".join(x for x, u in (("c1, gamma1", p.kind.uses_c1),
                                                    ("c2, gamma2", p.kind.uses_c2)) if u)
                 raise DesignError(f"invalid {c} = {ct!r}: the {p.kind.name} kind uses only {keep}; "
-                                  f"leave {c} and {g} empty")
+                                  f"leave {c} and {g} empty", field=c, value=ct)
             continue
         if _empty(ct):
-            raise DesignError(f"invalid {c}: empty; the {p.kind.name} kind needs {c}")
+            raise DesignError(f"invalid {c}: empty; the {p.kind.name} kind needs {c}", field=c)
         cn = _number(c, ct, mark)
         if not cn.is_integer() or cn.value < 0:
-            raise DesignError(f"invalid {c} = {ct!r}: a cutoff is a whole number >= 0")
+            raise DesignError(f"invalid {c} = {ct!r}: a cutoff is a whole number >= 0", field=c,
+                              value=ct, allowed="a cutoff is a whole number >= 0")
         cv = int(cn.value)  # a binomial cutoff above n is judged (a wrong cutoff), not refused
         if g not in pos:
             gv, gn = 0.0, None
         elif _empty(gt):
-            raise DesignError(f"invalid {g}: empty; write 0 for no randomisation at {c}")
+            raise DesignError(f"invalid {g}: empty; write 0 for no randomisation at {c}", field=g)
         else:
             gn = _number(g, gt, mark)
             if not 0 <= gn.value <= 1:
-                raise DesignError(f"invalid {g} = {gt!r}: a randomisation probability lies in [0, 1]")
+                raise DesignError(f"invalid {g} = {gt!r}: a randomisation probability lies in "
+                                  "[0, 1]", field=g, value=gt,
+                                  allowed="a randomisation probability lies in [0, 1]")
             gv = float(gn.value)
         out[2 * i], out[2 * i + 1] = cv, gv
         nums[i] = gn

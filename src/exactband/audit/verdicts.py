@@ -1,6 +1,6 @@
-"""Verdicts for a batch of rows under the written policy (``policy``).
+"""Verdicts for rows under the written policy (``policy``).
 
-``judge_batch`` recomputes every row (``recompute``: fast solver over the whole
+``stream.judge_batch`` recomputes every row (``recompute``: fast solver over the whole
 file, the high-precision solver per row, on a process pool), infers the
 rounding of each gamma column from the rows whose cutoffs are right (unless
 given), and judges each row on its own cells:
@@ -36,6 +36,7 @@ class Verdict:
     verdict: str  # "ok", "finding" or "invalid"
     reasons: list = field(default_factory=list)
     details: list = field(default_factory=list)
+    error_field: str | None = None  # invalid row: the input its error names (e.g. "alpha")
     ours: tuple | None = None  # (c1, g1, c2, g2) floats
     ours_text: tuple | None = None  # (c1, "g1 decimal", c2, "g2 decimal")
     gamma_error: tuple = (None, None)  # their gamma - ours (float), where the cutoff agrees
@@ -45,18 +46,6 @@ class Verdict:
     at_theta: float | None = None
     diagnosis: str = ""
     also: list = field(default_factory=list)
-
-
-@dataclass
-class Batch:
-    verdicts: list
-    modes: tuple  # rounding of the gamma1 / gamma2 columns
-    notes: list  # policy notes (e.g. "gammas truncated to 4 decimals")
-    file_diagnosis: list  # said once at the top of the report
-
-
-def _num(x) -> str:
-    return f"{x:.6g}"
 
 
 def _printed(row, i) -> Decimal:
@@ -107,7 +96,8 @@ def _allowance(decimals) -> float:
 def judge_row(row, rec: Recomputed, modes) -> Verdict:
     """The verdict of one row (diagnosis left for diagnose_row)."""
     if row.error is not None:
-        return Verdict(row, "invalid", ["invalid"], [row.error])
+        return Verdict(row, "invalid", ["invalid"], [row.error],
+                       error_field=row.error_field)
     if rec.error is not None:
         return Verdict(row, "invalid", ["invalid"], [rec.error])
     p, theirs = row.problem, row.theirs
@@ -140,9 +130,9 @@ def judge_row(row, rec: Recomputed, modes) -> Verdict:
         names = ("low", "high") if p.kind.two_point else ("value",)
         pt = p.points[worst]
         v.reasons.append("size")
-        v.details.append(f"their printed numbers give size {_num(rec.sizes[worst])} at "
+        v.details.append(f"their printed numbers give size {rec.sizes[worst]:.6g} at "
                          f"{names[worst]} = {pt:g}, above alpha = {p.alpha:g} by "
-                         f"{_num(rec.excess)} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
+                         f"{rec.excess:.6g} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
     if v.reasons:
         v.verdict = "finding"
     return v
@@ -163,14 +153,4 @@ def diagnose_row(v: Verdict) -> Verdict:
     return v
 
 
-def judge_batch(rows, precision=50, workers=1, progress=None, rounding=None) -> Batch:
-    """Verdicts for ``rows`` in order, all in memory (see the module docstring; a whole
-    file is judged in chunks by ``stream.Judging``)."""
-    from .stream import Judging
-
-    j = Judging(lambda size: iter([rows]), precision, workers, progress, rounding)
-    verdicts = list(j)
-    return Batch(verdicts, j.modes, j.notes, j.file_diagnosis)
-
-
-__all__ = ["NONE", "REASONS", "Batch", "Verdict", "judge_batch", "judge_row"]
+__all__ = ["NONE", "REASONS", "Verdict", "diagnose_row", "judge_row"]

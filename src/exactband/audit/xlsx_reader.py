@@ -17,11 +17,12 @@ import re
 import zipfile
 from pathlib import Path
 
-from . import readers as R  # limits read at run time (tests lower them)
 from .errors import AuditInputError
-from .readers import Source
+from .source import Source
 
 MAX_COLUMN = 16_384  # XFD, the last spreadsheet column
+MAX_UNZIPPED = 256 * 2**20  # bytes an XLSX archive may unpack to
+MAX_XLSX = 64 * 2**20  # bytes of an XLSX file (read into memory once)
 
 
 _REF = re.compile(r"^([A-Z]{1,3})(\d+)$")
@@ -61,9 +62,9 @@ class _Book:
         except (zipfile.BadZipFile, OSError, ValueError) as e:
             raise AuditInputError(f"{p.name}: not a readable XLSX workbook ({e})") from None
         total = sum(i.file_size for i in infos)
-        if total > R.MAX_UNZIPPED:
+        if total > MAX_UNZIPPED:
             raise AuditInputError(f"{p.name}: refused: the workbook would unpack to {total} bytes "
-                                  f"(limit {R.MAX_UNZIPPED}); export the table as CSV")
+                                  f"(limit {MAX_UNZIPPED}); export the table as CSV")
         self.names = {i.filename for i in infos}
 
     def _xml(self, name, what):
@@ -208,8 +209,8 @@ def _dimension_rows(ref: str):
 def read_xlsx(p: Path, sheet) -> Source:
     """Hash, count and open one sheet of an XLSX workbook (see the module docstring)."""
     size = p.stat().st_size
-    if size > R.MAX_XLSX:
-        raise AuditInputError(f"{p.name}: refused: {size} bytes, more than {R.MAX_XLSX} for an "
+    if size > MAX_XLSX:
+        raise AuditInputError(f"{p.name}: refused: {size} bytes, more than {MAX_XLSX} for an "
                               "XLSX workbook; export the table as CSV")
     data = p.read_bytes()
     digest = hashlib.sha256(data).hexdigest()
@@ -221,7 +222,8 @@ def read_xlsx(p: Path, sheet) -> Source:
         found = [s for s in sheets if s[0] == sheet]
         if not found:
             raise AuditInputError(f"invalid --sheet = {sheet!r}: sheets are "
-                                  + ", ".join(repr(s[0]) for s in sheets))
+                                  + ", ".join(repr(s[0]) for s in sheets), field="--sheet",
+                                  value=sheet, allowed=", ".join(repr(s[0]) for s in sheets))
         title, part = found[0]
     strings = book.shared_strings()
     dim = []

@@ -6,18 +6,15 @@ ok: pale green) and every finding / invalid row is tinted across its width;
 reasons, the excess of the attained size over alpha (in % of alpha) and the
 diagnosis come right after the verdict, before the numbers.  Sheet "summary":
 counts, findings by reason, diagnoses, provenance and the caution.  Bytes are
-deterministic (fixed document timestamps and zip entry dates).
+deterministic (``xlsxzip.workbook_bytes``: fixed document dates and zip entries).
 """
 
 from __future__ import annotations
 
-import io
-import re
-import zipfile
-
+from ..xlsxzip import workbook_bytes
 from . import text as T
 from .policy import POLICY
-from .reports import COLUMNS, provenance, record, summary
+from .report_data import COLUMNS, provenance, record, summary
 
 CAUTION = ("exactband computes statistical decision rules; acceptance limits, sampling plans and "
            "consequences come from the governing standard, local regulation and qualified "
@@ -38,7 +35,6 @@ FORMATS = {"prob": "0.000000", "sci": "0.00E+00", "pct": '0.00"%";-0.00"%";"\u20
 HEADINGS = {"row": "row (data row)", "file_line": "line in file", "size_excess_pct_of_alpha": "size above alpha, % of alpha",
             "power_shortfall_pct_of_alpha": "power below alpha off H0, % of alpha"}
 LINE_HEIGHT = 15  # points per line of 11-point text
-FIXED_TIME = "2000-01-01T00:00:00Z"
 HEADER_ROW = 6
 
 
@@ -118,9 +114,7 @@ def xlsx_bytes(result, listed=None) -> bytes:
     print_setup(ws, pages_wide=2)  # 30-odd columns: two A4 pages wide stay legible
     ws.print_title_cols = "A:" + get_column_letter([c for c, _ in cols].index("verdict") + 1)
     _summary_sheet(wb.create_sheet("summary"), result, s, bold)
-    buf = io.BytesIO()
-    wb.save(buf)
-    return _deterministic(buf.getvalue())
+    return workbook_bytes(wb)
 
 
 def _lines(rec) -> int:
@@ -145,12 +139,11 @@ def _lines(rec) -> int:
 def _wrong_cells(v, rec) -> set:
     """Report columns that hold the numbers behind a finding (highlighted cell by cell)."""
     out = set()
-    if v.verdict == "invalid":  # the field the reason names, e.g. "invalid alpha: ..."
-        m = re.match(r"invalid (\w+)", v.details[0] if v.details else "")
-        if m and m.group(1) in rec:
-            out.add(m.group(1))
-        elif m and f"their_{m.group(1)}" in rec:
-            out.add(f"their_{m.group(1)}")
+    if v.verdict == "invalid":  # the input the row's error names (Verdict.error_field)
+        if v.error_field in rec:
+            out.add(v.error_field)
+        elif f"their_{v.error_field}" in rec:
+            out.add(f"their_{v.error_field}")
         return out
     if v.verdict != "finding":
         return out
@@ -221,20 +214,3 @@ def print_setup(ws, pages_wide: int = 1) -> None:
     ws.print_options.gridLines = True
     ws.oddFooter.center.text = "Page &P of &N"
     ws.oddFooter.left.text = "exactband audit"
-
-
-def _deterministic(data: bytes) -> bytes:
-    """Fixed document timestamps and zip entry dates, so same input -> same bytes."""
-    src = zipfile.ZipFile(io.BytesIO(data))
-    out = io.BytesIO()
-    with zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED) as dst:
-        for info in src.infolist():
-            body = src.read(info.filename)
-            if info.filename == "docProps/core.xml":
-                body = re.sub(rb"(<dcterms:(created|modified)[^>]*>)[^<]*(</dcterms:)",
-                              rb"\g<1>" + FIXED_TIME.encode() + rb"\g<3>", body)
-            z = zipfile.ZipInfo(info.filename, date_time=(1980, 1, 1, 0, 0, 0))
-            z.compress_type = zipfile.ZIP_DEFLATED
-            z.external_attr = 0o600 << 16
-            dst.writestr(z, body)
-    return out.getvalue()

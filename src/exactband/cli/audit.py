@@ -66,15 +66,16 @@ def add_parser(sub) -> None:
 
 def _int(name, text, lo):
     from ..audit import AuditInputError
-    from ..errors import ExactbandError
+    from ..errors import ExactbandError, recast
     from ..strict import whole
 
     try:
         v = whole(f"--{name}", text, f"a whole number >= {lo}")
     except ExactbandError as e:
-        raise AuditInputError(str(e)) from None
+        raise recast(e, AuditInputError) from None
     if v < lo:
-        raise AuditInputError(f"invalid --{name} = {text!r}: a whole number >= {lo}")
+        raise AuditInputError(f"invalid --{name} = {text!r}: a whole number >= {lo}",
+                              field=f"--{name}", value=text, allowed=f"a whole number >= {lo}")
     return v
 
 
@@ -118,7 +119,8 @@ def run(args) -> int:
     opts = options(args)
     workers = check_workers(args.workers)
     if args.report is not None and Path(args.report).exists() and not Path(args.report).is_dir():
-        raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder")
+        raise AuditInputError(f"invalid --report = {args.report!r}: exists and is not a folder",
+                              field="--report", value=args.report)
     # rows are judged in chunks and the reports streamed: memory does not grow with the file
     sink = None if args.report is None else Writer(args.report)
     result = audit(args.file, opts, precision=check_precision(args.precision), workers=workers,

@@ -44,13 +44,17 @@ def run(args) -> int:
     except ExactbandError:
         seed = -1
     if seed < 0:
-        raise AuditInputError(f"invalid --seed = {args.seed!r}: a whole number >= 0")
+        raise AuditInputError(f"invalid --seed = {args.seed!r}: a whole number >= 0",
+                              field="--seed", value=args.seed, allowed="a whole number >= 0")
     out = Path(args.out)
     ext = out.suffix.lower()
     if ext not in (".csv", ".xlsx"):
-        raise AuditInputError(f"invalid --out = {args.out!r}: the name must end in .csv or .xlsx")
+        raise AuditInputError(f"invalid --out = {args.out!r}: the name must end in .csv or .xlsx",
+                              field="--out", value=args.out,
+                              allowed="the name must end in .csv or .xlsx")
     if out.is_dir():
-        raise AuditInputError(f"invalid --out = {args.out!r}: is a folder")
+        raise AuditInputError(f"invalid --out = {args.out!r}: is a folder", field="--out",
+                              value=args.out)
     rows = ch.grid(seed)
     data = ch.csv_bytes(rows) if ext == ".csv" else ch.xlsx_bytes(rows, seed)
     atomic_write_bytes(out, data)

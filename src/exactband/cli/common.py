@@ -56,7 +56,7 @@ def check_workers(value):
 
 def check_precision(value) -> int:
     """--precision as the solvers' digits; the message names the option the user typed."""
-    from ..api import check_precision as check
+    from ..solving import check_precision as check
 
     return check(value)
 

@@ -77,7 +77,8 @@ def run(args) -> int:
         source = f"table {tr.path}, row {tr.row} (the row matches a fresh solve)"
     else:
         if args.row is not None:
-            raise DecideError(f"invalid row = {args.row}: --row needs --table")
+            raise DecideError(f"invalid row = {args.row}: --row needs --table", field="row",
+                              value=args.row, allowed="--row needs --table")
         require(args, ("family", "kind", "n", "alpha"), "decide")
         check_needed(args)
         d = design(args.family, args.kind, n=args.n, alpha=args.alpha, low=args.low,

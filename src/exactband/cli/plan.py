@@ -55,35 +55,37 @@ def add_parser(sub) -> None:
 def _powers(result, values) -> str:
     import math
 
-    from ..design import _num
+    from ..numtext import number_text
 
     word = result.design.problem.family.theta_word
     # truncated, not rounded: a power shown as 0.900000 is never below a target of 0.9
-    return "; ".join(f"{word} {_num(a)}: {math.floor(p * 1e6) / 1e6:.6f}"
+    return "; ".join(f"{word} {number_text(a)}: {math.floor(p * 1e6) / 1e6:.6f}"
                      for a, p in zip(result.alternatives, values))
 
 
 def text_report(r) -> str:
-    from ..design import _num
+    from ..numtext import number_text
 
     fam = r.design.problem.family
     rule = {"randomised": "randomised rule", "conservative": "conservative rule",
             "digits": f"field rule with {r.random_digits} random digits"}[r.rule]
-    alts = ", ".join(_num(a) for a in r.alternatives)
-    lines = [f"Smallest {fam.n_word} (grid step {_num(r.step)}) with power >= {r.target:g} at "
-             f"{fam.theta_word} {alts}, {rule}:", f"  n = {_num(r.n)}"]
+    alts = ", ".join(number_text(a) for a in r.alternatives)
+    lines = [f"Smallest {fam.n_word} (grid step {number_text(r.step)}) "
+             f"with power >= {r.target:g} at "
+             f"{fam.theta_word} {alts}, {rule}:", f"  n = {number_text(r.n)}"]
     if r.rule != "randomised":
-        how = (f"checked one by one up to n = {_num(r.n_certified)}, certified beyond"
+        how = (f"checked one by one up to n = {number_text(r.n_certified)}, certified beyond"
                if r.n_certified > r.n_from else
-               f"certified from n = {_num(r.n_certified)} on")
-        lines.append(f"  n_from = {_num(r.n_from)}  (every larger n meets the target: {how})")
-        lines.append(f"  the randomised rule needs n = {_num(r.n_randomised)}")
-    lines.append(f"Power at n = {_num(r.n)}: {_powers(r, r.power)}")
+               f"certified from n = {number_text(r.n_certified)} on")
+        lines.append(f"  n_from = {number_text(r.n_from)}  "
+                     f"(every larger n meets the target: {how})")
+        lines.append(f"  the randomised rule needs n = {number_text(r.n_randomised)}")
+    lines.append(f"Power at n = {number_text(r.n)}: {_powers(r, r.power)}")
     if r.power_below is not None:
-        lines.append(f"Power at n = {_num(r.n - r.step)}: {_powers(r, r.power_below)}")
+        lines.append(f"Power at n = {number_text(r.n - r.step)}: {_powers(r, r.power_below)}")
     if r.n_from != r.n:
-        lines.append(f"Power at n_from = {_num(r.n_from)}: {_powers(r, r.power_from)}")
-    lines += ["", f"The {rule} at n = {_num(r.n)}:",
+        lines.append(f"Power at n_from = {number_text(r.n_from)}: {_powers(r, r.power_from)}")
+    lines += ["", f"The {rule} at n = {number_text(r.n)}:",
               r.design.describe(rule=r.rule, random_digits=r.random_digits or None)]
     if r.design.check is not None:
         lines.append(r.design.check.summary())

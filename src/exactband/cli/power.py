@@ -69,7 +69,8 @@ def thetas_from_args(design, args):
     from ..oc import PlanningError, check_points, check_thetas
 
     if args.theta is not None and args.theta_range is not None:
-        raise PlanningError("invalid theta-range: give either --theta or --theta-range, not both")
+        raise PlanningError("invalid theta-range: give either --theta or --theta-range, not both",
+                            field="theta-range")
     if args.theta is not None:
         items = [x.strip() for x in args.theta.split(",")]
         return check_thetas(design, [x for x in items if x] or [args.theta])

@@ -1,4 +1,4 @@
-"""Families of the sufficient statistic Y; see base.Family."""
+"""Families of the statistic Y; see base.Family.  A family is registered here, once."""
 
 from __future__ import annotations
 
@@ -6,15 +6,17 @@ from .base import Family
 from .binomial import BINOMIAL
 from .negbinomial import NEGBINOMIAL
 from .poisson import POISSON
-
-FAMILIES: dict[str, Family] = {f.name: f for f in (POISSON, BINOMIAL, NEGBINOMIAL)}
-
-
-def get_family(name) -> Family:
-    """Look a family up by name (case and surrounding spaces ignored)."""
-    from ..strict import name as check_name
-
-    return FAMILIES[check_name("family", name, tuple(FAMILIES))]
+from .registry import FAMILIES, add, dispersion_users, get_family
 
 
-__all__ = ["FAMILIES", "Family", "get_family"]
+def register(family: Family) -> Family:
+    """Add a family to the registry; every name lookup and list of families sees it."""
+    if not isinstance(family, Family):
+        raise TypeError(f"a Family is required, not {type(family).__name__}")
+    return add(family)
+
+
+for _family in (POISSON, BINOMIAL, NEGBINOMIAL):
+    register(_family)
+
+__all__ = ["FAMILIES", "Family", "dispersion_users", "get_family", "register"]

@@ -2,13 +2,104 @@
 
 from __future__ import annotations
 
+import math
+
 import mpmath as mp
 import numpy as np
+from scipy import special as sp
 
 from ..mpnum import dec, dec_complement, frac
+from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import BinomialLaw
+from .floatlaw import FloatLaw, as_float
+
+
+class BinomialLaw(FloatLaw):
+    """Y ~ Binomial(n, p), P = (n, p, q) with q = 1 - p, t = p."""
+
+    @staticmethod
+    def make(theta, n, k):
+        p = as_float(theta)
+        n = as_float(n) + 0.0 * p
+        return (n, p + 0.0 * n, 1.0 - p + 0.0 * n)
+
+    @staticmethod
+    def t(P):
+        return P[1]
+
+    @staticmethod
+    def with_t(P, t):
+        return (P[0], t, 1.0 - t)
+
+    @staticmethod
+    def supmax(P):
+        return P[0]
+
+    @staticmethod
+    def mode(P):
+        return np.minimum(np.floor((P[0] + 1.0) * P[1]), P[0])
+
+    @staticmethod
+    def moments(P):
+        n, p, q = P
+        var = n * p * q
+        return n * p, var, (q - p) / np.sqrt(var)
+
+    @staticmethod
+    def _tails(c, P):
+        """(cdf, sf) at integer c, 0 <= c < n, using the small one of p, q as x."""
+        n, p, q = P
+        a, b = c + 1.0, n - c
+        lowp = p <= 0.5
+        sf = np.where(lowp, sp.betainc(a, b, p), sp.betaincc(b, a, q))
+        cdf = np.where(lowp, sp.betaincc(a, b, p), sp.betainc(b, a, q))
+        return cdf, sf
+
+    @classmethod
+    def cdf(cls, c, P):
+        c = as_float(c)
+        n = P[0]
+        inside = (c >= 0) & (c < n)
+        cdf, _ = cls._tails(np.where(inside, c, 0.0), P)
+        return np.where(c < 0, 0.0, np.where(c >= n, 1.0, cdf))
+
+    @classmethod
+    def sf(cls, c, P):
+        c = as_float(c)
+        n = P[0]
+        inside = (c >= 0) & (c < n)
+        _, sf = cls._tails(np.where(inside, c, 0.0), P)
+        return np.where(c < 0, 1.0, np.where(c >= n, 0.0, sf))
+
+    @staticmethod
+    def logpmf(y, P):
+        y = as_float(y)
+        n, p, q = P
+        ok = (y >= 0) & (y <= n)
+        return np.where(ok, _saddle.log_binom_raw(np.where(ok, y, 0.0), n, p, q), -np.inf)
+
+    @staticmethod
+    def weight(c, P):
+        n, p, q = P
+        return (n - as_float(c)) / q
+
+    @staticmethod
+    def dlogw(c, P):
+        n, p, q = P
+        c = as_float(c)
+        return c / p - (n - 1.0 - c) / q
+
+    @staticmethod
+    def dlogpmf(y, P):
+        n, p, q = P
+        return (as_float(y) - n * p) / (p * q)
+
+    @staticmethod
+    def logratio(y, P, dt):
+        n, p, q = P
+        y = as_float(y)
+        return y * np.log1p(dt / p) + (n - y) * np.log1p(-dt / q)
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -79,17 +170,34 @@ class Binomial(Family):
         t = np.asarray(theta, dtype=float)
         return (t > 0) & (t < 1)
 
-    def float_params(self, theta, n, k):
-        return BinomialLaw.make(theta, n, k)
-
     def mp_law(self, theta, n, k):
         return BinomialMp(theta, n, k)
+
+    def scipy_law(self, theta, n, k):
+        from scipy import stats
+
+        return stats.binom(int(n), theta)
+
+    def theta_scale(self):
+        """logit and back: the proportion's (0, 1) onto the real line."""
+        return (lambda p: math.log(p) - math.log1p(-p),
+                lambda u: 1.0 / (1.0 + math.exp(-u)) if u > -700 else 0.0)
+
+    def theta_spread(self, theta, n, k):
+        return math.sqrt(theta * (1 - theta) / n)
+
+    def support_max(self, n):
+        return n
 
     def natural_delta(self, lo, hi, n, k):
         return hi - lo
 
 
 BINOMIAL = Binomial(
-    name="binomial", theta_word="p", theta_unit="per trial", n_word="number of trials n",
-    integer_n=True, uses_dispersion=False,
+    name="binomial", theta_word="p", theta_unit="probability per trial", axis_word="proportion p",
+    symbol="p", theta_what="the proportion of units with the attribute",
+    n_word="number of trials n", n_what="the number of units inspected", n_unit="trials",
+    y_word="the number of units with the attribute among the n inspected",
+    y_inspected="the number of units with the attribute among the n inspected",
+    integer_n=True, uses_dispersion=False, theta_min=0.0, theta_max=1.0,
 )

@@ -210,7 +210,7 @@ class MpTable:
             self._M, self._Mtot = M, M[-1]
         self._sums = True
 
-    def _num(self, k: int):
+    def _unscale(self, k: int):
         """mpf of the integer k * 2**e0, rounded to the working precision."""
         return mp.make_mpf(libmp.from_man_exp(k, self._e0, self._prec, _RND))
 
@@ -223,7 +223,7 @@ class MpTable:
         self._ready()
         if y < self.lo or y > self.hi:
             return _ZERO
-        return self._num(self._p[y - self.lo])
+        return self._unscale(self._p[y - self.lo])
 
     def cdf(self, y):
         """P(Y <= y)."""
@@ -232,7 +232,7 @@ class MpTable:
             return _ZERO
         if y > self.hi:
             return _ONE
-        return self._num(self._F[y - self.lo])
+        return self._unscale(self._F[y - self.lo])
 
     def sf(self, y):
         """P(Y > y)."""
@@ -241,7 +241,7 @@ class MpTable:
             return _ONE
         if y >= self.hi:
             return _ZERO
-        return self._num(self._tot - self._F[y - self.lo])
+        return self._unscale(self._tot - self._F[y - self.lo])
 
     def moment_below(self, y):
         """E[Y; Y <= y]."""
@@ -249,17 +249,17 @@ class MpTable:
         if y < self.lo:
             return _ZERO
         if y > self.hi:
-            return self._num(self._M[-1])
-        return self._num(self._M[y - self.lo])
+            return self._unscale(self._M[-1])
+        return self._unscale(self._M[y - self.lo])
 
     def moment_above(self, y):
         """E[Y; Y > y]."""
         self._ready()
         if y < self.lo:
-            return self._num(self._M[-1])
+            return self._unscale(self._M[-1])
         if y >= self.hi:
             return _ZERO
-        return self._num(self._Mtot - self._M[y - self.lo])
+        return self._unscale(self._Mtot - self._M[y - self.lo])
 
     # -- quantiles ------------------------------------------------------------
     def _floor_scaled(self, x) -> int:

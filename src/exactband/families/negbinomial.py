@@ -11,11 +11,141 @@ import math
 
 import mpmath as mp
 import numpy as np
+from scipy import special as sp
 
 from ..mpnum import dec, frac
+from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import NegBinomialLaw
+from .floatlaw import FloatLaw, as_float
+
+SUM_TOP = 6000  # largest support point summed term by term (huge size r)
+
+
+class NegBinomialLaw(FloatLaw):
+    """Y ~ NB(size r = n*k, mean m = n*theta), P = (r, m), t = m.
+
+    With q = r/(r+m): pmf(y) = Gamma(y+r)/(Gamma(r) y!) q^r (1-q)^y and
+    F(c) = I_q(r, c+1) (regularised incomplete beta function).
+    """
+
+    elementwise = False  # the summed tails' width follows the largest mean in the arrays
+
+    @staticmethod
+    def make(theta, n, k):
+        r = as_float(n) * as_float(k)
+        m = as_float(n) * as_float(theta)
+        return (r + 0.0 * m, m + 0.0 * r)
+
+    @staticmethod
+    def t(P):
+        return P[1]
+
+    @staticmethod
+    def with_t(P, t):
+        return (P[0], t)
+
+    @staticmethod
+    def supmax(P):
+        return np.full(np.shape(P[0]), np.inf)
+
+    @staticmethod
+    def mode(P):
+        r, mean = P
+        return np.where(r > 1.0, np.floor((r - 1.0) * mean / r), 0.0)
+
+    @staticmethod
+    def moments(P):
+        r, m = P
+        var = m + m * m / r
+        return m, var, (r + 2.0 * m) / np.sqrt(r * m * (r + m))
+
+    @classmethod
+    def _tails(cls, c, P):
+        r, m = P
+        q = r / (r + m)
+        qc = m / (r + m)  # 1 - q, computed without cancellation
+        a = c + 1.0
+        use_q = q <= 0.5
+        cdf = np.where(use_q, sp.betainc(r, a, q), sp.betaincc(a, r, qc))
+        sf = np.where(use_q, sp.betaincc(r, a, q), sp.betainc(a, r, qc))
+        # scipy's incomplete beta loses ~1e-20 * r relative for a huge size r (2e-9 at
+        # r = 1e9); there, with a small mean, the masses are summed (all positive)
+        r_, m_, c_ = np.broadcast_arrays(r, m, c)
+        top = np.ceil(m_ + 40.0 * np.sqrt(m_) + 60.0)
+        summed = (r_ > 1e5) & (top <= SUM_TOP)
+        if np.any(summed):
+            j = np.nonzero(summed.ravel())[0]
+            cdf, sf = (np.array(np.broadcast_to(x, r_.shape), dtype=float) for x in (cdf, sf))
+            rs, ms, cs = r_.ravel()[j], m_.ravel()[j], c_.ravel()[j]
+            y = np.arange(int(top.ravel()[j].max()) + 1, dtype=float)
+            f = np.exp(cls.logpmf(y[None, :], (rs[:, None], ms[:, None])))
+            below = y[None, :] <= cs[:, None]
+            cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
+            sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
+        return cdf, sf
+
+    @classmethod
+    def cdf(cls, c, P):
+        c = as_float(c)
+        cdf, _ = cls._tails(np.maximum(c, 0.0), P)
+        return np.where(c < 0, 0.0, cdf)
+
+    @classmethod
+    def sf(cls, c, P):
+        c = as_float(c)
+        _, sf = cls._tails(np.maximum(c, 0.0), P)
+        return np.where(c < 0, 1.0, sf)
+
+    @staticmethod
+    def logpmf(y, P):
+        y = as_float(y)
+        r, m = P
+        ok = y >= 0
+        yy = np.where(ok, y, 0.0)
+        q = r / (r + m)
+        qc = m / (r + m)
+        at0 = -r * np.log1p(m / r)
+        # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y   (y > 0), as in Loader's note
+        with np.errstate(divide="ignore", invalid="ignore"):
+            pos = _saddle.log_binom_raw(r + 0.0 * yy, yy + r, q, qc) + np.log(r / (r + yy))
+        out = np.where(yy == 0, at0, pos)
+        # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
+        #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
+        # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
+        big = (yy + 1.0) ** 2 < 1e-4 * r
+        if np.any(big):
+            x = m / r
+            small = x < 1e-4
+            g = np.where(small, x * x * (0.5 - x / 3.0 + x * x / 4.0), x - np.log1p(x))
+            corr = (r * g - yy * np.log1p(x) + yy * (yy - 1.0) / (2.0 * r)
+                    - yy * (yy - 1.0) * (2.0 * yy - 1.0) / (12.0 * r * r))
+            lim = _saddle.log_poisson_raw(yy, m + 0.0 * yy) + corr
+            out = np.where(big, lim, out)
+        return np.where(ok, out, -np.inf)
+
+    @staticmethod
+    def weight(c, P):
+        r, m = P
+        return (r + as_float(c)) / (r + m)
+
+    @staticmethod
+    def dlogw(c, P):
+        r, m = P
+        c = as_float(c)
+        # c/m - (r + c + 1)/(r + m), without the cancellation of r against r + m
+        return c / m - 1.0 - (c + 1.0 - m) / (r + m)
+
+    @staticmethod
+    def dlogpmf(y, P):
+        r, m = P
+        return r * (as_float(y) - m) / (m * (r + m))
+
+    @staticmethod
+    def logratio(y, P, dt):
+        r, m = P
+        y = as_float(y)
+        return -r * np.log1p(dt / (r + m)) + y * np.log1p(dt * r / (m * (r + m + dt)))
 
 _ZERO = mp.mpf(0)
 
@@ -114,11 +244,17 @@ class NegBinomial(Family):
         t = np.asarray(theta, dtype=float)
         return (t > 0) & np.isfinite(t)
 
-    def float_params(self, theta, n, k):
-        return NegBinomialLaw.make(theta, n, k)
-
     def mp_law(self, theta, n, k):
         return NegBinomialMp(theta, n, k)
+
+    def scipy_law(self, theta, n, k):
+        from scipy import stats
+
+        r, m = n * k, n * theta
+        return stats.nbinom(r, r / (r + m))
+
+    def theta_spread(self, theta, n, k):
+        return math.sqrt((theta + theta * theta / k) / n)
 
     def natural_delta(self, lo, hi, n, k):
         return n * (hi - lo)
@@ -144,6 +280,10 @@ class NegBinomial(Family):
 
 
 NEGBINOMIAL = NegBinomial(
-    name="negative-binomial", theta_word="mean per unit", theta_unit="per unit", n_word="number of units n",
+    name="negative-binomial", theta_word="mean per unit", theta_unit="mean count per unit",
+    axis_word="mean \u03b8", symbol="mean", theta_what="the expected count per unit",
+    n_word="number of units n", n_what="the number of units inspected", n_unit="units",
+    y_word="the total count over the sample",
+    y_inspected="the total count over the n inspected units",
     integer_n=True, uses_dispersion=True,
 )

@@ -4,19 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..kinds import KINDS
 from .conditions import GL_MAX_SPREAD
 from .twotailed import GAMMA_TOL, MIDDLE_SUM
 
 
 def canonical_band(c1, g1, c2, g2):
-    """gamma = 1 at a cutoff is the neighbouring cutoff with gamma = 0."""
-    one1 = g1 >= 1.0
-    c1 = np.where(one1, c1 + 1.0, c1)
-    g1 = np.where(one1, 0.0, g1)
-    one2 = g2 >= 1.0
-    c2 = np.where(one2, c2 - 1.0, c2)
-    g2 = np.where(one2, 0.0, g2)
-    return c1, g1, c2, g2
+    """gamma = 1 at a cutoff is the neighbouring cutoff with gamma = 0 (``Kind.canonical``)."""
+    return KINDS["band"].canonical(c1, np.asarray(g1), c2, np.asarray(g2))
 
 
 def equivalence_from_band(c1, g1, c2, g2):
@@ -26,13 +21,7 @@ def equivalence_from_band(c1, g1, c2, g2):
     e1 = np.where(same, 1.0 - g1 - g2, e1)
     c2 = np.where(same, c1 + 1.0, c2)
     e2 = np.where(same, 0.0, e2)
-    full1 = e1 >= 1.0
-    c1 = np.where(full1, c1 - 1.0, c1)
-    e1 = np.where(full1, 0.0, e1)
-    full2 = e2 >= 1.0
-    c2 = np.where(full2, c2 + 1.0, c2)
-    e2 = np.where(full2, 0.0, e2)
-    return c1, e1, c2, e2
+    return KINDS["equivalence"].canonical(c1, e1, c2, e2)
 
 
 def _middle(L, P, c1, c2):

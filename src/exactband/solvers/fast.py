@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..kinds import KINDS
 from ..mpnum import float_complements
 from .canonical import canonical_band, equivalence_from_band, refine_equivalence
 from .conditions import Derivative, Difference
@@ -89,12 +90,12 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
     if kind == "upper":
         P = L.make(np.asarray(value, float), n, k)
         c2, g2 = _upper(L, P, alpha, ac)
-        c2, g2 = np.where(g2 >= 1.0, c2 - 1.0, c2), np.where(g2 >= 1.0, 0.0, g2)
+        _, _, c2, g2 = KINDS["upper"].canonical(None, None, c2, g2)
         return nan, nan.copy(), c2, np.clip(g2, 0.0, 1.0)
     if kind == "lower":
         P = L.make(np.asarray(value, float), n, k)
         c1, g1 = _lower(L, P, alpha, ac)
-        c1, g1 = np.where(g1 >= 1.0, c1 + 1.0, c1), np.where(g1 >= 1.0, 0.0, g1)
+        c1, g1, _, _ = KINDS["lower"].canonical(c1, g1, None, None)
         return c1, np.clip(g1, 0.0, 1.0), nan, nan.copy()
     if kind == "point":
         P = L.make(np.asarray(value, float), n, k)

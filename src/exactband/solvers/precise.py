@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 
 import mpmath as mp
 
+from ..kinds import KINDS
 from ..mpnum import dec, dec_complement
 from . import precise_tails
 
@@ -229,11 +230,7 @@ def _two_tailed(Tl, Tr, cond, s, tol):
             raise PreciseFailure(f"gamma {mp.nstr(g, 8)} outside [0, 1] at cutoffs ({j}, {k})")
     g1 = min(max(g1, _ZERO), _ONE)
     g2 = min(max(g2, _ZERO), _ONE)
-    if g1 == 1:
-        j, g1 = j + 1, _ZERO
-    if g2 == 1:
-        k, g2 = k - 1, _ZERO
-    return j, g1, k, g2
+    return KINDS["band"].canonical(j, g1, k, g2, zero=_ZERO)
 
 
 def band_expectation(T, c1, g1, c2, g2):
@@ -310,9 +307,4 @@ def _complement(c1, g1, c2, g2):
     """Equivalence test = 1 - band-form test of size 1 - alpha, canonical form."""
     if c1 >= c2:
         return c1, 1 - g1 - g2, c1 + 1, _ZERO
-    e1, e2 = 1 - g1, 1 - g2
-    if e1 == 1:
-        c1, e1 = c1 - 1, _ZERO
-    if e2 == 1:
-        c2, e2 = c2 + 1, _ZERO
-    return c1, e1, c2, e2
+    return KINDS["equivalence"].canonical(c1, 1 - g1, c2, 1 - g2, zero=_ZERO)

@@ -5,9 +5,10 @@ NAME.pdf and NAME.manifest.json, every row verified by the high-precision
 solver first; ``check_set(out_dir)`` re-verifies a generated set.
 
 Modules by responsibility: spec and spec_keys (parse, validate), grid (expansion), build
-(solve, verify, derive), cache (resumable verification), layout and texts
-(what is printed), write_csv / write_xlsx / write_pdf / manifest (formatting
-only), publish (atomic writing of the set), check (re-verification).
+(solve, verify, derive), cache (resumable verification), layout, texts and tablewords
+(what is printed), write_csv / write_xlsx (xlsx_style, xlsx_power) / write_pdf (pdf_kit,
+pdf_sections, pdf_pages, pdf_oc) / manifest (formatting only), publish (atomic writing
+of the set), check (re-verification).
 """
 
 from .check import check_set

@@ -1,7 +1,7 @@
 """The build: every design of the grid solved fast, verified in high precision, derived.
 
-Data flow: spec -> grid.expand -> api.fast_solve (whole grid, vectorised) ->
-api.verify_many (precise solver + cross-check on all cores, in chunks saved to
+Data flow: spec -> grid.expand -> solving.fast_solve (whole grid, vectorised) ->
+solving.verify_many (precise solver + cross-check on all cores, in chunks saved to
 the resumable cache) -> per row the digit thresholds, the sizes of the digit
 rule and of the conservative rule (Design.thresholds / digit_rule /
 nonrandomized); then, if the spec has an [oc] table, the power values and OC
@@ -14,9 +14,9 @@ from __future__ import annotations
 import random
 from dataclasses import dataclass
 
-from .. import api
+from .. import solving
 from ..design import Design
-from ..errors import DesignError, VerificationError
+from ..errors import DesignError, VerificationError, recast
 from ..rulesizes import sizes_with_gammas
 from . import grid, oc_build
 from .cache import CacheMismatch, VerifyCache
@@ -73,7 +73,7 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     """
     problems = grid.expand(spec)
     cache = VerifyCache(out_dir, spec)
-    sols = api.fast_solve(problems)  # also the yardstick every cached record must meet
+    sols = solving.fast_solve(problems)  # also the yardstick every cached record must meet
     try:
         done = cache.load(problems, sols)
     except CacheMismatch as e:
@@ -89,7 +89,7 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
     try:
         for start in range(0, len(todo), CHUNK):
             idx = todo[start:start + CHUNK]
-            ds = api.verify_many([problems[i] for i in idx], [sols[i] for i in idx],
+            ds = solving.verify_many([problems[i] for i in idx], [sols[i] for i in idx],
                                  spec.precision, workers=workers, progress=progress)
             cache.save(ds)
             done.update(zip(idx, ds))
@@ -98,8 +98,8 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
         raise
     except DesignError as e:  # e.g. a law too spread out for the high-precision tables
         cache.clear()
-        raise SpecError(f"{spec.where or spec.source}: a design of the grid cannot be "
-                        f"verified: {e}") from None
+        raise recast(e, SpecError, f"{spec.where or spec.source}: a design of the grid "
+                     "cannot be verified: ") from None
     designs = [done[i] for i in range(len(problems))]
     rows = derive_all(designs, spec)
     return TableSet(spec, rows, summarise(designs, spec.precision),

@@ -41,7 +41,8 @@ def check_set(folder, *, workers=None, progress=None) -> tuple:
     """(ok, lines): regenerate every table set (manifest) in ``folder`` and compare."""
     d = Path(folder)
     if str(folder).strip() == "" or not d.is_dir():
-        raise SpecError(f"invalid --check = {folder}: not a folder")
+        raise SpecError(f"invalid --check = {folder}: not a folder", field="--check",
+                        value=folder, allowed="a folder")
     entries = sorted(p.name for p in d.iterdir() if not p.name.startswith("."))
     manifests = [n for n in entries if n.endswith(MANIFEST)]
     ok, lines, owned = True, [], set()

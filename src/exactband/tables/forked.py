@@ -16,7 +16,7 @@ import os
 import pickle
 import traceback
 
-from ..parallel import _die_with_parent, usable_cores
+from ..parallel import die_with_parent, usable_cores
 
 
 class _Here:
@@ -43,7 +43,7 @@ class _Child:
             status = 0
             try:
                 os.close(r)
-                _die_with_parent(parent)
+                die_with_parent(parent)
                 try:
                     payload = pickle.dumps((True, fn(*args)), protocol=pickle.HIGHEST_PROTOCOL)
                 except BaseException as e:  # noqa: BLE001 - every failure goes to the parent

@@ -7,7 +7,7 @@ n as listed.  One section of the printed table is one (kind, alpha) pair.
 
 from __future__ import annotations
 
-from ..errors import DesignError
+from ..errors import DesignError, recast
 from ..params import Problem, make_problem
 from .spec import TWO_POINT, SpecError, TableSpec
 
@@ -34,8 +34,8 @@ def expand(spec: TableSpec) -> list:
                                             dispersion=spec.dispersion, **point))
                 except DesignError as e:
                     where = ", ".join(f"{k}={v}" for k, v in point.items())
-                    raise SpecError(f"{spec.where or spec.source}: the design {kind} "
-                                    f"(n={n}, alpha={alpha}, {where}) is unusable: {e}") from None
+                    raise recast(e, SpecError, f"{spec.where or spec.source}: the design "
+                                 f"{kind} (n={n}, alpha={alpha}, {where}) is unusable: ") from None
     return out
 
 

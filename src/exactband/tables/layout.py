@@ -26,9 +26,8 @@ from decimal import ROUND_FLOOR, Decimal
 from ..kinds import KINDS
 from .grid import sections
 from .spec import TWO_POINT
-
-KIND_TITLE = {"band": "Band test", "point": "Point test", "upper": "Upper test",
-              "lower": "Lower test", "equivalence": "Equivalence test"}
+from .tablewords import KIND_TITLE, gamma_places, plain
+from .texts import hypothesis_text, rule_text
 
 
 @dataclass(frozen=True)
@@ -65,16 +64,6 @@ PRINT_KEYS = ("low", "high", "value", "n", "c1", "gamma1", "t1", "c2", "gamma2",
               "conservative_size_high")
 
 
-def plain(x) -> str:
-    """Shortest decimal text of a number, never in exponent form (25.0 -> '25')."""
-    if x is None:
-        return ""
-    if isinstance(x, int):
-        return str(x)
-    d = Decimal(repr(float(x))).normalize()
-    return format(d, "f")
-
-
 def floor_text(decimal_text: str, places: int) -> str:
     q = Decimal(1).scaleb(-places)
     return format(Decimal(decimal_text).quantize(q, rounding=ROUND_FLOOR), "f")
@@ -89,17 +78,6 @@ def size_text(x: float, places: int) -> str:
 def size_decimals(alpha: float) -> int:
     """Decimals for printed sizes: about three significant digits at alpha's scale."""
     return max(3, 3 - Decimal(repr(float(alpha))).adjusted())
-
-
-# The words the printed tables use for each family's parameter and sample size:
-# (symbol in formulas, what it is, what n is).
-WORDS = {
-    "poisson": ("rate", "the expected count per unit of exposure",
-                "the exposure (units inspected)"),
-    "binomial": ("p", "the proportion of units with the attribute",
-                 "the number of units inspected"),
-    "negative-binomial": ("mean", "the expected count per unit", "the number of units inspected"),
-}
 
 
 def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservative: bool):
@@ -151,8 +129,6 @@ def _cells(row, cols) -> tuple:
 
 def build_sections(tset) -> list:
     """The printed sections of a TableSet, in order."""
-    from .texts import hypothesis_text, rule_text
-
     spec = tset.spec
     out = []
     for number, (kind, alpha) in enumerate(sections(spec), start=1):
@@ -170,12 +146,6 @@ def build_sections(tset) -> list:
             rule=rule_text(kind, spec.random_digits, spec.family),
             columns=cols, rows=cells, group_starts=starts))
     return out
-
-
-def gamma_places(spec) -> int:
-    """Decimals of a printed gamma: the spec's, but at least the random digits read, so
-    the threshold t = floor(gamma * 10**d) can be read off the printed gamma."""
-    return max(spec.gamma_decimals, spec.random_digits)
 
 
 def print_rows(sections_) -> tuple:

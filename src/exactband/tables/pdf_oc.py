@@ -16,8 +16,9 @@ from dataclasses import dataclass
 
 from reportlab.platypus import Flowable, NextPageTemplate, PageBreak
 
-from .layout import KIND_TITLE
+from .pdf_kit import Mark, para
 from .spec_oc import ROWS_PER_PAGE
+from .tablewords import KIND_TITLE
 from .texts import hypothesis_at
 
 LABEL_ROOM = 30.0  # pt below the last row of charts for the axis label
@@ -84,7 +85,7 @@ def explanation(spec) -> str:
 
 
 def _symbol(spec) -> str:
-    from .layout import WORDS
+    from .tablewords import WORDS
 
     symbol, what, _ = WORDS[spec.family]
     return f"{symbol} ({what})"
@@ -92,8 +93,6 @@ def _symbol(spec) -> str:
 
 def oc_flowables(tset, pages: dict, slots: list) -> list:
     """The story of the OC pages: per kind and band (or value) its pages of charts."""
-    from .write_pdf import _Mark, _p
-
     if tset.oc is None or not tset.oc.groups:
         return []
     spec = tset.spec
@@ -106,10 +105,10 @@ def oc_flowables(tset, pages: dict, slots: list) -> list:
             out += [NextPageTemplate("portrait"), PageBreak()]
             title = group_title(spec, group)
             if pi == 0:
-                out.append(_Mark(("oc", gi), pages))
+                out.append(Mark(("oc", gi), pages))
             if len(per_page) > 1:
                 title += f" (page {pi + 1} of {len(per_page)})"
-            out += [_p(title, "sec"), _p(explanation(spec), "rule"),
+            out += [para(title, "sec"), para(explanation(spec), "rule"),
                     _ChartSlot(rows[start:start + count], slots)]
             start += count
     return out

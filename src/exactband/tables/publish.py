@@ -31,7 +31,7 @@ import shutil
 from pathlib import Path
 
 from ..errors import VerificationError
-from ..fileio import fsync_dir
+from ..fileio import file_mode, fsync_dir
 from . import forked
 from .build import build
 from .faults import stop_at
@@ -56,14 +56,17 @@ def set_files(name: str) -> tuple:
 
 def check_out_dir(out) -> Path:
     if str(out).strip() == "":
-        raise SpecError(f"invalid --out = {out!r}: a folder name is required")
+        raise SpecError(f"invalid --out = {out!r}: a folder name is required", field="--out",
+                        value=out, allowed="a folder name is required")
     p = Path(out)
     if p.exists() and not p.is_dir():
-        raise SpecError(f"invalid --out = {out}: it exists and is not a folder")
+        raise SpecError(f"invalid --out = {out}: it exists and is not a folder", field="--out",
+                        value=out)
     for parent in p.absolute().parents:
         if parent.exists():
             if not parent.is_dir():
-                raise SpecError(f"invalid --out = {out}: {parent} is not a folder")
+                raise SpecError(f"invalid --out = {out}: {parent} is not a folder",
+                                field="--out", value=out)
             break
     return p
 
@@ -124,7 +127,7 @@ def publish(out: Path, name: str, files: dict) -> list:
     staging = out / f".{name}.staging"
     shutil.rmtree(staging, ignore_errors=True)
     staging.mkdir()
-    mode = _file_mode()
+    mode = file_mode()
     for fname, data in files.items():
         _write_synced(staging / fname, data, mode)
     fsync_dir(staging)
@@ -160,13 +163,6 @@ def _write_synced(path: Path, data: bytes, mode: int) -> None:
         fh.flush()
         os.fsync(fh.fileno())
     os.chmod(path, mode)  # os.open's mode is filtered by the umask already; be explicit
-
-
-def _file_mode() -> int:
-    """Permissions of an ordinary new file under the current umask."""
-    mask = os.umask(0o022)
-    os.umask(mask)
-    return 0o666 & ~mask
 
 
 def _remove_stale(out: Path, name: str) -> None:

@@ -151,7 +151,8 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
     data, notes = _renamed_keys(v, data)
     unknown = [k for k in data if k not in KEYS]
     if unknown:
-        raise v.fail(f"unknown key {show(unknown[0])}: allowed keys are {', '.join(KEYS)}")
+        raise v.fail(f"unknown key {show(unknown[0])}: allowed keys are {', '.join(KEYS)}",
+                     unknown[0], data[unknown[0]], f"the keys {', '.join(KEYS)}")
     inside = data["oc"] if isinstance(data.get("oc"), dict) else {}
     misplaced = [k for k in inside if k in KEYS and (k not in OC_KEYS or k not in data)]
     if misplaced:
@@ -159,7 +160,7 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
                      "of the spec (in TOML every key after a [table] line belongs to it)")
     for key in REQUIRED:
         if key not in data:
-            raise v.fail(f"missing key {key!r}: a spec needs {', '.join(REQUIRED)}")
+            raise v.fail(f"missing key {key!r}: a spec needs {', '.join(REQUIRED)}", key)
     title = v.text("title", data["title"], 200, one_line=True)
     scenario = v.text("scenario", data.get("scenario", ""), 4000, one_line=False, empty=True)
     fam_name = v.choice("family", data["family"], tuple(FAMILIES))

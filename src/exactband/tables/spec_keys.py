@@ -2,19 +2,20 @@
 
 Every check raises SpecError with one line: '<file>: invalid <key> = <value>:
 <what is allowed>', the key written as the user would find it (alpha[1],
-bands[0][1], n.step).
+bands[0][1], n.step); the error's ``field``, ``value`` and ``allowed`` are the
+key, the value and what is allowed.
 """
 
 from __future__ import annotations
 
 import math
-import re
 from decimal import Decimal
 
 from ..errors import DesignError, ExactbandError, show
+from ..kinds import KINDS
 
-TWO_POINT = ("band", "equivalence")  # kinds that read `bands`
-ONE_POINT = ("upper", "lower", "point")  # kinds that read `values`
+TWO_POINT = tuple(n for n, k in KINDS.items() if k.two_point)  # kinds that read `bands`
+ONE_POINT = tuple(n for n, k in KINDS.items() if not k.two_point)  # kinds that read `values`
 LARGE_LIMIT = 200_000  # designs in one set with --allow-large
 
 
@@ -28,19 +29,20 @@ class Checker:
     def __init__(self, where: str):
         self.where = where
 
-    def fail(self, text: str) -> SpecError:
-        return SpecError(f"{self.where}: {text}")
+    def fail(self, text: str, key: str | None = None, value=None,
+             allowed: str | None = None) -> SpecError:
+        return SpecError(f"{self.where}: {text}", field=key, value=value, allowed=allowed)
 
     def bad(self, key: str, value, allowed: str) -> SpecError:
-        return self.fail(f"invalid {key} = {show_value(value)}: {allowed}")
+        return self.fail(f"invalid {key} = {show_value(value)}: {allowed}", key, value, allowed)
 
     def rekey(self, key: str, err: DesignError) -> SpecError:
-        """A core DesignError ('invalid <field> = ...') re-labelled with the spec key."""
-        msg = str(err)
-        m = re.match(r"invalid [^\s=]+ = ", msg)
-        if m:
-            return self.fail(f"invalid {key} = " + msg[m.end():])
-        return self.fail(f"{key}: {msg}")
+        """A core DesignError about one value, re-labelled with the spec key that holds it
+        (its ``value`` and ``allowed`` read from the error, the message not parsed)."""
+        if err.field is None or err.value is None:
+            return self.fail(f"{key}: {err}", key, err.value, err.allowed)
+        return self.fail(f"invalid {key} = {show(err.value)}: {err.allowed}", key, err.value,
+                         err.allowed)
 
     def text(self, key, value, limit, one_line, empty=False) -> str:
         if not isinstance(value, str):
@@ -148,12 +150,14 @@ def dispersion_of(v: Checker, fam, data):
     if "dispersion" not in data:
         if fam.uses_dispersion:
             raise v.fail(f"missing key 'dispersion': the {fam.name} family needs a known "
-                         "dispersion k > 0")
+                         f"{fam.dispersion_word} > 0")
         return None
     k = data["dispersion"]
     if not fam.uses_dispersion:
+        from ..families import dispersion_users
+
         raise v.bad("dispersion", k, f"the {fam.name} family takes no dispersion; leave the "
-                    "key out (it is used only by negative-binomial)")
+                    f"key out (it is used only by {dispersion_users()})")
     v.number("dispersion", k)
     try:
         return fam.check_dispersion(k)

@@ -7,38 +7,27 @@ of title, subtitle, heading, para, caution, step, example, note.
 
 from __future__ import annotations
 
-from .layout import KIND_TITLE, WORDS, gamma_places, plain
+from ..families import get_family
+from ..kinds import KINDS
+from .tablewords import KIND_TITLE, WORDS, gamma_places, plain
 
 CAUTION = ("Caution: these tables compute statistical decision rules. Acceptance limits, "
            "sampling plans and the consequences of a decision come from the governing "
            "standard, local regulation and qualified professionals, not from these tables.")
 
-_HYP = {"band": "H0: low <= {t} <= high", "point": "H0: {t} = value",
-        "upper": "H0: {t} <= value", "lower": "H0: {t} >= value",
-        "equivalence": "H0: {t} <= low or {t} >= high"}
-
-_HYP_AT = {"band": "H0: {low} <= {t} <= {high}", "point": "H0: {t} = {value}",
-           "upper": "H0: {t} <= {value}", "lower": "H0: {t} >= {value}",
-           "equivalence": "H0: {t} <= {low} or {t} >= {high}"}
-
-
 def hypothesis_text(kind: str, family: str) -> str:
     symbol, what, _ = WORDS[family]
-    return _HYP[kind].format(t=symbol) + f", where {symbol} is {what}"
+    return KINDS[kind].hypothesis(symbol) + f", where {symbol} is {what}"
 
 
 def hypothesis_at(kind: str, family: str, points) -> str:
     """H0 with its numbers, e.g. 'H0: 2 <= rate <= 2.5' (points: (low, high) or (value,))."""
     names = ("low", "high") if len(points) == 2 else ("value",)
-    return _HYP_AT[kind].format(t=WORDS[family][0], **{k: plain(x) for k, x in zip(names, points)})
+    return KINDS[kind].hypothesis(WORDS[family][0], **{k: plain(x) for k, x in zip(names, points)})
 
 
 def y_text(family: str) -> str:
-    if family == "binomial":
-        return "Y = the number of units with the attribute among the n inspected"
-    if family == "poisson":
-        return "Y = the total count over the inspected exposure n"
-    return "Y = the total count over the n inspected units"
+    return f"Y = {get_family(family).y_inspected}"
 
 
 def _digits(d: int) -> str:
@@ -47,8 +36,6 @@ def _digits(d: int) -> str:
 
 def _sides(kind: str, family: str) -> dict:
     """Each side the kind rejects on, in words with the family's symbol."""
-    from ..kinds import KINDS
-
     k = KINDS[kind]
     return dict(zip(k.sides, k.rejection_sides(WORDS[family][0])))
 
@@ -58,16 +45,17 @@ def rule_text(kind: str, d: int, family: str = "poisson") -> str:
     random-digit procedure."""
     read = _digits(d)
     side = _sides(kind, family)
-    if kind in ("band", "point"):
+    k = KINDS[kind]
+    if k.two_tailed:
         return (f"Reject H0 if Y < c1 ({side['below']}) or Y > c2 ({side['above']}). "
                 f"If Y = c1, {read}: reject ({side['below'].split(' (')[0]}) if it is below "
                 f"t1. If Y = c2, the same with t2 ({side['above'].split(' (')[0]}). Otherwise "
                 f"(c1 < Y < c2) do not reject. If c1 = c2, read the digits once and reject if "
                 f"the number is below t1 + t2.")
-    if kind == "upper":
+    if k.sides == ("above",):
         return (f"Reject H0 if Y > c2 ({side['above']}). If Y = c2, {read}: reject if it is "
                 f"below t2. Otherwise (Y < c2) do not reject.")
-    if kind == "lower":
+    if k.sides == ("below",):
         return (f"Reject H0 if Y < c1 ({side['below']}). If Y = c1, {read}: reject if it is "
                 f"below t1. Otherwise (Y > c1) do not reject.")
     return (f"Reject H0 if c1 < Y < c2 (equivalence shown: {side['inside']}). If Y = c1, "
@@ -76,13 +64,11 @@ def rule_text(kind: str, d: int, family: str = "poisson") -> str:
 
 
 def conservative_text(kind: str) -> str:
-    if kind in ("band", "point"):
-        return "reject H0 only if Y < c1 or Y > c2"
-    if kind == "upper":
-        return "reject H0 only if Y > c2"
-    if kind == "lower":
-        return "reject H0 only if Y < c1"
-    return "reject H0 only if c1 < Y < c2"
+    k = KINDS[kind]
+    if k.rejects_inside:
+        return "reject H0 only if c1 < Y < c2"
+    return "reject H0 only if " + " or ".join(
+        w for w, used in (("Y < c1", k.uses_c1), ("Y > c2", k.uses_c2)) if used)
 
 
 def _pad(x: int, d: int) -> str:
@@ -91,8 +77,6 @@ def _pad(x: int, d: int) -> str:
 
 def _side_short(kind: str, cutoff: str) -> str:
     """'below the band' for a rejection at c1 of a band test (the side without numbers)."""
-    from ..kinds import KINDS
-
     k = KINDS[kind]
     side = "inside" if "inside" in k.sides else "below" if cutoff == "c1" else "above"
     return k.side_text(side, "").split(" (")[0]

@@ -10,7 +10,8 @@ import csv
 import io
 
 from ..fileio import safe_cell_text
-from .layout import plain, print_rows
+from .layout import print_rows
+from .tablewords import plain
 
 # The contract of NAME.csv: these columns first, in this order (more may follow).
 CONTRACT = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",

@@ -4,86 +4,37 @@ digits, provenance.
 Print-ready: title rows repeated on every printed page, fit to page width,
 landscape where a section is wide, frozen header, number formats as printed,
 header and footer with the title, 'page x of y' and the spec's hash.
-Deterministic: fixed document timestamps and fixed zip entry dates, so the
-same table set gives the same bytes.  Formats only; computes nothing.
+Deterministic (``xlsxzip.workbook_bytes``): fixed document timestamps and zip
+entry dates, so the same table set gives the same bytes.  Formats only; computes nothing.
 """
 
 from __future__ import annotations
 
-import datetime
-import io
-import math
-import zipfile
 from copy import copy
 
 from openpyxl import Workbook
-from openpyxl.styles import Alignment, Border, Font, PatternFill, Side
+from openpyxl.styles import Alignment, Border, Font
 from openpyxl.utils import get_column_letter
-from openpyxl.writer.excel import ExcelWriter
 
 from ..fileio import safe_cell_text
+from ..xlsxzip import workbook_bytes
 from .write_csv import COLUMNS, csv_row
+from .xlsx_power import power_sheet
+from .xlsx_style import (
+    BOLD,
+    CENTER,
+    FONT,
+    MEDIUM,
+    SHADE,
+    THIN,
+    WRAP,
+    heading_rows,
+    page_setup,
+    text_lines,
+)
 
-FIXED_TIME = datetime.datetime(2000, 1, 1, 0, 0, 0)
-ZIP_TIME = (2000, 1, 1, 0, 0, 0)
-PAPER = {"A4": "9", "Letter": "1"}  # OOXML paperSize codes
 COVER_WIDTH = 78  # characters: fits A4 and Letter portrait unscaled (LibreOffice does not
 # scale a one-column sheet to the page width)
-FONT = "Calibri"
-BOLD = Font(name=FONT, bold=True)
-THIN = Side(style="thin")
-MEDIUM = Side(style="medium")
-WRAP = Alignment(wrap_text=True, vertical="top")
-CENTER = Alignment(horizontal="center", vertical="center", wrap_text=True)
-SHADE = PatternFill("solid", fgColor="EEEEEE")
-
-
-class _FixedZip(zipfile.ZipFile):
-    """ZipFile whose entries all carry one fixed date (reproducible archives)."""
-
-    def writestr(self, zinfo_or_arcname, data, compress_type=None, compresslevel=None):
-        if not isinstance(zinfo_or_arcname, zipfile.ZipInfo):
-            zinfo_or_arcname = zipfile.ZipInfo(zinfo_or_arcname, date_time=ZIP_TIME)
-            zinfo_or_arcname.compress_type = zipfile.ZIP_DEFLATED
-            zinfo_or_arcname.external_attr = 0o644 << 16
-        super().writestr(zinfo_or_arcname, data, compress_type, compresslevel)
-
-    def write(self, filename, arcname=None, compress_type=None, compresslevel=None):
-        """openpyxl adds worksheets from temporary files: use their bytes, not their mtime."""
-        with open(filename, "rb") as fh:
-            data = fh.read()
-        self.writestr(arcname if arcname is not None else str(filename), data)
-
-
-def _hf(text: str) -> str:
-    """Text for a header/footer field ('&' is a control character there)."""
-    text = text if len(text) <= 90 else text[:87] + "..."
-    return text.replace("&", "&&")
-
-
-def _page(ws, spec, landscape: bool, heading: str) -> None:
-    ws.page_setup.paperSize = PAPER[spec.paper]
-    ws.page_setup.orientation = "landscape" if landscape else "portrait"
-    ws.page_setup.fitToWidth = 1
-    ws.page_setup.fitToHeight = 0
-    ws.sheet_properties.pageSetUpPr.fitToPage = True
-    ws.print_options.horizontalCentered = True
-    ws.page_margins.left = ws.page_margins.right = 0.5
-    ws.page_margins.top = ws.page_margins.bottom = 0.75
-    ws.oddHeader.left.text = _hf(spec.title)
-    ws.oddHeader.right.text = _hf(heading)
-    ws.oddFooter.left.text = f"spec SHA-256 {spec.sha256[:16]}"
-    ws.oddFooter.center.text = "Page &P of &N"
-    ws.oddFooter.right.text = _hf(f"{spec.name}.xlsx")
-    for part in (ws.oddHeader.left, ws.oddHeader.right, ws.oddFooter.left, ws.oddFooter.center,
-                 ws.oddFooter.right):
-        part.size = 8
-
-
-def _lines(text: str, width: float, fill: float = 0.8) -> int:
-    """Lines a wrapped text needs in a cell ``width`` characters wide (an estimate that
-    errs on the high side: a cut line is worse than a blank one)."""
-    return sum(max(1, math.ceil(len(p) / (width * fill))) for p in text.split("\n"))
 
 
 def _cover(wb, tset, sections, blocks) -> None:
@@ -107,8 +58,8 @@ def _cover(wb, tset, sections, blocks) -> None:
             c.border = Border(left=MEDIUM, right=MEDIUM, top=MEDIUM, bottom=MEDIUM)
             c.fill = SHADE
         size = 20 if style == "title" else 15
-        ws.row_dimensions[r].height = size * _lines(text, COVER_WIDTH * (0.7 if style == "title"
-                                                                          else 1), fill=1.0)
+        width = COVER_WIDTH * (0.7 if style == "title" else 1)
+        ws.row_dimensions[r].height = size * text_lines(text, width, fill=1.0)
     r += 2
     ws.cell(row=r, column=1, value="Contents").font = Font(name=FONT, bold=True, size=12)
     for s in sections:
@@ -123,7 +74,7 @@ def _cover(wb, tset, sections, blocks) -> None:
                        ("Provenance", "spec hash, versions, cross-check summary")):
         r += 1
         ws.cell(row=r, column=1, value=f"Sheet '{name}': {what}")
-    _page(ws, tset.spec, False, "Cover")
+    page_setup(ws, tset.spec, False, "Cover")
 
 
 def _widths(s) -> list:
@@ -141,17 +92,6 @@ def _widths(s) -> list:
                     out[start:i] = [w + (need - have) / (i - start) for w in out[start:i]]
             start = i
     return out
-
-
-def heading_rows(ws, rows, last: str, widths) -> None:
-    """Rows 1, 2, ... of (text, font, line height): wrapped, merged across columns A..last."""
-    for r, (text, font, size) in enumerate(rows, start=1):
-        cell = ws.cell(row=r, column=1, value=text)
-        cell.alignment = WRAP
-        if font is not None:
-            cell.font = font
-        ws.merge_cells(f"A{r}:{last}{r}")
-        ws.row_dimensions[r].height = size * _lines(text, sum(widths) * (0.85 if font else 1))
 
 
 def _section(wb, tset, s) -> None:
@@ -202,7 +142,7 @@ def _section(wb, tset, s) -> None:
     ws.freeze_panes = "A6"
     ws.print_title_rows = "1:5"
     ws.print_options.gridLines = True
-    _page(ws, tset.spec, sum(widths) > 100, s.heading)
+    page_setup(ws, tset.spec, sum(widths) > 100, s.heading)
 
 
 def _data(wb, tset) -> None:
@@ -242,7 +182,7 @@ def _data(wb, tset) -> None:
     ws.freeze_panes = "C2"
     ws.print_title_rows = "1:1"
     ws.print_title_cols = "A:C"
-    _page(ws, tset.spec, True, "Data (full precision)")
+    page_setup(ws, tset.spec, True, "Data (full precision)")
     ws.page_setup.fitToWidth = 2  # 25 wide columns: two pages across keep them legible
 
 
@@ -283,7 +223,7 @@ def _digits(wb, tset) -> None:
     for k in range(groups):
         ws.column_dimensions[get_column_letter(2 + k)].width = max(4.5, size + 2.5)
     ws.print_title_rows = "1:2"
-    _page(ws, spec, False, "Random digits")
+    page_setup(ws, spec, False, "Random digits")
     ws.page_setup.fitToHeight = len(layout)  # each page of digits on one sheet of paper
 
 
@@ -296,7 +236,7 @@ def _provenance(wb, tset, rows) -> None:
         ws.cell(row=i, column=2, value=safe_cell_text(value)).alignment = WRAP
     ws.column_dimensions["A"].width = 36
     ws.column_dimensions["B"].width = 90
-    _page(ws, tset.spec, False, "Provenance")
+    page_setup(ws, tset.spec, False, "Provenance")
 
 
 def xlsx_bytes(tset, sections, blocks, provenance) -> bytes:
@@ -304,19 +244,12 @@ def xlsx_bytes(tset, sections, blocks, provenance) -> bytes:
     wb = Workbook()
     wb.properties.creator = "exactband"
     wb.properties.title = tset.spec.title
-    wb.properties.created = FIXED_TIME
-    wb.properties.modified = FIXED_TIME
     _cover(wb, tset, sections, blocks)
     for s in sections:
         _section(wb, tset, s)
-    from .xlsx_power import power_sheet
-
     power_sheet(wb, tset)  # only when the spec states thetas ([oc])
     _data(wb, tset)
     if tset.random_digits:
         _digits(wb, tset)
     _provenance(wb, tset, provenance)
-    buf = io.BytesIO()
-    archive = _FixedZip(buf, "w", zipfile.ZIP_DEFLATED, allowZip64=True)
-    ExcelWriter(wb, archive).save()
-    return buf.getvalue()
+    return workbook_bytes(wb)

@@ -17,9 +17,9 @@ from openpyxl.styles import Alignment, Border, Font, PatternFill
 from openpyxl.utils import get_column_letter
 
 from ..fileio import safe_cell_text
-from .layout import WORDS, plain
+from .tablewords import WORDS, plain
 from .texts import hypothesis_at
-from .write_xlsx import BOLD, CENTER, FONT, MEDIUM, THIN, _page, heading_rows
+from .xlsx_style import BOLD, CENTER, FONT, MEDIUM, THIN, heading_rows, page_setup
 
 SHEET = "Power"
 RULE_ORDER = ("randomised", "digits", "conservative")  # exact, as applied, without digits
@@ -93,7 +93,7 @@ def power_sheet(wb, tset) -> None:
     ws.freeze_panes = "A6"
     ws.print_title_rows = "1:5"
     ws.print_options.gridLines = True
-    _page(ws, spec, sum(widths) > 100, "Power at stated values")
+    page_setup(ws, spec, sum(widths) > 100, "Power at stated values")
 
 
 def _id_style(cell, key) -> None:

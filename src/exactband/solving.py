@@ -1,0 +1,137 @@
+"""Solving problems in bulk: the fast solver over a list, the high-precision check.
+
+``fast_solve`` runs the vectorised float solver over problems grouped by family and
+kind; ``verify_one`` solves one problem with the precise solver, compares the two
+as test functions (crosscheck) and builds the verified Design; ``verify_many`` does
+that on a process pool.  The verifying solver's significant digits are checked by
+``check_precision``.  Used by ``api.design``, ``batch.designs``, the table build,
+the audit and ``decide --table``.
+"""
+
+from __future__ import annotations
+
+import mpmath as mp
+import numpy as np
+
+from .crosscheck import compare
+from .design import Design
+from .errors import DesignError, VerificationError, invalid
+from .families.mptable import TableTooLarge
+from .params import Problem
+from .rule import Rule
+from .solvers import fast, precise
+
+MIN_PRECISION, MAX_PRECISION = 20, 1000
+DEFAULT_PRECISION = 50  # significant digits of the verifying mpmath solver
+DECIMALS = 30  # significant digits of the gammas given as decimal strings
+
+
+def check_precision(precision) -> int:
+    """The verifying solver's significant digits: a whole number in [MIN, MAX]_PRECISION."""
+    allowed = f"a whole number of significant digits from {MIN_PRECISION} to {MAX_PRECISION}"
+    from .strict import whole
+
+    d = whole("precision", precision, allowed)
+    if not MIN_PRECISION <= d <= MAX_PRECISION:
+        raise invalid("precision", precision, allowed)
+    return d
+
+
+def precision_alias(precision, digits, where: str = "design"):
+    """``digits=`` is the old name of ``precision=``: accepted with a DeprecationWarning."""
+    if digits is None:
+        return precision
+    import warnings
+
+    warnings.warn(f"{where}(digits=...) is deprecated; use precision=...", DeprecationWarning,
+                  stacklevel=3)
+    if precision is not None and precision != digits:
+        raise DesignError(f"invalid digits = {digits}: give precision only "
+                          f"(precision = {precision} was given too)", field="digits",
+                          value=digits, allowed="give precision only")
+    return digits
+
+
+def label(p: Problem) -> str:
+    """Short identification of a design for messages."""
+    hyp = (f"value={p.value}" if p.kind.takes == ("value",) else f"low={p.low}, high={p.high}")
+    disp = f", dispersion={p.dispersion}" if p.dispersion is not None else ""
+    return f"{p.family.name} {p.kind.name} (n={p.n}, alpha={p.alpha}, {hyp}{disp})"
+
+
+def fast_solve(problems: list) -> list:
+    """Run the fast solver over problems (grouped by family and kind); tuples per problem."""
+    out = [None] * len(problems)
+    groups: dict = {}
+    for i, p in enumerate(problems):
+        groups.setdefault((p.family.name, p.kind.name), []).append(i)
+    for idx in groups.values():
+        ps = [problems[i] for i in idx]
+        fam, kind = ps[0].family, ps[0].kind.name
+
+        def col(name):
+            vals = [getattr(p, name) for p in ps]
+            return None if vals[0] is None else np.array(vals, dtype=float)
+
+        res = fast.solve(fam, kind, col("n"), col("alpha"), low=col("low"), high=col("high"),
+                         value=col("value"), dispersion=col("dispersion"))
+        for j, i in enumerate(idx):
+            out[i] = tuple(None if np.isnan(r[j]) else (int(r[j]) if q % 2 == 0 else float(r[j]))
+                           for q, r in enumerate(res))
+    return out
+
+
+def _decimal(g) -> str | None:
+    if g is None:
+        return None
+    if g == 0:
+        return "0"
+    return mp.nstr(g, DECIMALS, min_fixed=-mp.inf, max_fixed=mp.inf, strip_zeros=False)
+
+
+def from_fast(p: Problem, sol: tuple) -> Design:
+    """Unverified Design from the fast solver, sizes from the float law."""
+    rule = Rule.canonical(p.kind, *sol)  # float gammas that round to 1.0: the neighbour
+    base = Design(p, rule=rule, sizes=())
+    sizes = tuple(float(base.power(t)) for t in p.points)
+    return Design(p, rule=rule, sizes=sizes)
+
+
+def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
+    """Solve p with the precise solver, compare with the fast solution, build the Design."""
+    try:
+        pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
+                           value=p.value, dispersion=p.dispersion, precision=precision)
+    except TableTooLarge as e:
+        raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
+                          f"high-precision check at {precision} digits ({e}); use a smaller "
+                          "n, a lower precision, or the unverified fast path", field="n",
+                          value=p.n) from None
+    cc = compare(p.kind.name, p.alpha, sol, pd, precision)
+    if not cc.agree:
+        raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
+    with mp.workdps(pd.dps):
+        g1 = None if pd.gamma1 is None else float(pd.gamma1)
+        g2 = None if pd.gamma2 is None else float(pd.gamma2)
+        d1, d2 = _decimal(pd.gamma1), _decimal(pd.gamma2)
+        sizes = tuple(float(s) for s in pd.sizes)
+    rule = Rule.canonical(p.kind, pd.c1, g1, pd.c2, g2)
+    if rule.gamma1 != g1:
+        d1 = "0"
+    if rule.gamma2 != g2:
+        d2 = "0"
+    return Design(p, sizes=sizes, verified=True, precision=precision,
+                  gamma1_decimal=d1, gamma2_decimal=d2, check=cc, rule=rule)
+
+
+def _verify_task(args):
+    p, sol, precision = args
+    return verify_one(p, sol, precision)
+
+
+def verify_many(problems, sols, precision, workers=None, progress=None) -> list:
+    """verify_one over many problems, in order, on ``workers`` processes (None: all cores)."""
+    from .parallel import pmap
+
+    return pmap(_verify_task, [(p, s, precision) for p, s in zip(problems, sols)], workers,
+                progress)
