@@ -181,6 +181,14 @@ class NegBinomialMp:
         """
         return 3e-20 * float(self.r)
 
+    def tails(self):
+        """Tails at single points (incomplete beta, families.mptails): for laws too wide to tabulate."""
+        from fractions import Fraction
+
+        from .mptails import NegBinomialTails
+
+        return NegBinomialTails(Fraction(self._ra, self._rb), Fraction(self._ma, self._mb))
+
     def up_int(self, y):
         """pmf(y+1)/pmf(y) = (y + r) m / ((r + m)(y + 1)) exactly."""
         return (y * self._rb + self._ra) * self._ma, self._rm * (y + 1)

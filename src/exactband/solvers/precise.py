@@ -25,9 +25,9 @@ from dataclasses import dataclass, field
 
 import mpmath as mp
 
-from ..families.mptable import MpTable
 from ..kinds import KINDS
 from ..mpnum import dec, dec_complement
+from . import precise_tails
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -95,7 +95,7 @@ def _table(family, theta, n, k, precision, alpha, moments=False):
         if hit is not None and hit._prec >= prec and hit.thr <= thr:
             _CACHE.move_to_end(kk)
             return hit
-    T = MpTable(family.mp_law(theta, n, k), thr, moments=moments)
+    T = precise_tails.table_for(family.mp_law(theta, n, k), thr, moments)
     old = _CACHE.pop((key, moments), None)
     _SIZE[0] += T.nbytes - (old.nbytes if old is not None else 0)
     _CACHE[(key, moments)] = T
@@ -247,8 +247,22 @@ def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=No
     """Solve one design at ``precision`` significant digits (plus guard digits).
 
     alpha, theta and the band ends are read as the decimals they print as;
-    1 - alpha is formed from that decimal exactly.
+    1 - alpha is formed from that decimal exactly.  A law read from tails at
+    anchors (precise_tails.TailTable) has the tails at the final cutoffs
+    checked against fresh evaluations (docs/tolerances.md, section 6).
     """
+    pd = _solve(family, kind, n, alpha, low, high, value, dispersion, precision)
+    pts = [c + d for c in (pd.c1, pd.c2) if c is not None for d in (-1, 0)]
+    for T in pd.tables:
+        if isinstance(T, precise_tails.TailTable):
+            try:
+                T.certify(pts)
+            except precise_tails.TailCheckFailure as e:
+                raise PreciseFailure(str(e)) from None
+    return pd
+
+
+def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> PreciseDesign:
     dps = working_dps(precision, kind, low, high, alpha)
     with mp.workdps(dps):
         tol = mp.mpf(10) ** (-(dps - 8))

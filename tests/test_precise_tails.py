@@ -1,0 +1,102 @@
+"""Laws too spread out to tabulate: the precise solver reads tails at anchors (issue 10).
+
+Negative binomials with a small dispersion and a large mean were declined (their
+probability tables would exceed mptable.MAX_TABLE terms).  They now verify; each
+design is re-checked here independently of exactband: its sizes are summed from
+scipy.stats.nbinom (cdf, sf, pmf of the negative binomial) and must equal alpha
+to 1e-9 relative, with gammas in [0, 1).
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+
+import mpmath as mp
+import pytest
+from scipy import stats
+
+from exactband import api
+from exactband.families import get_family
+from exactband.families.mptable import MAX_TABLE, table_estimate
+from exactband.families.mptails import NegBinomialTails
+from exactband.solvers import precise, precise_tails
+
+NB = "negative-binomial"
+
+
+def scipy_size(d, theta):
+    """E_theta phi of a design, from scipy.stats.nbinom (size r = n k, p = r / (r + n theta))."""
+    r = d.n * d.problem.dispersion
+    law = stats.nbinom(r, r / (r + d.n * theta))
+    g1 = d.gamma1 or 0.0
+    g2 = d.gamma2 or 0.0
+    if d.kind == "upper":
+        return law.sf(d.c2) + g2 * law.pmf(d.c2)
+    if d.kind == "lower":
+        return (law.cdf(d.c1 - 1) if d.c1 > 0 else 0.0) + g1 * law.pmf(d.c1)
+    if d.kind == "equivalence":  # 1 strictly between the cutoffs
+        return law.cdf(d.c2 - 1) - law.cdf(d.c1) + g1 * law.pmf(d.c1) + g2 * law.pmf(d.c2)
+    # band, point: 1 outside the cutoffs
+    left = law.cdf(d.c1 - 1) if d.c1 > 0 else 0.0
+    return left + g1 * law.pmf(d.c1) + g2 * law.pmf(d.c2) + law.sf(d.c2)
+
+
+def would_be_declined(d, theta) -> bool:
+    """True when the full table of this law would exceed MAX_TABLE (the old decline)."""
+    law = get_family(NB).mp_law(theta, d.n, d.problem.dispersion)
+    with mp.workdps(65):
+        thr = mp.mpf(min(d.alpha, 0.5)) * mp.mpf(10) ** -62
+        return table_estimate(float(mp.sqrt(law.variance)), thr, mp.mp.prec)[0] > MAX_TABLE
+
+
+# k = 0.05 per unit, one unit: size r = 0.05, means up to 1e6 (sd up to 4.5e6)
+CASES = [
+    ("upper", dict(value=1e6, alpha=0.05)),
+    ("upper", dict(value=3e5, alpha=1 - 1e-9)),
+    ("lower", dict(value=1e6, alpha=1e-3)),
+    ("point", dict(value=1e6, alpha=0.05)),
+    ("band", dict(low=1e5, high=1e6, alpha=0.05)),
+    ("equivalence", dict(low=1e5, high=1e6, alpha=0.05)),
+]
+
+
+@pytest.mark.parametrize("kind,kw", CASES)
+def test_spread_out_negative_binomial_verifies(kind, kw):
+    precise.clear_cache()
+    d = api.design(NB, kind, n=1, dispersion=0.05, **kw)
+    assert d.verified
+    assert any(would_be_declined(d, t) for t in d.problem.points)
+    for g in (d.gamma1, d.gamma2):
+        assert g is None or 0.0 <= g < 1.0
+    for theta in d.problem.points:
+        size = scipy_size(d, theta)
+        assert abs(size - d.alpha) <= 1e-9 * d.alpha, (theta, size)
+
+
+def test_tails_match_mpmath_betainc():
+    # reference: mpmath.betainc(a, b, 0, x, regularized=True), the regularised incomplete
+    # beta by mpmath's hypergeometric series (P(Y <= y) = I_q(r, y + 1) for NB(r, q))
+    for r, m, ys in [(Fraction(1, 20), Fraction(10**6), (0, 10, 1000)),
+                     (Fraction(5), Fraction(7, 2), (0, 3, 60))]:
+        T = NegBinomialTails(r, m)
+        with mp.workdps(65):
+            for y in ys:
+                F, S = T.tails(y)
+                q = mp.mpf(r) / (mp.mpf(r) + mp.mpf(m.numerator) / m.denominator)
+                with mp.workdps(90):
+                    want = mp.betainc(mp.mpf(r.numerator) / r.denominator, y + 1, 0, q,
+                                      regularized=True)
+                    assert abs(F / want - 1) < mp.mpf(10) ** -63
+                    assert abs(S / (1 - want) - 1) < mp.mpf(10) ** -60
+
+
+def test_a_wrong_anchor_is_caught():
+    law = get_family(NB).mp_law(1e6, 1, 0.05)
+    with mp.workdps(65):
+        T = precise_tails.TailTable(law, law.tails())
+        c = T.first_sf_at_most(mp.mpf("0.05"))
+        assert T.certify([c - 1, c]) < mp.mpf(10) ** -70
+        seg = next(s for s in T._segs if s.lo <= c <= s.hi)
+        seg.S0 *= 1 + mp.mpf(10) ** -40  # an anchor wrong in its 40th digit
+        with pytest.raises(precise_tails.TailCheckFailure):
+            T.certify([c - 1, c])
