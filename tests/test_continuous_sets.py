@@ -204,3 +204,21 @@ def test_cli_design_and_decide(cli):
                          "--alpha", "0.05", "--value", "0", "--dispersion", "1", "--y", "0.9",
                          "--digits-read", "123")
     assert code == 2 and err.count("\n") == 1 and "digits-read" in err
+
+
+def test_spec_keys_for_real_cutoffs(tmp_path):
+    from exactband.tables.spec import SpecError, load_spec
+
+    base = NORMAL_SPEC.replace("cutoff_decimals = 3\n", "")
+    cases = [(base + "cutoff_decimals = 13\n", "cutoff_decimals"),
+             (base + '\n[oc]\nrules = ["randomised", "conservative"]\n', "oc.rules"),
+             ('title = "t"\nfamily = "poisson"\nkinds = ["upper"]\nalpha = [0.05]\nn = [5]\n'
+              'values = [1.0]\ncutoff_decimals = 2\n', "cutoff_decimals")]
+    for i, (text, key) in enumerate(cases):
+        path = tmp_path / f"s{i}.toml"
+        path.write_text(text, encoding="utf-8")
+        with pytest.raises(SpecError, match=key):
+            load_spec(path)
+    path = tmp_path / "ok.toml"
+    path.write_text(base, encoding="utf-8")
+    assert load_spec(path).cutoff_decimals == 4  # the default for real cutoffs
