@@ -80,6 +80,8 @@ class NGrid:
 
     def power(self, ns, cut, theta, gammas=None):
         c1, g1, c2, g2 = cut
+        if gammas is not None:
+            g1, g2 = gammas
         if not self.fam.discrete:  # the family's law, one n at a time; gammas do not apply
             out = []
             for a, b, n in zip(c1, c2, ns):

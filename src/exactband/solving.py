@@ -117,8 +117,9 @@ def continuous_fast(p: Problem) -> tuple:
         raise DesignError(
             f"invalid alpha = {p.alpha}: the cutoffs of {label(p)} written as 17-digit numbers "
             f"cannot hold its size to 1e-9 (size moves {sol.conditioning:.3g} times a cutoff's "
-            "relative change); use a larger alpha or a wider band", field="alpha", value=p.alpha,
-            allowed="a design whose cutoffs hold its size to 1e-9")
+            "relative change); use a larger alpha or a wider band, or measure from an origin "
+            "nearer the values (e.g. as a difference from a reference value)", field="alpha",
+            value=p.alpha, allowed="a design whose cutoffs hold its size to 1e-9")
     return sol.c1, None, sol.c2, None
 
 
