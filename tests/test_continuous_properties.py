@@ -76,7 +76,7 @@ def check(fam, kind, n, k, alpha, pts):
 
 
 @seed(SEED)
-@settings(max_examples=25)
+@settings(max_examples=15)
 @given(designs())
 def test_random_designs_exact_size_and_agreement(d):
     check(*d)
