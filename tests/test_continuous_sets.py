@@ -241,3 +241,14 @@ def test_resume_from_the_cache(tmp_path):
     generate(spec, tmp_path / "fresh", workers=1)
     for name in ("normal.csv", "normal.print.csv", "normal.pdf"):
         assert (tmp_path / "o" / name).read_bytes() == (tmp_path / "fresh" / name).read_bytes()
+
+
+def test_power_figure_of_a_continuous_rule():
+    """One curve (the rule has real cutoffs), a caption without gammas or random digits."""
+    from exactband.plots import design_caption, oc_figure
+
+    d = exactband.design("normal", "band", n=25, alpha=0.05, low=9.5, high=10.5, dispersion=2)
+    fig = oc_figure(d)
+    assert len(fig.axes[0].lines) == 2  # the alpha line and the one rule
+    text = design_caption(d, 3)
+    assert "real cutoffs" in text and "gamma" not in text and "random digits" not in text
