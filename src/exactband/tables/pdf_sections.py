@@ -13,13 +13,47 @@ from xml.sax.saxutils import escape
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import NextPageTemplate, PageBreak, Paragraph, Table, TableStyle
+from reportlab.platypus import (
+    Flowable,
+    NextPageTemplate,
+    PageBreak,
+    Paragraph,
+    Table,
+    TableStyle,
+)
 
 from .pdf_kit import GREY, PAD, Geometry, Mark, para
 
 
-class Undrawn(Table):
-    """A table laid out but not drawn (the first pass only learns where things land)."""
+class _UndrawnTable(Table):
+    def draw(self):
+        pass
+
+
+class Undrawn(Flowable):
+    """A page's table in the first pass, which only learns where things land: its size
+    (a Table with every row height and column width given is exactly their sums),
+    nothing laid out or drawn; should it not fit, it splits as the table would."""
+
+    def __init__(self, data, colWidths, rowHeights, **kw):
+        super().__init__()
+        self._args = (data, colWidths, rowHeights, kw)
+        self._style = None
+        self.hAlign = kw.get("hAlign") or "CENTER"
+        self.width, self.height = sum(colWidths), sum(rowHeights)
+
+    def setStyle(self, style):
+        self._style = style
+
+    def wrap(self, availWidth, availHeight):
+        return self.width, self.height
+
+    def split(self, availWidth, availHeight):
+        data, cw, rh, kw = self._args
+        t = _UndrawnTable(data, colWidths=cw, rowHeights=rh, **kw)
+        t.setStyle(self._style)
+        t.wrap(availWidth, availHeight)
+        return t.split(availWidth, availHeight)
 
     def draw(self):
         pass
@@ -40,12 +74,17 @@ def _group_style(size: float) -> ParagraphStyle:
                           leading=size * 1.15, alignment=1)
 
 
-def _col_widths(section, size: float) -> list:
+def _col_texts(section) -> list:
+    """The distinct texts of each column (a width is the same for the same text)."""
+    return [{r[i].text for r in section.rows} for i in range(len(section.columns))]
+
+
+def _col_widths(section, size: float, texts=None) -> list:
     """Column widths that fit every cell on one line and each group label on two."""
     out = []
+    texts = _col_texts(section) if texts is None else texts
     for i, col in enumerate(section.columns):
-        wmax = max(stringWidth(r[i].text, "Helvetica", size) for r in section.rows) \
-            if section.rows else 0.0
+        wmax = max(stringWidth(t, "Helvetica", size) for t in texts[i]) if texts[i] else 0.0
         wmax = max(wmax, stringWidth(col.label, "Helvetica-Bold", size))
         out.append(wmax + 2 * PAD + 2)
     for label, a, b in _groups(section):
@@ -66,9 +105,10 @@ SIZES = ((False, 10.0), (False, 9.0), (True, 10.0), (True, 9.0), (True, 8.0), (T
 def _fit(section, geo: Geometry) -> tuple:
     """(landscape?, type size, column widths): portrait at 10 or 9 pt if the section
     fits, else landscape, smaller type only if even that is too narrow."""
+    texts = _col_texts(section)
     for land, size in SIZES:
         fw, _ = geo.frame(land)
-        widths = _col_widths(section, size)
+        widths = _col_widths(section, size, texts)
         if sum(widths) <= fw:
             break
     return land, size, _spread(widths, fw)
