@@ -19,10 +19,8 @@ from __future__ import annotations
 
 import math
 
-from openpyxl.compat import safe_string
+from openpyxl.utils import get_column_letter
 from openpyxl.worksheet._writer import WorksheetWriter
-
-_PLAIN = {"n", "s"}
 
 
 def _escape_text(s: str) -> str:
@@ -45,49 +43,54 @@ def _escape_attr(s: str) -> str:
     return s
 
 
-def _plain(cell) -> bool:
-    """A cell this module writes itself (else openpyxl writes its row)."""
-    if cell._comment is not None or cell.hyperlink is not None:
-        return False
-    t = cell.data_type
-    if t not in _PLAIN:
-        return False
-    v = cell._value
-    if t == "s":
-        return v is None or type(v) is str
-    return v is None or (type(v) in (int, float) and math.isfinite(v))
-
-
 class RowsWriter(WorksheetWriter):
     """openpyxl's worksheet writer; rows of plain cells written as text (same bytes)."""
 
     def write_row(self, xf, row, row_idx):
         raw = getattr(xf, "_file", None)
-        if not callable(raw) or not all(_plain(c) for c in row):
+        text = _row_text(self.ws, row, row_idx) if callable(raw) else None
+        if text is None:  # not a row of plain cells: openpyxl writes it
             return super().write_row(xf, row, row_idx)
-        attrs = {"r": f"{row_idx}"}
-        attrs.update(self.ws.row_dimensions.get(row_idx, {}))
-        out = ["<row", *(f' {k}="{_escape_attr(v)}"' for k, v in attrs.items()), ">"]
-        for cell in row:
-            value, styled = cell._value, cell.has_style
-            if value is None and not styled:
+        raw(text)
+
+
+def _row_text(ws, row, row_idx) -> str | None:
+    """The XML of one row as openpyxl writes it, or None if a cell is not plain (a
+    number, a string or nothing: no formula, date, rich text, comment or link)."""
+    attrs = {"r": f"{row_idx}"}
+    attrs.update(ws.row_dimensions.get(row_idx, {}))
+    out = ["<row", *(f' {k}="{_escape_attr(v)}"' for k, v in attrs.items()), ">"]
+    r = f"{row_idx}"
+    for cell in row:
+        if cell._comment is not None or cell.hyperlink is not None:
+            return None
+        value, t = cell._value, cell.data_type
+        if value is None:
+            if not cell.has_style:
                 continue
-            head = f'<c r="{cell.coordinate}"'
-            if styled:
-                head += f' s="{cell.style_id}"'  # registers the style, in openpyxl's order
-            if cell.data_type == "s":
-                head += ' t="inlineStr"'
-                if value is None or value == "":
-                    out.append(head + " />")
-                    continue
-                stripped = value.strip()
-                space = ' xml:space="preserve"' if stripped and stripped != value else ""
-                out.append(f"{head}><is><t{space}>{_escape_text(value)}</t></is></c>")
-            else:
-                head += ' t="n"'
-                if value is None:
-                    out.append(head + " />")
-                    continue
-                out.append(f"{head}><v>{safe_string(value)}</v></c>")
-        out.append("</row>")
-        raw("".join(out))
+        elif t == "s":
+            if type(value) is not str:
+                return None
+        elif t != "n" or type(value) not in (int, float) or not math.isfinite(value):
+            return None
+        head = f'<c r="{get_column_letter(cell.column)}{r}"'
+        if cell.has_style:
+            head += f' s="{cell.style_id}"'  # registers the style, in openpyxl's order
+        if t == "s":
+            head += ' t="inlineStr"'
+            if value is None or value == "":
+                out.append(head + " />")
+                continue
+            stripped = value.strip()
+            space = ' xml:space="preserve"' if stripped and stripped != value else ""
+            out.append(f"{head}><is><t{space}>{_escape_text(value)}</t></is></c>")
+        elif t == "n":
+            head += ' t="n"'
+            if value is None:
+                out.append(head + " />")
+                continue
+            out.append(f"{head}><v>{'%.16g' % value}</v></c>")  # openpyxl's safe_string
+        else:
+            return None
+    out.append("</row>")
+    return "".join(out)
