@@ -77,3 +77,42 @@ def test_table_set_workbook_bytes_equal_openpyxl(tmp_path):
     finally:
         write_xlsx.workbook_bytes = real
     assert fast == slow
+
+
+def _text_rows_workbook():
+    from copy import copy
+
+    from openpyxl.cell.cell import Cell
+
+    from exactband.xlsxrows import TextRows
+
+    wb = Workbook()
+    ws = wb.active
+    ws.append(["header", "x", "y"])
+    ws["A1"].font = Font(bold=True)
+    proto = Cell(ws)
+    proto.border = Border(top=Side(style="thin"))
+    proto.number_format = "@"
+    ruled = copy(proto._style)
+    rows = TextRows(ws)
+    rows.add(["a", 1, 2.5, None, "", " pad", "0.1234567890123456789"])
+    rows.add([None, None, None], [ruled, None, ruled])  # styled blanks only
+    rows.add(["x & <y>", -3, 1e-310], [None, ruled, ruled])
+    return wb
+
+
+def test_text_rows_bytes_equal_the_same_cells():
+    """TextRows are written as openpyxl writes the same values and styles put in cells."""
+    assert workbook_bytes(_text_rows_workbook()) == workbook_bytes(_text_rows_workbook(),
+                                                                   fast=False)
+
+
+def test_text_rows_refuse_what_openpyxl_would_not_store_as_text():
+    import pytest
+
+    from exactband.xlsxrows import TextRows
+
+    rows = TextRows(Workbook().active)
+    for bad in ("=1+2", "#N/A", "bell\x07", float("nan"), True, b"bytes"):
+        with pytest.raises(ValueError):
+            rows.add(["ok", bad])

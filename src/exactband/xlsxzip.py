@@ -64,12 +64,18 @@ def workbook_bytes(wb, fast: bool = True) -> bytes:
     """The openpyxl workbook ``wb`` as XLSX bytes with fixed dates (same workbook, same bytes).
 
     ``fast``: worksheets written by xlsxrows.RowsWriter (the same bytes as openpyxl's
-    own writer, which ``fast=False`` uses).
+    own writer, which ``fast=False`` uses, with any xlsxrows.TextRows put in cells).
     """
     from openpyxl.writer.excel import ExcelWriter
 
     wb.properties.created = FIXED_TIME
     wb.properties.modified = FIXED_TIME
+    if not fast:
+        from .xlsxrows import TextRows
+
+        for ws in wb.worksheets:
+            if TextRows.of(ws) is not None:
+                TextRows.of(ws).as_cells()
     buf = io.BytesIO()
     archive = FixedZip(buf, "w", zipfile.ZIP_DEFLATED, allowZip64=True)
     (_excel_writer() if fast else ExcelWriter)(wb, archive).save()
