@@ -167,6 +167,31 @@ def _table_style(section, size, chunk_starts, nrows, shaded=()) -> TableStyle:
     return TableStyle(cmds)
 
 
+PER_CELL = ("FONT", "ALIGN", "VALIGN", "LEFTPADDING", "RIGHTPADDING", "TOPPADDING",
+            "BOTTOMPADDING")
+
+
+def shared_cell_styles(cmds, nrows: int, ncols: int) -> tuple:
+    """(cellStyles for Table, the other commands): reportlab applies a per-cell command
+    (font, alignment, padding) to every cell of its range, one cell at a time; when
+    each covers whole rows, the rows covered by the same commands share one CellStyle
+    made by applying them once (a Table draws the same from equal styles).  Otherwise
+    (None, cmds): reportlab applies them as usual."""
+    per = [c for c in cmds if c[0] in PER_CELL]
+    if any(c[1][0] != 0 or c[2][0] not in (-1, ncols - 1) for c in per):
+        return None, list(cmds)
+
+    spans = [tuple(r + nrows if r < 0 else r for r in (c[1][1], c[2][1])) for c in per]
+    made, rows = {}, []
+    for i in range(nrows):
+        key = tuple(k for k, (lo, hi) in enumerate(spans) if lo <= i <= hi)
+        if key not in made:
+            one = Table([[""]], style=[(per[k][0], (0, 0), (0, 0), *per[k][3:]) for k in key])
+            made[key] = one._cellStyles[0][0]
+        rows.append([made[key]] * ncols)
+    return rows, [c for c in cmds if c[0] not in PER_CELL]
+
+
 def band_index(section) -> list:
     """For each row of a section, the number of its band (or value), 0-based."""
     starts = set(section.group_starts)
@@ -213,10 +238,13 @@ def section_flowables(section, geo, pages, spec, table=Table) -> list:
         else:
             out += [Mark(section.number, pages)] + heading(section.heading)
         body = [[c.text for c in r] for r in chunk]
-        tab = table(header + body, colWidths=widths, rowHeights=[head0, row_h]
-                    + [row_h] * len(body), hAlign="LEFT")
         seps = [i - first for i in range(first + 1, first + len(chunk)) if i in starts]
-        tab.setStyle(_table_style(section, size, seps, len(body),
-                                  shaded_runs(section, first, len(chunk))))
+        style = _table_style(section, size, seps, len(body),
+                             shaded_runs(section, first, len(chunk)))
+        cells, rest = shared_cell_styles(style.getCommands(), len(header) + len(body),
+                                         len(widths))
+        tab = table(header + body, colWidths=widths, rowHeights=[head0, row_h]
+                    + [row_h] * len(body), hAlign="LEFT", cellStyles=cells)
+        tab.setStyle(TableStyle(rest))
         out.append(tab)
     return out
