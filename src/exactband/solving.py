@@ -10,6 +10,8 @@ the audit and ``decide --table``.
 
 from __future__ import annotations
 
+import math
+
 import mpmath as mp
 import numpy as np
 
@@ -206,8 +208,9 @@ def law_batches(problems, precision, workers: int) -> list:
     """Lists of positions, in law order (``law_order``), each holding whole law groups
     where it can: the work of one process, which then reuses its tables.
 
-    About 8 batches per worker (so the last ones balance the load); a group larger
-    than two batches is cut.  On one worker every design is its own batch.
+    About 8 batches per worker (so the last ones balance the load), the costliest
+    first; a group larger than two batches is cut.  On one worker every design is
+    its own batch, in law order.
     """
     order = law_order(problems, precision)
     if workers <= 1:  # one process keeps its tables anyway: one design per batch
@@ -224,6 +227,9 @@ def law_batches(problems, precision, workers: int) -> list:
             cur = []
     if cur:
         out.append(cur)
+    # the costliest batches first (so no worker is left with a large one at the end):
+    # a table's length grows like the spread of Y, here sqrt(n) as a rough measure
+    out.sort(key=lambda b: -sum(math.sqrt(problems[i].n) for i in b))
     return out
 
 
