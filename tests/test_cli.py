@@ -52,7 +52,7 @@ BAD = [
     (["--alpha", "five"], "alpha"),
     (["--low", "3"], "low"),
     (["--n", "-1"], "n"),
-    (["--family", "gamma"], "family"),
+    (["--family", "weibull"], "family"),
     (["--kind", "both"], "kind"),
     (["--value", "2"], "value"),
     (["--dispersion", "2"], "dispersion"),

@@ -45,7 +45,7 @@ CASES = [
     (dict(high=None), "high", "needs low and high"),
     (dict(kind="upper"), "low", "takes only value"),
     (dict(kind="upper", low=None, high=None), "value", "needs value"),
-    (dict(family="gamma"), "family", "poisson, binomial, negative-binomial"),
+    (dict(family="weibull"), "family", "poisson, binomial, negative-binomial, normal, gamma"),
     (dict(kind="two-sided"), "kind", "upper, lower, point, band, equivalence"),
 ]
 
@@ -95,7 +95,7 @@ def test_power_rejects_theta_outside_the_family_space():
 
 
 @pytest.mark.parametrize("change,field", [
-    (dict(alpha="abc"), "alpha"), (dict(value=2.0), "value"), (dict(family="gamma"), "family"),
+    (dict(alpha="abc"), "alpha"), (dict(value=2.0), "value"), (dict(family="weibull"), "family"),
     (dict(kind=None), "kind"), (dict(high=np.nan), "high"), (dict(n=True), "n"),
     (dict(dispersion=1.0), "dispersion"), (dict(low=9.0), "low"),
 ])

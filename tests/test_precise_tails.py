@@ -100,3 +100,28 @@ def test_a_wrong_anchor_is_caught():
         seg.S0 *= 1 + mp.mpf(10) ** -40  # an anchor wrong in its 40th digit
         with pytest.raises(precise_tails.TailCheckFailure):
             T.certify([c - 1, c])
+
+
+def test_tail_table_agrees_with_the_full_table():
+    # source: the project's own full table (families.mptable.MpTable), built by summing
+    # masses from the mode: an independent route to the same numbers (no incomplete beta)
+    from exactband.families.mptable import MpTable
+
+    with mp.workdps(65):
+        law = get_family(NB).mp_law(2000.0, 1, 0.5)  # r = 0.5, m = 2000: sd ~ 2800
+        full = MpTable(law, mp.mpf(10) ** -80, moments=True)
+        tails = precise_tails.TailTable(law, law.tails())
+        tol = mp.mpf(10) ** -60
+        # the full table leaves out < 1e-80 of mass beyond its ends (full.truncated),
+        # a mass whose values y lie near 1e6: at most ~1e-74 of the moments
+        assert full.truncated < mp.mpf(10) ** -80
+        slack = mp.mpf(10) ** -72
+        for y in (0, 1, 7, 150, 2000, 9000, 20000, 300000):
+            for a, b in ((full.cdf(y), tails.cdf(y)), (full.sf(y), tails.sf(y)),
+                         (full.pmf(y), tails.pmf(y)), (full.moment_above(y), tails.moment_above(y)),
+                         (full.moment_below(y), tails.moment_below(y))):
+                assert abs(a - b) <= tol * abs(a) + slack, (y, a, b)
+        for t in ("1e-30", "1e-8", "0.05", "0.5", "0.95"):
+            t = mp.mpf(t)
+            assert tails.first_cdf_above(t) == full.first_cdf_above(t)
+            assert tails.first_sf_at_most(t) == full.first_sf_at_most(t)

@@ -16,7 +16,13 @@ from .errors import DesignError, VerificationError, recast
 from .families import FAMILIES
 from .kinds import KINDS
 from .params import ALPHA_MAX, make_problem
-from .solving import DEFAULT_PRECISION, check_precision, precision_alias, verify_many
+from .solving import (
+    DEFAULT_PRECISION,
+    check_precision,
+    continuous_fast,
+    precision_alias,
+    verify_many,
+)
 
 COLUMNS = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion")
 _NUMERIC = ("n", "alpha", "low", "high", "value", "dispersion")
@@ -157,6 +163,14 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
     if bad_rows.size:
         _explain(frame, int(bad_rows.min()))
     for fam, kind, pos, a in checked:
+        if not fam.discrete:  # real cutoffs: the continuous float solver, design by design
+            for j in pos:
+                row = _row_dict(frame, j)
+                sol = continuous_fast(make_problem(
+                    row["family"], row["kind"], n=row["n"], alpha=row["alpha"], low=row["low"],
+                    high=row["high"], value=row["value"], dispersion=row["dispersion"]))
+                c1[j], g1[j], c2[j], g2[j] = (np.nan if x is None else x for x in sol)
+            continue
         used = {name: (a[name] if name in kind.takes else None) for name in ("low", "high", "value")}
         r = fast.solve(fam, kind.name, a["n"], a["alpha"], dispersion=(
             a["dispersion"] if fam.uses_dispersion else None), **used)
@@ -168,7 +182,8 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
             problems.append(make_problem(row["family"], row["kind"], n=row["n"],
                                          alpha=row["alpha"], low=row["low"], high=row["high"],
                                          value=row["value"], dispersion=row["dispersion"]))
-            sols.append(tuple(None if np.isnan(v[pos]) else (int(v[pos]) if j % 2 == 0
+            whole = problems[-1].family.discrete  # whole-number cutoffs, else real ones
+            sols.append(tuple(None if np.isnan(v[pos]) else (int(v[pos]) if j % 2 == 0 and whole
                                                               else float(v[pos]))
                               for j, v in enumerate((c1, g1, c2, g2))))
         try:
@@ -180,10 +195,12 @@ def designs(frame, *, verify=True, precision=None, workers=None, digits=None):
         c2 = np.array([np.nan if x.c2 is None else x.c2 for x in ds], dtype=float)
         g2 = np.array([np.nan if x.gamma2 is None else x.gamma2 for x in ds], dtype=float)
     out = frame.copy()
-    out["c1"] = pd.array(np.where(np.isnan(c1), 0, c1).astype(np.int64), dtype="Int64")
-    out.loc[np.isnan(c1), "c1"] = pd.NA
-    out["gamma1"] = g1
-    out["c2"] = pd.array(np.where(np.isnan(c2), 0, c2).astype(np.int64), dtype="Int64")
-    out.loc[np.isnan(c2), "c2"] = pd.NA
-    out["gamma2"] = g2
+    real = any(not FAMILIES[f].discrete for f in set(fams) if f in FAMILIES)
+    for name, c, g in (("c1", c1, g1), ("c2", c2, g2)):
+        if real:  # a frame with a continuous family: real cutoffs (NaN where none)
+            out[name] = c
+        else:
+            out[name] = pd.array(np.where(np.isnan(c), 0, c).astype(np.int64), dtype="Int64")
+            out.loc[np.isnan(c), name] = pd.NA
+        out["gamma" + name[1]] = g
     return out

@@ -59,13 +59,16 @@ class Decision:
 
     def describe(self) -> str:
         d = self.design
+        rule = self.rule if d.problem.family.discrete else "real cutoffs, no randomisation"
         lines = [f"{d.hypothesis()}; {d.problem.family.n_word} = {number_text(d.n)}, "
-                 f"alpha = {number_text(d.alpha)}; rule: {self.rule}.",
+                 f"alpha = {number_text(d.alpha)}; rule: {rule}.",
                  f"Observed Y = {self.y}: {self.region}.", self.reason]
         if self.digits_read is not None:
             lines.append(f"Random digits used: {self.digits_read} ({self.digits_source}); "
                          f"as a number {int(self.digits_read)} "
                          f"{'<' if self.reject else '>='} threshold {self.threshold}.")
+        elif not d.problem.family.discrete:
+            lines.append("Random digits used: none (a continuous Y is never randomised).")
         else:
             lines.append("Random digits used: none (not needed for this Y).")
         lines += [f"Note: {n}" for n in self.notes]
@@ -121,6 +124,48 @@ def check_count(design: Design, y) -> int:
     if x < 0 or (top is not None and x > top):
         raise invalid("y", y, allowed, DecideError)
     return x
+
+
+def check_observation(design: Design, y) -> float:
+    """An observed Y of a continuous family: a finite number in the support (the family's
+    lower end, e.g. 0 for a total of lifetimes, or none)."""
+    from .strict import real
+
+    lower = design.problem.family.continuous_float(design.n, design.dispersion).lower
+    what = f"Y = {design.problem.family.y_word}"
+    allowed = (f"a finite number >= {number_text(lower)} ({what})" if lower > float("-inf")
+               else f"a finite number ({what})")
+    try:
+        x = real("y", y, allowed)
+    except ExactbandError as e:
+        raise recast(e, DecideError) from None
+    if x < lower:
+        raise invalid("y", y, allowed, DecideError)
+    return x
+
+
+def _decide_real(design: Design, y, mode, digits_read, random_digits, thresholds) -> Decision:
+    """Decision for a continuous Y: real cutoffs, never randomised (no digits)."""
+    if thresholds is not None and all(t is None for t in thresholds):
+        thresholds = None  # a table row of real cutoffs prints no thresholds
+    for name, v in (("digits-read", digits_read), ("random-digits", random_digits),
+                    ("thresholds", thresholds)):
+        if v is not None:
+            raise invalid(name, v, f"the {design.problem.family.name} family is continuous: "
+                          "its rules never randomise; leave it out", DecideError)
+    yy = check_observation(design, y)
+    words, at, reject = _region(design, yy)
+    side = design.problem.kind.rejection_side(yy, design.c1, design.c2)
+    if at is not None:
+        reject, why = False, ("Y equals a cutoff: the rule does not reject there (a cutoff "
+                              "belongs to the region that keeps H0).")
+    else:
+        inside = design.problem.kind.rejects_inside
+        why = (("strictly between the cutoffs" if reject else "outside the cutoffs") if inside
+               else ("outside the cutoffs" if reject else "inside the cutoffs"))
+        why = f"Y is {why}: the rule {'rejects' if reject else 'does not reject'}."
+    return Decision(design, yy, mode, words, False, None, None, None, None, None, bool(reject),
+                    why, side=side if reject else None)
 
 
 def check_digits_text(digits, need: int | None) -> str:
@@ -204,6 +249,8 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
     mode = MODE_ALIASES.get(mode, mode) if isinstance(mode, str) else mode
     if mode not in MODES:
         raise invalid("rule", rule, "randomised or conservative", DecideError)
+    if not design.problem.family.discrete:
+        return _decide_real(design, y, mode, digits_read, random_digits, thresholds)
     yy = check_count(design, y)
     need = None
     if random_digits is not None:

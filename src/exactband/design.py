@@ -27,7 +27,12 @@ def power_at(problem: Problem, cut: tuple, thetas) -> np.ndarray:
     ``cut`` as ``Rule.filled`` gives it (an absent cutoff nan, an absent gamma 0); a
     printed (c, gamma = 1) is evaluated as printed.
     """
-    L = problem.family.float_law
+    fam = problem.family
+    if not fam.discrete:  # real cutoffs, no gammas: the family's law gives the tails
+        return fam.power(problem.kind, cut[0] if problem.kind.uses_c1 else None,
+                         cut[2] if problem.kind.uses_c2 else None, thetas, problem.n,
+                         problem.dispersion)
+    L = fam.float_law
     P = L.make(thetas, problem.n, problem.dispersion)
     out = problem.kind.expectation(*cut, lambda c: L.cdf(c, P), lambda c: L.sf(c, P),
                                    lambda c: L.pmf(c, P))
@@ -239,7 +244,7 @@ class Design:
         if note:
             lines.append(note)
         lines.append(f"Y = {fam.y_word}.")
-        if key != "randomised":
+        if key != "randomised" and fam.discrete:  # a continuous rule never randomises
             lines.append({"conservative": "The conservative rule (no randomisation):",
                           "digits": f"The field rule with {random_digits} random digits:"}[key])
         lines.extend(rule_lines(self, key, random_digits))

@@ -43,6 +43,10 @@ class NGrid:
             return int(k) * int(self.step)
         return float(self.step_dec * int(k))
 
+    def n_of_float(self, x):
+        """n as the design takes it (a whole number for integer_n families)."""
+        return int(round(x)) if self.fam.integer_n else float(x)
+
     def ns(self, ks):
         return np.array([self.n_of(k) for k in ks], dtype=float)
 
@@ -54,6 +58,15 @@ class NGrid:
         def full(x):
             return None if x is None else np.full(m, float(x))
         p = self.p
+        if not self.fam.discrete:  # real cutoffs, design by design; no gammas (zeros)
+            from dataclasses import replace
+
+            from .solving import continuous_fast
+
+            sols = [continuous_fast(replace(p, n=self.n_of(k))) for k in ks]
+            c1, c2 = (np.array([np.nan if s[i] is None else s[i] for s in sols], dtype=float)
+                      for i in (0, 2))
+            return ns, (c1, np.zeros(m), c2, np.zeros(m))
         c1, g1, c2, g2 = fast.solve(self.fam, self.kind, ns, full(p.alpha), low=full(p.low),
                                     high=full(p.high), value=full(p.value),
                                     dispersion=full(p.dispersion))
@@ -69,13 +82,24 @@ class NGrid:
         c1, g1, c2, g2 = cut
         if gammas is not None:
             g1, g2 = gammas
+        if not self.fam.discrete:  # the family's law, one n at a time; gammas do not apply
+            out = []
+            for a, b, n in zip(c1, c2, ns):
+                out.append(self.fam.power(self.knd, None if np.isnan(a) else float(a),
+                                          None if np.isnan(b) else float(b),
+                                          np.array([float(theta)]), self.n_of_float(n),
+                                          self.p.dispersion)[0])
+            return np.array(out, dtype=float)
         L, P = self._law(ns, theta)
         out = self.knd.expectation(c1, np.nan_to_num(g1), c2, np.nan_to_num(g2),
                             lambda c: L.cdf(c, P), lambda c: L.sf(c, P), lambda c: L.pmf(c, P))
         return np.clip(np.asarray(out, dtype=float), 0.0, 1.0)
 
     def modal(self, ns, theta):
-        """Largest probability mass of Y at each n (the float law's mode, checked at +-1)."""
+        """Largest probability mass of Y at each n (the float law's mode, checked at +-1);
+        0 for a continuous Y (no mass at a point: every rule is the randomised one)."""
+        if not self.fam.discrete:
+            return np.zeros(np.shape(ns))
         L, P = self._law(ns, theta)
         mode = L.mode(P)
         cands = [L.pmf(np.maximum(mode + s, 0.0), P) for s in (-1.0, 0.0, 1.0)]

@@ -13,13 +13,14 @@ from __future__ import annotations
 import mpmath as mp
 import numpy as np
 
+from . import ccheck
 from .crosscheck import compare
 from .design import Design
 from .errors import DesignError, VerificationError, invalid
 from .families.mptable import TableTooLarge
 from .params import Problem
 from .rule import Rule
-from .solvers import fast, precise
+from .solvers import cfast, cprecise, fast, precise
 
 MIN_PRECISION, MAX_PRECISION = 20, 1000
 DEFAULT_PRECISION = 50  # significant digits of the verifying mpmath solver
@@ -68,6 +69,10 @@ def fast_solve(problems: list) -> list:
     for idx in groups.values():
         ps = [problems[i] for i in idx]
         fam, kind = ps[0].family, ps[0].kind.name
+        if not fam.discrete:
+            for i, p in zip(idx, ps):
+                out[i] = continuous_fast(p)
+            continue
 
         def col(name):
             vals = [getattr(p, name) for p in ps]
@@ -97,8 +102,58 @@ def from_fast(p: Problem, sol: tuple) -> Design:
     return Design(p, rule=rule, sizes=sizes)
 
 
+def continuous_fast(p: Problem) -> tuple:
+    """(c1, None, c2, None) of a continuous family's rule from the float solver.
+
+    A design whose cutoffs, written as doubles, cannot hold its size to 1e-9
+    (``ccheck.representable``) is declined with a one-line DesignError."""
+    law = p.family.continuous_float(p.n, p.dispersion)
+    try:
+        sol = cfast.solve(law, p.kind, p.alpha, p.low, p.high, p.value)
+    except (FloatingPointError, ValueError, OverflowError) as e:
+        raise DesignError(f"the float solver failed on {label(p)}: {e}", field="alpha",
+                          value=p.alpha) from None
+    if not ccheck.representable(sol.conditioning):
+        raise DesignError(
+            f"invalid alpha = {p.alpha}: the cutoffs of {label(p)} written as 17-digit numbers "
+            f"cannot hold its size to 1e-9 (size moves {sol.conditioning:.3g} times a cutoff's "
+            "relative change); use a larger alpha or a wider band, or measure from an origin "
+            "nearer the values (e.g. as a difference from a reference value)", field="alpha",
+            value=p.alpha, allowed="a design whose cutoffs hold its size to 1e-9")
+    return sol.c1, None, sol.c2, None
+
+
+def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
+    """The precise continuous solver, the cross-check of the rules (ccheck), the Design."""
+    law = p.family.continuous_float(p.n, p.dispersion)
+    fast_sol = cfast.solve(law, p.kind, p.alpha, p.low, p.high, p.value)
+    try:
+        pd = cprecise.solve(p.family, p.kind, p.n, p.alpha, low=p.low, high=p.high,
+                            value=p.value, dispersion=p.dispersion, precision=precision)
+    except TableTooLarge as e:
+        raise DesignError(f"invalid n = {p.n}: the law of Y is beyond the high-precision "
+                          f"check ({e}); use a smaller n or the unverified fast path",
+                          field="n", value=p.n) from None
+    sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, fast_sol.c1, fast_sol.c2,
+                              p.points, precision)
+    floor = float(law.sd(p.points[0])) if law.floor_scale else 0.0
+    between = cprecise.mass_between(p.family, p.n, p.dispersion, (fast_sol.c1, fast_sol.c2),
+                                    (pd.c1, pd.c2), p.points, precision)
+    cc = ccheck.compare(fast_sol, pd, sizes, p.alpha, floor, precision, between)
+    if not cc.agree:
+        raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
+    with mp.workdps(pd.dps):
+        c1 = None if pd.c1 is None else float(pd.c1)
+        c2 = None if pd.c2 is None else float(pd.c2)
+        psizes = tuple(float(s) for s in pd.sizes)
+    return Design(p, rule=Rule(p.kind, c1, None, c2, None), sizes=psizes, verified=True,
+                  precision=precision, check=cc)
+
+
 def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
+    if not p.family.discrete:
+        return continuous_verify(p, sol, precision)
     try:
         pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
                            value=p.value, dispersion=p.dispersion, precision=precision)

@@ -167,6 +167,8 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
                             dispersion=vals["dispersion"])
     except ExactbandError as e:
         raise recast(e, DecideError, f"{where}: ") from None
+    if not prob.family.discrete:
+        return _real_rule(prob, r, k, path, where)
     c1 = _number(where, "c1", vals["c1"], whole=True)
     c2 = _number(where, "c2", vals["c2"], whole=True)
     g1 = _number(where, "gamma1", vals["gamma1"])
@@ -230,3 +232,16 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
                             if t is not None) + ", not the printed ones.")
         return TableRule(design, t_new, asked, k, str(path), note, d)
     return TableRule(design, ts, d, k, str(path))
+
+
+def _real_rule(prob, r, k, path, where) -> TableRule:
+    """A row with real cutoffs (a continuous family): the cutoffs as printed (printed_c1,
+    printed_c2 when the table has them, else c1, c2); nothing randomised."""
+    cuts = []
+    for i, used in ((1, prob.kind.uses_c1), (2, prob.kind.uses_c2)):
+        text = _cell(r, f"printed_c{i}") or _cell(r, f"c{i}")
+        if used and text is None:
+            raise DecideError(f"{where}: the {prob.kind.name} kind needs c{i}")
+        cuts.append(_number(where, f"c{i}", text) if used else None)
+    design = Design(prob, cuts[0], None, cuts[1], None, ()).with_gammas(None, None)
+    return TableRule(design, (None, None), None, k, str(path))

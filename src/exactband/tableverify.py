@@ -81,6 +81,8 @@ def check_row(tr: TableRule, cells: dict) -> None:
         d = verify_one(p, fast_solve([p])[0], _precision(cells))
     except ExactbandError as e:
         raise recast(e, DecideError, f"{where}: its design cannot be verified: ") from None
+    if not p.family.discrete:
+        return _check_real(d, cells, where)
     printed = tr.printed_random_digits  # the printed thresholds follow the table's count
     t1, t2 = d.thresholds(printed)
     cons = d.nonrandomized().sizes
@@ -103,6 +105,41 @@ def check_row(tr: TableRule, cells: dict) -> None:
             raise DecideError(f"{where}: {name} is {shown} in the table, but solving the row's "
                               f"design gives {_fmt(value)}; the row was changed or is wrong, "
                               "refused")
+
+
+def _check_real(d, cells: dict, where: str) -> None:
+    """Real cutoffs: c1, c2 as solved (64 epsilons relative, ccheck.CUT_TOL), the printed
+    cutoffs as Kind.round_cutoffs gives them at the row's cutoff_decimals, the sizes."""
+    from .ccheck import CUT_TOL
+
+    def refuse(name, text, value):
+        shown = "empty" if text == "" else text
+        raise DecideError(f"{where}: {name} is {shown} in the table, but solving the row's "
+                          f"design gives {value}; the row was changed or is wrong, refused")
+
+    for name, value in (("c1", d.c1), ("c2", d.c2)):
+        text = (cells.get(name) or "").strip()
+        try:
+            ok = (text == "") if value is None else abs(float(text) - value) <= CUT_TOL * abs(value)
+        except ValueError:
+            ok = False
+        if not ok:
+            refuse(name, text, _fmt(value))
+    places = (cells.get("cutoff_decimals") or "").strip()
+    if places.isdigit():
+        shown = d.problem.kind.round_cutoffs(d.c1, d.c2, int(places))
+        for name, value in (("printed_c1", shown[0]), ("printed_c2", shown[1])):
+            text = (cells.get(name) or "").strip()
+            try:
+                ok = (text == "") if value is None else Decimal(text) == value
+            except InvalidOperation:
+                ok = False
+            if not ok:
+                refuse(name, text, "empty" if value is None else format(value, "f"))
+    for name, value in (("size_low", d.size_low), ("size_high", d.size_high)):
+        text = (cells.get(name) or "").strip()
+        if name in cells and not _same(name, text, value):
+            refuse(name, text, _fmt(value))
 
 
 def _at(seq, i):

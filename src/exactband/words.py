@@ -94,6 +94,8 @@ def rule_lines(design, rule: str = "randomised", random_digits: int | None = Non
     if rule not in RULE_NAMES:
         raise ValueError(f"unknown rule {rule!r}")
     kind, c1, c2 = design.problem.kind, design.c1, design.c2
+    if not design.problem.family.discrete:
+        return real_rule_lines(design)
     d = random_digits
     out = []
     if kind.rejects_inside:  # equivalence: reject in the middle
@@ -142,4 +144,32 @@ def rule_lines(design, rule: str = "randomised", random_digits: int | None = Non
         out.append(f"If Y >= {lo}: do not reject.")
     elif hi >= lo:
         out.append(f"If {lo} <= Y <= {hi}: do not reject.")
+    return out
+
+
+def real_rule_lines(design) -> list:
+    """The rule of a continuous Y (real cutoffs, no randomisation: every rule is this one).
+
+    Y equals a cutoff with probability 0; the cutoff itself is counted with the
+    region that does not reject."""
+    kind, c1, c2 = design.problem.kind, design.c1, design.c2
+    word = the(design.problem.family.theta_word)
+    a, b = number_text(c1), number_text(c2)
+    if kind.rejects_inside:
+        return [f"Reject H0 if {a} < Y < {b}: the data indicate {word} lies "
+                f"{side_words(design, 'inside')}.",
+                f"If Y <= {a} or Y >= {b}: do not reject."]
+    out = []
+    if c1 is not None:
+        out.append(f"Reject H0 if Y < {a}: the data indicate {word} lies "
+                   f"{side_words(design, 'below')}.")
+    if c2 is not None:
+        out.append(f"Reject H0 if Y > {b}: the data indicate {word} lies "
+                   f"{side_words(design, 'above')}.")
+    if c1 is None:
+        out.append(f"If Y <= {b}: do not reject.")
+    elif c2 is None:
+        out.append(f"If Y >= {a}: do not reject.")
+    else:
+        out.append(f"If {a} <= Y <= {b}: do not reject.")
     return out

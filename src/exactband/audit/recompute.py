@@ -74,9 +74,34 @@ def printed_rule(row) -> tuple:
     return tuple(out)
 
 
+def recompute_real(row, precision: int) -> Recomputed:
+    """A continuous family: the optimal real cutoffs (both solvers, ``solving``) and the
+    sizes THEIR printed cutoffs attain (their exact decimals, the mpmath law)."""
+    from ..solvers import cprecise
+    from ..solving import continuous_fast, continuous_verify
+
+    p = row.problem
+    try:
+        d = continuous_verify(p, continuous_fast(p), precision)
+        printed = tuple(None if c is None else str(c.value) for c in row.cuts)
+        sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, printed[0], printed[1],
+                                  p.points, precision)
+    except (ExactbandError, ArithmeticError, ValueError, cprecise.PreciseFailure) as e:
+        return Recomputed(error=_declined(e))
+    with mp.workdps(precision + 15):
+        A = dec(p.alpha)
+        excess = float(max(s - A for s in sizes))
+        fsizes = tuple(float(s) for s in sizes)
+    exact = tuple(None if c is None else Decimal(repr(c)) for c in (d.c1, d.c2))
+    return Recomputed((d.c1, None, d.c2, None), (d.c1, None, d.c2, None),
+                      exact, fsizes, excess)
+
+
 def recompute(row, fast, precision: int) -> Recomputed:
     """The optimal rule for ``row.problem`` and the sizes of the row's printed rule."""
     p = row.problem
+    if not p.family.discrete:
+        return recompute_real(row, precision)
     try:
         if fast is None:
             fast = fast_solve([p])[0]

@@ -11,16 +11,17 @@ from . import text as T
 from .policy import POLICY
 from .verdicts import REASONS
 
-# (header, kind of value) in report order; kind: text / int / prob / sci / pct
+# (header, kind of value) in report order; kind: text / int / prob / sci / pct / num / cut
+# (cut: a cutoff, a whole number for a discrete family, a real one for a continuous one)
 COLUMNS = [
     ("row", "int"), ("file_line", "int"), ("id", "text"), ("verdict", "text"), ("reasons", "text"),
     ("size_excess_pct_of_alpha", "pct"), ("power_shortfall_pct_of_alpha", "pct"),
     ("diagnosis", "text"), ("detail", "text"),
     ("family", "text"), ("kind", "text"), ("n", "text"), ("alpha", "text"), ("low", "text"),
     ("high", "text"), ("value", "text"), ("dispersion", "text"),
-    ("their_c1", "text"), ("our_c1", "int"), ("their_gamma1", "text"), ("our_gamma1", "text"),
+    ("their_c1", "text"), ("our_c1", "cut"), ("their_gamma1", "text"), ("our_gamma1", "text"),
     ("gamma1_abs_error", "sci"), ("gamma1_read_as", "text"),
-    ("their_c2", "text"), ("our_c2", "int"), ("their_gamma2", "text"), ("our_gamma2", "text"),
+    ("their_c2", "text"), ("our_c2", "cut"), ("their_gamma2", "text"), ("our_gamma2", "text"),
     ("gamma2_abs_error", "sci"), ("gamma2_read_as", "text"),
     ("their_size_low", "prob"), ("their_size_high", "prob"), ("size_excess", "sci"),
     ("min_power_outside_null", "prob"), ("at_theta", "num"), ("also_consistent_with", "text"),
@@ -32,6 +33,8 @@ def _read_as(v, i, modes) -> str | None:
     r = v.row
     if v.verdict == "invalid" or r.theirs is None or r.theirs[2 * i] is None:
         return None
+    if not r.problem.family.discrete:
+        return None  # real cutoffs: no gamma
     d = r.decimals[i]
     if d is None:
         return "exact"

@@ -34,8 +34,10 @@ def csv_text(value, kind) -> str:
         return ""
     if kind == "text":
         return safe_cell_text(T.report(value))
-    if kind == "int":
+    if kind == "int" or (kind == "cut" and isinstance(value, int)):
         return str(int(value))
+    if kind == "cut":
+        return repr(float(value))
     if kind == "pct":
         return f"{value:.4g}"
     return repr(float(value)) if kind == "num" else f"{value:.10g}"

@@ -45,6 +45,7 @@ class Row:
     error_field: str | None = None  # the input the error names (e.g. "alpha", "c1")
     kind: str | None = None  # the kind named by the row, when it names a valid one
     numbers: tuple = field(default=(None, None), repr=False)  # the gammas as printed (Number)
+    cuts: tuple = field(default=(None, None), repr=False)  # real cutoffs as printed (Number)
 
 
 @dataclass
@@ -220,7 +221,10 @@ def _row(index, line, t, consts, mark, pos) -> Row:
         row.problem = make_problem(fam, knd, n=vals["n"], alpha=vals["alpha"], low=vals["low"],
                                    high=vals["high"], value=vals["value"],
                                    dispersion=vals["dispersion"])
-        row.theirs, row.numbers = _answers(row.problem, t, mark, pos)
+        if fam.discrete:
+            row.theirs, row.numbers = _answers(row.problem, t, mark, pos)
+        else:
+            row.theirs, row.cuts = _real_answers(row.problem, t, mark)
     except DesignError as e:
         row.error, row.error_field = str(e), e.field
     return row
@@ -260,6 +264,28 @@ def _answers(p: Problem, t, mark, pos):
         out[2 * i], out[2 * i + 1] = cv, gv
         nums[i] = gn
     return tuple(out), tuple(nums)
+
+
+def _real_answers(p: Problem, t, mark):
+    """Their real cutoffs (a continuous family): (c1, None, c2, None) and the cells as
+    Numbers (exact decimals); a gamma cell must be empty or 0 (nothing randomised)."""
+    out, cuts = [None, None, None, None], [None, None]
+    for i, (c, g, used) in enumerate((("c1", "gamma1", p.kind.uses_c1),
+                                      ("c2", "gamma2", p.kind.uses_c2))):
+        ct, gt = t.get(c, ""), t.get(g, "")
+        if not _empty(gt) and _number(g, gt, mark).value != 0:
+            raise DesignError(f"invalid {g} = {gt!r}: the {p.family.name} family has real "
+                              "cutoffs and never randomises; leave it empty", field=g, value=gt)
+        if not used:
+            if not _empty(ct):
+                raise DesignError(f"invalid {c} = {ct!r}: the {p.kind.name} kind does not use "
+                                  f"{c}; leave it empty", field=c, value=ct)
+            continue
+        if _empty(ct):
+            raise DesignError(f"invalid {c}: empty; the {p.kind.name} kind needs {c}", field=c)
+        cuts[i] = _number(c, ct, mark)
+        out[2 * i] = float(cuts[i].value)
+    return tuple(out), tuple(cuts)
 
 
 def _set_decimals(row, cols) -> None:

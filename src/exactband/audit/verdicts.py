@@ -78,7 +78,7 @@ def infer_modes(rows, recs, forced=None) -> tuple:
     for i in (0, 1):
         cells = []
         for r, rec in zip(rows, recs):
-            if r.error is None and rec.error is None:
+            if r.error is None and rec.error is None and r.problem.family.discrete:
                 same, errs = gamma_errors(r, rec)
                 if same and errs[i] is not None:
                     cells.append((r.decimals[i], errs[i]))
@@ -101,6 +101,8 @@ def judge_row(row, rec: Recomputed, modes) -> Verdict:
     if rec.error is not None:
         return Verdict(row, "invalid", ["invalid"], [rec.error])
     p, theirs = row.problem, row.theirs
+    if not p.family.discrete:
+        return _judge_real(row, rec)
     row.tol = tuple(None if theirs[2 * i] is None else _allowance(row.decimals[i]) for i in (0, 1))
     v = Verdict(row, "ok", ours=rec.ours, ours_text=rec.ours_text, sizes=rec.sizes,
                 excess=rec.excess)
@@ -138,11 +140,52 @@ def judge_row(row, rec: Recomputed, modes) -> Verdict:
     return v
 
 
+def cut_allowance(num, exact: Decimal) -> Decimal:
+    """How far a printed real cutoff may lie from the exact one: one unit of its last
+    printed decimal (it is rounded the way that never raises the size, so it may sit a
+    whole unit out), plus 4 double-precision epsilons of the cutoff (a program printing
+    doubles)."""
+    return Decimal(1).scaleb(-max(num.decimals, 0)) + abs(exact) * Decimal(2.0 ** -50)
+
+
+def _judge_real(row, rec: Recomputed) -> Verdict:
+    """A rule with real cutoffs: each printed cutoff within one unit of its last printed
+    decimal of the optimal cutoff, and the size the printed cutoffs attain at most alpha."""
+    p = row.problem
+    v = Verdict(row, "ok", ours=rec.ours, ours_text=rec.ours_text, sizes=rec.sizes,
+                excess=rec.excess)
+    bad = []
+    for i, name in ((0, "c1"), (1, "c2")):
+        num, exact = row.cuts[i], rec.ours_exact[i]
+        if num is None or exact is None:
+            continue
+        if abs(num.value - exact) > cut_allowance(num, exact):
+            bad.append(f"{name} = {num.text} (ours {rec.ours[2 * i]!r}; allowed one unit of "
+                       f"its last decimal)")
+    if bad:
+        v.reasons.append("cutoff")
+        v.details.append("wrong cutoff: " + ", ".join(bad))
+    if not P.size_ok(rec.excess, p.alpha):
+        worst = max(range(len(rec.sizes)), key=lambda j: rec.sizes[j])
+        names = ("low", "high") if p.kind.two_point else ("value",)
+        v.reasons.append("size")
+        v.details.append(f"their printed cutoffs give size {rec.sizes[worst]:.6g} at "
+                         f"{names[worst]} = {p.points[worst]:g}, above alpha = {p.alpha:g} by "
+                         f"{rec.excess:.6g} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
+    if v.reasons:
+        v.verdict = "finding"
+    return v
+
+
 def diagnose_row(v: Verdict) -> Verdict:
     """Diagnosis and lowest power of a finding (kept apart: it costs more than judging)."""
     from .power import lowest_power
 
     r = v.row
+    if not r.problem.family.discrete:
+        v.diagnosis = ("real cutoffs: no construction diagnosis (the cutoffs are compared with "
+                       "the optimal ones and the size of the printed rule is checked)")
+        return v
     v.diagnosis, v.also = diagnose(r.problem, r.theirs, r.tol, r.decimals, v.ours, v.ours_text,
                                    [_printed(r, i) if r.theirs[2 * i] is not None else None
                                     for i in (0, 1)])

@@ -93,7 +93,9 @@ def xlsx_bytes(result, listed=None) -> bytes:
         for j, (name, kind) in enumerate(cols, start=1):
             c = ws.cell(i, j, _cell_value(rec.get(name), kind))
             c.alignment = wrap if name in WRAP else (right if name in printed else top)
-            if kind in FORMATS:
+            if kind == "cut":  # a whole-number cutoff as an integer, a real one in full
+                c.number_format = FORMATS["int" if isinstance(rec.get(name), int) else "num"]
+            elif kind in FORMATS:
                 c.number_format = FORMATS[kind]
             if tint:
                 c.fill = PatternFill("solid", fgColor=tint)

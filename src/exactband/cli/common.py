@@ -4,7 +4,12 @@ from __future__ import annotations
 
 import argparse
 
-FAMILY_HELP = "law of the total count Y: poisson, binomial or negative-binomial"
+from ..families import FAMILIES
+
+FAMILY_HELP = "law of the statistic Y: " + ", ".join(FAMILIES)
+DISPERSION_HELP = ("the known second parameter, for the families that take one: "
+                   + "; ".join(f"{f.name}: {f.dispersion_word}" for f in FAMILIES.values()
+                               if f.uses_dispersion))
 KIND_HELP = ("hypothesis: band (low <= theta <= high), point (theta = value), "
              "upper (theta <= value), lower (theta >= value), "
              "equivalence (theta <= low or theta >= high)")
@@ -26,14 +31,13 @@ def add_design_options(p: argparse.ArgumentParser, required: bool = True,
     if include_n:
         g.add_argument("--n", required=required, metavar="N",
                        help="exposure (poisson: real > 0, e.g. hours or square metres) or number "
-                            "of trials / units (binomial, negative-binomial: whole number >= 1)")
+                            "of trials / units / observations (the other families: whole "
+                            "number >= 1)")
     g.add_argument("--alpha", required=required, metavar="A", help="size of the test, 0 < A < 1")
     g.add_argument("--low", metavar="X", help="lower end of the band (band, equivalence)")
     g.add_argument("--high", metavar="X", help="upper end of the band (band, equivalence)")
     g.add_argument("--value", metavar="X", help="hypothesised value (upper, lower, point)")
-    g.add_argument("--dispersion", metavar="K",
-                   help="known dispersion k > 0 of the negative-binomial family "
-                        "(variance per unit = theta + theta^2/k)")
+    g.add_argument("--dispersion", metavar="K", help=DISPERSION_HELP)
     g.add_argument("--precision", default="50", metavar="D",
                    help="significant digits of the verifying high-precision solver (default 50)")
 

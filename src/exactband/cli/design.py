@@ -55,10 +55,14 @@ def run(args) -> int:
         return 0
     print(d.describe())
     print()
-    if d.c1 is not None:
-        print(f"c1 = {d.c1}    gamma1 = {d.gamma1_decimal or repr(d.gamma1)}")
-    if d.c2 is not None:
-        print(f"c2 = {d.c2}    gamma2 = {d.gamma2_decimal or repr(d.gamma2)}")
+    for name, c, g, text in (("1", d.c1, d.gamma1, d.gamma1_decimal),
+                             ("2", d.c2, d.gamma2, d.gamma2_decimal)):
+        if c is None:
+            continue
+        if d.problem.family.discrete:
+            print(f"c{name} = {c}    gamma{name} = {text or repr(g)}")
+        else:  # real cutoff, nothing randomised
+            print(f"c{name} = {c!r}")
     if d.check is not None:
         print(d.check.summary())
     return 0

@@ -4,7 +4,9 @@ from __future__ import annotations
 
 from .base import Family
 from .binomial import BINOMIAL
+from .gamma import GAMMA
 from .negbinomial import NEGBINOMIAL
+from .normal import NORMAL
 from .poisson import POISSON
 from .registry import FAMILIES, add, dispersion_users, get_family
 
@@ -16,7 +18,7 @@ def register(family: Family) -> Family:
     return add(family)
 
 
-for _family in (POISSON, BINOMIAL, NEGBINOMIAL):
+for _family in (POISSON, BINOMIAL, NEGBINOMIAL, NORMAL, GAMMA):
     register(_family)
 
 __all__ = ["FAMILIES", "Family", "dispersion_users", "get_family", "register"]

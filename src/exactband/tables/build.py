@@ -34,6 +34,7 @@ class Row:
     thresholds: tuple  # (t1, t2) = floor(gamma * 10**d); None where the kind has no cutoff
     digit_sizes: tuple  # sizes of the rule with gammas t / 10**d, at design.points
     conservative_sizes: tuple | None  # sizes with the randomisation dropped (None: not asked)
+    printed: tuple | None = None  # real cutoffs as printed (Decimals; continuous families)
 
 
 @dataclass(frozen=True)
@@ -102,8 +103,9 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
                      "cannot be verified: ") from None
     designs = [done[i] for i in range(len(problems))]
     rows = derive_all(designs, spec)
-    return TableSet(spec, rows, summarise(designs, spec.precision),
-                    random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE),
+    digits = (random_digits(spec.seed, spec.random_digit_pages * DIGITS_PER_PAGE)
+              if spec.cutoff_decimals is None else "")  # real cutoffs: nothing to randomise
+    return TableSet(spec, rows, summarise(designs, spec.precision), digits,
                     oc_build.compute(spec, rows))
 
 
@@ -123,6 +125,8 @@ def derive_all(designs, spec: TableSpec) -> tuple:
     (gammas 0) from rulesizes.sizes_with_gammas, equal bit for bit to derive's.
     """
     designs = list(designs)
+    if designs and not designs[0].problem.family.discrete:
+        return tuple(printed_row(d, spec.cutoff_decimals) for d in designs)
     scale = 10 ** spec.random_digits
     ts = [d.thresholds(spec.random_digits) for d in designs]
     digit = sizes_with_gammas(designs, [tuple(None if t is None else t / scale for t in pair)
@@ -130,6 +134,18 @@ def derive_all(designs, spec: TableSpec) -> tuple:
     cons = (sizes_with_gammas(designs, [(0.0, 0.0)] * len(designs)) if spec.conservative
             else [None] * len(designs))
     return tuple(Row(d, t, dg, c) for d, t, dg, c in zip(designs, ts, digit, cons))
+
+
+def printed_row(d: Design, decimals: int) -> Row:
+    """A rule with real cutoffs: the cutoffs rounded to ``decimals`` places the way that never
+    raises the size (``Kind.round_cutoffs``) and the sizes that the printed cutoffs attain
+    (float law, at the constraint points); no thresholds, nothing randomised."""
+    kind = d.problem.kind
+    printed = kind.round_cutoffs(d.c1, d.c2, decimals)
+    cuts = tuple(None if c is None else float(c) for c in printed)
+    sizes = tuple(float(x) for x in d.problem.family.power(
+        kind, cuts[0], cuts[1], list(d.points), d.n, d.dispersion))
+    return Row(d, (None, None), sizes, None, printed)
 
 
 def summarise(designs, precision: int) -> Verification:

@@ -25,6 +25,7 @@ import shutil
 from decimal import Decimal, InvalidOperation
 from pathlib import Path
 
+from ..ccheck import CUT_TOL
 from ..crosscheck import PHI_TOL, CrossCheck, phi_distance
 from ..design import Design
 from ..fileio import atomic_write_text
@@ -140,7 +141,11 @@ def _checked(problem, sol, rec, precision: int, where: str) -> Design:
     """The Design of a cached record, or CacheMismatch naming what is wrong with it."""
     try:
         d = _restore(problem, rec)
-        dist = phi_distance(problem.kind.name, (d.c1, d.gamma1, d.c2, d.gamma2), sol)
+        if problem.family.discrete:
+            dist = phi_distance(problem.kind.name, (d.c1, d.gamma1, d.c2, d.gamma2), sol)
+        else:  # real cutoffs: the rules agree when the cutoffs do (ccheck.CUT_TOL)
+            dist = max((0.0 if abs(a - b) <= CUT_TOL * max(abs(a), 1e-300) * 4 else 1.0)
+                       for a, b in ((d.c1, sol[0]), (d.c2, sol[2])) if a is not None)
     except (KeyError, TypeError, ValueError) as e:
         raise CacheMismatch(f"{where}: malformed ({type(e).__name__})") from None
     what = None

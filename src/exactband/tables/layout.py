@@ -80,13 +80,25 @@ def size_decimals(alpha: float) -> int:
     return max(3, 3 - Decimal(repr(float(alpha))).adjusted())
 
 
-def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservative: bool):
+PRINT_KEYS_REAL = ("low", "high", "value", "n", "c1", "c2", "printed_rule_size_low",
+                   "printed_rule_size_high")  # a family with real cutoffs
+
+
+def columns(kind: str, family: str, alpha: float, gamma_decimals: int, conservative: bool,
+            cutoff_decimals: int | None = None):
+    """The section's columns; ``cutoff_decimals`` given: real cutoffs (a continuous family)."""
     sd = size_decimals(alpha)
     two = kind in TWO_POINT
     at = ("low", "high") if two else ("value",)
     cols = [Column(k, "H0 band" if two else "H0", k) for k in at]
     cols.append(Column("n", "", "n"))
     kd = KINDS[kind]
+    if cutoff_decimals is not None:
+        cols += [Column(c, "Cutoffs", c, cutoff_decimals) for c in kd.cutoffs]
+        for suffix, point in zip(("low", "high"), at):
+            cols.append(Column(f"printed_rule_size_{suffix}", "Size of the printed rule",
+                               f"at {point}", sd))
+        return tuple(cols)
     if kd.uses_c1:
         cols += [Column("c1", "Lower cutoff", "c1"),
                  Column("gamma1", "Lower cutoff", "gamma1", gamma_decimals),
@@ -112,7 +124,13 @@ def _cells(row, cols) -> tuple:
     out = []
     for col in cols:
         k = col.key
-        if k in num:
+        if row.printed is not None and k in ("c1", "c2"):  # real cutoffs, as rounded
+            x = row.printed[0 if k == "c1" else 1]
+            out.append(Cell(format(x, "f"), float(x)))
+        elif k.startswith("printed_rule_size"):
+            s = size_text(row.digit_sizes[0 if k.endswith("_low") else 1], col.decimals)
+            out.append(Cell(s, float(s)))
+        elif k in num:
             x = num[k]
             out.append(Cell(plain(x), x if isinstance(x, int) else float(x)))
         elif k in ("gamma1", "gamma2"):
@@ -132,7 +150,8 @@ def build_sections(tset) -> list:
     spec = tset.spec
     out = []
     for number, (kind, alpha) in enumerate(sections(spec), start=1):
-        cols = columns(kind, spec.family, alpha, gamma_places(spec), spec.conservative)
+        cols = columns(kind, spec.family, alpha, gamma_places(spec), spec.conservative,
+                       spec.cutoff_decimals)
         rows = tset.section_rows(kind, alpha)
         cells = tuple(_cells(r, cols) for r in rows)
         starts = tuple(i for i, r in enumerate(rows)
@@ -150,13 +169,15 @@ def build_sections(tset) -> list:
 
 def print_rows(sections_) -> tuple:
     """Header and rows of NAME.print.csv: one rectangular table, every cell as printed."""
-    header = ("table", "kind", "alpha") + PRINT_KEYS
+    real = any(c.key.startswith("printed_rule") for s in sections_ for c in s.columns)
+    keys = PRINT_KEYS_REAL if real else PRINT_KEYS
+    header = ("table", "kind", "alpha") + keys
     rows = []
     for s in sections_:
         pos = {c.key: i for i, c in enumerate(s.columns)}
         for cells in s.rows:
             rows.append((f"Table {s.number}", s.kind, plain(s.alpha))
-                        + tuple(cells[pos[k]].text if k in pos else "" for k in PRINT_KEYS))
+                        + tuple(cells[pos[k]].text if k in pos else "" for k in keys))
     return header, rows
 
 

@@ -76,6 +76,13 @@ def explanation(spec) -> str:
              if len(oc.rules) == 3 else [""])
     cols = "; ".join(f"{side}: {rule_label(r, d)}".lstrip(": ") for side, r in
                      zip(sides, oc.rules))
+    from ..families import get_family
+
+    if not get_family(spec.family).discrete:
+        cols, field = "the rule with the verified real cutoffs (no randomisation)", ""
+        return (f"Probability of not rejecting H0 (OC) against {_symbol(spec)}; each row of "
+                f"charts holds one alpha and a few n; {cols}. Shaded: H0. Dotted line: "
+                f"1 - alpha. Exact probabilities.")
     field = ("" if "digits" in oc.rules else
              f" The field rule with {d} random digits is within {2 / 10 ** d:g} of the "
              f"randomised rule everywhere.")

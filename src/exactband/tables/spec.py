@@ -42,7 +42,7 @@ MAX_SPEC_BYTES = 1_000_000
 
 KEYS = ("title", "scenario", "family", "dispersion", "kinds", "alpha", "n", "bands", "values",
         "gamma_decimals", "random_digits", "conservative", "paper", "precision", "random_seed",
-        "random_digit_pages", "oc")
+        "random_digit_pages", "cutoff_decimals", "oc")
 OLD_KEYS = {"digits": "precision"}  # old name -> new name: accepted, with one note
 REQUIRED = ("title", "family", "kinds", "alpha", "n")
 PAPERS = {"a4": "A4", "letter": "Letter"}
@@ -77,6 +77,7 @@ class TableSpec:
     random_seed: int | None = None
     random_digit_pages: int = 1
     oc: OcSpec | None = None  # the optional [oc] table (power values, OC curves)
+    cutoff_decimals: int | None = None  # decimals of printed real cutoffs (continuous families)
     where: str = field(default="", compare=False)  # the path as the user gave it (messages)
     notes: tuple = field(default=(), compare=False)  # e.g. an old key name that was accepted
 
@@ -99,6 +100,7 @@ class TableSpec:
             "gamma_decimals": self.gamma_decimals, "random_digits": self.random_digits,
             "conservative": self.conservative, "paper": self.paper, "precision": self.precision,
             "random_seed": self.seed, "random_digit_pages": self.random_digit_pages,
+            "cutoff_decimals": self.cutoff_decimals,
         }
         if self.oc is not None:
             out["oc"] = self.oc.to_dict()
@@ -182,9 +184,15 @@ def from_mapping(data: dict, *, name: str, source: str, where: str, sha256: str,
         seed = v.integer("random_seed", seed, 0, 2**63 - 1)
     pages = v.integer("random_digit_pages", data.get("random_digit_pages", 1), 0, 20)
     oc = parse_oc(v, fam, data["oc"], ns, conservative) if "oc" in data else None
+    cd = None
+    if not fam.discrete:  # real cutoffs, printed to a stated number of decimals
+        cd = v.integer("cutoff_decimals", data.get("cutoff_decimals", 4), 0, 12)
+    elif "cutoff_decimals" in data:
+        raise v.bad("cutoff_decimals", data["cutoff_decimals"], "only for a family with real "
+                    f"cutoffs; the {fam.name} family's cutoffs are whole numbers: leave it out")
     spec = TableSpec(name, source, sha256, title, scenario, fam.name, dispersion, kinds,
                      alphas, ns, bands, values, gd, rd, conservative, paper, precision, seed, pages,
-                     oc, where=where, notes=tuple(notes))
+                     oc, cd, where=where, notes=tuple(notes))
     _check_size(v, spec, allow_large)
     _check_curve_pages(v, spec)
     return spec

@@ -89,8 +89,11 @@ def parse_oc(v: Checker, fam, value, spec_n: tuple, conservative: bool) -> OcSpe
     if "n" in value:
         ns = _subset_n(v, value["n"], spec_n)
     per = v.integer("oc.n_per_chart", value.get("n_per_chart", 4), 1, MAX_PER_CHART)
-    default = ["randomised", "conservative"] if conservative else ["randomised"]
+    default = ["randomised", "conservative"] if conservative and fam.discrete else ["randomised"]
     rules = tuple(_rules(v, value.get("rules", default)))
+    if not fam.discrete and rules != ("randomised",):
+        raise v.bad("oc.rules", value.get("rules"), f"the {fam.name} family's rules have real "
+                    "cutoffs and never randomise: there is one rule; leave oc.rules out")
     return OcSpec(thetas, curves, ns, per, rules)
 
 

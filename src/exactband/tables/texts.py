@@ -43,6 +43,10 @@ def _sides(kind: str, family: str) -> dict:
 def rule_text(kind: str, d: int, family: str = "poisson") -> str:
     """The rule of one section in words, naming the side of each rejection, with the
     random-digit procedure."""
+    if not get_family(family).discrete:
+        from . import realtexts
+
+        return realtexts.rule_text(kind, family)
     read = _digits(d)
     side = _sides(kind, family)
     k = KINDS[kind]
@@ -115,6 +119,11 @@ def example_lines(section, d: int) -> list:
 def cover_blocks(tset, sections_) -> list:
     """The cover: title, scenario, caution, how to use, rules, randomisation, legend."""
     spec = tset.spec
+    if not get_family(spec.family).discrete:
+        from . import realtexts
+
+        return realtexts.cover_blocks(tset, sections_, CAUTION, y_text(spec.family),
+                                      hypothesis_text)
     d = spec.random_digits
     kinds = list(dict.fromkeys(s.kind for s in sections_))
     b = [("title", spec.title)]
@@ -219,7 +228,8 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Largest size error, fast solver", f"{v.max_fast_size_error:.3g} "
                                             f"(tolerance {SIZE_TOL:g})"),
         ("Largest size error, precise solver", f"{v.max_precise_size_error:.3g}"),
-        ("Random digits", f"{spec.random_digit_pages} "
+        ("Random digits", "none (real cutoffs, no randomisation)"
+         if not get_family(spec.family).discrete else f"{spec.random_digit_pages} "
                           f"page{'s' if spec.random_digit_pages != 1 else ''} of "
                           f"{DIGITS_PER_PAGE:,} digits from Python random.Random({spec.seed})"),
         ("Machine-readable table", f"{spec.name}.csv, SHA-256 {csv_sha256}"),

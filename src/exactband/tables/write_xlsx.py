@@ -18,7 +18,7 @@ from openpyxl.utils import get_column_letter
 
 from ..fileio import safe_cell_text
 from ..xlsxzip import workbook_bytes
-from .write_csv import COLUMNS, csv_row
+from .write_csv import columns_for, csv_row
 from .xlsx_power import power_sheet
 from .xlsx_style import (
     BOLD,
@@ -151,6 +151,7 @@ def _data(wb, tset) -> None:
     from openpyxl.worksheet.pagebreak import Break
 
     ws = wb.create_sheet("Data")
+    COLUMNS = columns_for(tset)
     ws.append(list(COLUMNS))
     for c in ws[1]:
         c.font, c.alignment, c.border = BOLD, CENTER, Border(bottom=THIN)

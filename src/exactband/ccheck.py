@@ -1,0 +1,103 @@
+"""Compare a fast and a precise continuous rule as test functions; the tolerances.
+
+A continuous rule has real cutoffs and no randomisation, so two rules are the
+same test when their cutoffs coincide.  The comparison:
+
+* cutoffs: |c_fast - c_precise| <= CUT_TOL (|c_precise| + floor), floor = the sd of Y
+  for a location family (normal: a cutoff near 0 is judged on the scale of Y), 0 for a
+  scale family (gamma: relative).  CUT_TOL = 64 double-precision epsilons (1.4e-14):
+  the fast solver's quantiles are polished to a few ulps and its root search stops at
+  4 epsilons relative; the worst difference measured over the reference and property
+  tests is about 1e-15.
+* sizes: the fast cutoffs evaluated with the precise law at every constraint point
+  lie within size_tol of alpha, derived from the cutoff tolerance: moving every
+  cutoff by a relative CUT_TOL moves the size by at most kappa * CUT_TOL * alpha to
+  first order, where kappa = sum_i f(c_i) (|c_i| + floor) / alpha (``cfast.conditioning``).
+  size_tol = alpha * min(SIZE_TOL, 1e-15 + kappa * CUT_TOL), capped at 1e-9 relative so
+  that a real mistake cannot hide.
+* the precise rule's own sizes within alpha * 10^-precision.
+
+A design whose kappa exceeds KAPPA_MAX cannot be printed as double-precision
+cutoffs that hold its size to 1e-9 (half an ulp of each cutoff moves the size by
+kappa * 1.1e-16 relative): ``representable`` says so and the API declines it.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import mpmath as mp
+
+from .mpnum import dec
+
+CUT_TOL = 64 * 2.0 ** -52
+SIZE_TOL = 1e-9
+KAPPA_MAX = 1e7
+
+
+@dataclass(frozen=True)
+class ContinuousCheck:
+    """Outcome of comparing a fast continuous rule with a precise one."""
+
+    agree: bool
+    cut_diff: float  # max |c_fast - c_precise| / (|c_precise| + floor)
+    max_phi_diff: float  # max over the points of P(Y lies where the two rules differ)
+    fast_size_error: float  # max |E phi_fast - alpha| / alpha at the points (precise law)
+    precise_size_error: float  # max |E phi_precise - alpha| / alpha
+    size_tol: float  # relative to alpha
+    precision: int
+    reason: str = ""
+
+
+    def summary(self) -> str:
+        state = "agree" if self.agree else "DISAGREE"
+        return (f"solvers {state}: max relative cutoff difference = {self.cut_diff:.2e} "
+                f"(tolerance {CUT_TOL:.1e}); probability between the two rules' cutoffs "
+                f"{self.max_phi_diff:.2e}; fast-solver size error {self.fast_size_error:.2e} "
+                f"x alpha (tolerance {self.size_tol:.1e}); precise size error "
+                f"{self.precise_size_error:.1e} x alpha")
+
+
+def size_tolerance(kappa: float) -> float:
+    """Tolerance on the fast rule's sizes, relative to alpha (see the module text)."""
+    return min(SIZE_TOL, 1e-15 + kappa * CUT_TOL)
+
+
+def representable(kappa: float) -> bool:
+    """Whether double-precision cutoffs can hold the size to SIZE_TOL."""
+    return kappa <= KAPPA_MAX
+
+
+def compare(fast, precise, fast_sizes, alpha, floor: float, precision: int,
+            between: float = 0.0) -> ContinuousCheck:
+    """``fast``: cfast.ContinuousSolution; ``precise``: cprecise.PreciseContinuous;
+    ``fast_sizes``: the fast cutoffs' sizes with the precise law (cprecise.sizes_of);
+    ``between``: the probability that Y falls where the two rules differ
+    (cprecise.mass_between), reported as the rules' phi difference."""
+    with mp.workdps(precision + 15):
+        return _compare(fast, precise, fast_sizes, dec(alpha), floor, precision, between)
+
+
+def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> ContinuousCheck:
+    worst_cut = 0.0
+    reason = ""
+    for name, cf, cp in (("c1", fast.c1, precise.c1), ("c2", fast.c2, precise.c2)):
+        if (cf is None) != (cp is None):
+            return ContinuousCheck(False, math.inf, math.inf, math.inf, math.inf, 0.0,
+                                   precision, f"{name} present in one rule only")
+        if cf is None:
+            continue
+        d = float(abs(mp.mpf(cf) - cp) / (abs(cp) + floor))
+        worst_cut = max(worst_cut, d)
+        if d > CUT_TOL and not reason:
+            reason = f"{name} differs: {cf!r} against {mp.nstr(cp, 20)} (relative {d:.3g})"
+    fse = max(float(abs(s - a) / a) for s in fast_sizes)
+    pse = max(float(abs(s - a) / a) for s in precise.sizes)
+    tol = size_tolerance(fast.conditioning)
+    if not reason and fse > tol:
+        reason = f"the fast rule's size is off by {fse:.3g} relative (tolerance {tol:.3g})"
+    if not reason and pse > 10.0 ** -precision:
+        reason = f"the precise rule's size is off by {pse:.3g} relative"
+    return ContinuousCheck(not reason, worst_cut, float(between), fse, pse, tol, precision,
+                           reason)

@@ -1,0 +1,234 @@
+"""Gamma totals: n units, each gamma with known shape k and mean theta; Y = the total.
+
+Y ~ Gamma(shape A = n k, scale theta / k); X = k Y / theta ~ Gamma(A, 1), and
+2 k Y / theta is chi-square with 2 n k degrees of freedom.  k = 1 is
+exponential lifetimes (Y = total time on test).  k is passed as ``dispersion``.
+Two independent laws:
+
+* ``GammaFloat`` (scipy.special: gammainc, gammaincc and their inverses; the
+  density in the saddle-point form of ``families._saddle`` so that a large
+  shape keeps full double precision) for the fast continuous solver;
+* ``GammaMp`` (mpmath arithmetic, loggamma and exp at the caller's working
+  precision; the incomplete gamma function by its power series below the mode
+  and Legendre's continued fraction above, each used on the smaller tail) for
+  the high-precision solver.  Both expansions need about sqrt(A) terms near the
+  mode, so the precise law declines A = n k > MAX_SHAPE (``TableTooLarge``, a
+  one-line DesignError).  (mpmath's own gammainc was not used: for some
+  arguments beyond the mode it raises ComplexResult or NoConvergence.)
+
+d/dtheta P(Y <= c) = -(A / theta) x^A e^-x / Gamma(A + 1) with x = k c / theta,
+and the score d/dtheta log f(y) = (k / theta^2) (y - A theta / k).
+"""
+
+from __future__ import annotations
+
+import math
+
+import mpmath as mp
+import numpy as np
+from scipy import special as sp
+
+from ..mpnum import dec
+from ._saddle import bd0, stirlerr
+from .continuous import ContinuousFamily
+from .mptable import TableTooLarge
+
+MAX_SHAPE = 1e6  # largest n k the mpmath law evaluates (series convergence)
+
+
+class GammaFloat:
+    """Float law of the total: Gamma(A = n k, scale theta / k), vectorised over c, theta."""
+
+    lower = 0.0
+    floor_scale = False  # cutoffs compared relative to |c| (a scale family on (0, inf))
+
+    def __init__(self, n, k):
+        self.k = float(k)
+        self.A = float(n) * float(k)
+        self._log_norm = -0.5 * math.log(2.0 * math.pi * self.A) - float(stirlerr(self.A))
+
+    def mean(self, theta):
+        return self.A * np.asarray(theta, dtype=float) / self.k
+
+    def sd(self, theta):
+        return math.sqrt(self.A) * np.asarray(theta, dtype=float) / self.k
+
+    def theta_sd(self, theta):
+        """The change of theta worth one standard deviation of Y."""
+        return np.asarray(theta, dtype=float) / math.sqrt(self.A)
+
+    def _x(self, c, theta):
+        return self.k * np.asarray(c, dtype=float) / np.asarray(theta, dtype=float)
+
+    def cdf(self, c, theta):
+        return sp.gammainc(self.A, np.maximum(self._x(c, theta), 0.0))
+
+    def sf(self, c, theta):
+        return sp.gammaincc(self.A, np.maximum(self._x(c, theta), 0.0))
+
+    def logcdf(self, c, theta):
+        with np.errstate(divide="ignore"):
+            return np.log(self.cdf(c, theta))
+
+    def logsf(self, c, theta):
+        with np.errstate(divide="ignore"):
+            return np.log(self.sf(c, theta))
+
+    def _log_h(self, x):
+        """log of x^A e^-x / Gamma(A + 1) (saddle-point form; -inf at 0 and inf)."""
+        x = np.asarray(x, dtype=float)
+        ok = (x > 0) & np.isfinite(x)
+        out = np.full(x.shape, -np.inf)
+        if np.any(ok):
+            out[ok] = -bd0(self.A, x[ok]) + self._log_norm
+        return out
+
+    def logpdf(self, c, theta):
+        x = self._x(c, theta)
+        t = np.asarray(theta, dtype=float)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            return np.where(x > 0, math.log(self.A) - np.log(x) + self._log_h(x)
+                            + np.log(self.k / t), -np.inf)
+
+    def ppf(self, p, theta):
+        return np.asarray(theta, dtype=float) / self.k * sp.gammaincinv(self.A, p)
+
+    def isf(self, q, theta):
+        return np.asarray(theta, dtype=float) / self.k * sp.gammainccinv(self.A, q)
+
+    def dcdf(self, c, theta):
+        """d/dtheta P(Y <= c) = -(A / theta) x^A e^-x / Gamma(A + 1)."""
+        with np.errstate(under="ignore"):
+            return -self.A / np.asarray(theta, dtype=float) * np.exp(self._log_h(self._x(c, theta)))
+
+    def score(self, y, theta):
+        t = np.asarray(theta, dtype=float)
+        return self.k / (t * t) * (np.asarray(y, dtype=float) - self.A * t / self.k)
+
+
+MAX_TERMS = 10**6
+
+
+def _lower_series(a, x):
+    """P(a, x) = x^a e^-x / Gamma(a + 1) * sum_j x^j / ((a + 1) ... (a + j)), x < a + 1."""
+    term = s = mp.mpf(1)
+    for j in range(1, MAX_TERMS):
+        term *= x / (a + j)
+        s += term
+        if term < s * mp.eps:
+            return s * mp.exp(a * mp.log(x) - x - mp.loggamma(a + 1))
+    raise TableTooLarge("the incomplete gamma series did not converge")
+
+
+def _upper_fraction(a, x):
+    """Q(a, x) by Legendre's continued fraction (modified Lentz), x >= a + 1."""
+    tiny = mp.mpf(2) ** (-4 * mp.mp.prec)
+    b = x + 1 - a
+    c, d = 1 / tiny, 1 / b
+    h = d
+    for i in range(1, MAX_TERMS):
+        an = -i * (i - a)
+        b += 2
+        d = an * d + b
+        d = tiny if d == 0 else d
+        c = b + an / c
+        c = tiny if c == 0 else c
+        d = 1 / d
+        delta = d * c
+        h *= delta
+        if abs(delta - 1) < mp.eps:
+            return h * mp.exp(a * mp.log(x) - x - mp.loggamma(a))
+    raise TableTooLarge("the incomplete gamma continued fraction did not converge")
+
+
+class GammaMp:
+    """mpmath law of the total (call inside the caller's mp.workdps)."""
+
+    lower = mp.mpf(0)
+
+    def __init__(self, n, k):
+        self.k = dec(k)
+        self.A = dec(n) * self.k
+        if self.A > MAX_SHAPE:
+            raise TableTooLarge(f"shape n k = {mp.nstr(self.A, 6)} is above {MAX_SHAPE:g}, "
+                                "the largest the high-precision incomplete gamma function takes")
+
+    def mean(self, theta):
+        return self.A * theta / self.k
+
+    def sd(self, theta):
+        return mp.sqrt(self.A) * theta / self.k
+
+    @staticmethod
+    def _tails(shape, x):
+        """(P(X < x), P(X > x)) for X ~ Gamma(shape): the smaller tail by its own expansion
+        (series below shape + 1, continued fraction above), the other as the complement,
+        which then loses no digits."""
+        if x <= 0:
+            return mp.mpf(0), mp.mpf(1)
+        if x == mp.inf:
+            return mp.mpf(1), mp.mpf(0)
+        if x < shape + 1:
+            low = _lower_series(shape, x)
+            return low, 1 - low
+        up = _upper_fraction(shape, x)
+        return 1 - up, up
+
+    def cdf(self, c, theta):
+        return self._tails(self.A, self.k * c / theta)[0]
+
+    def sf(self, c, theta):
+        return self._tails(self.A, self.k * c / theta)[1]
+
+    def pdf(self, c, theta):
+        if c <= 0:
+            return mp.mpf(0)
+        x = self.k * c / theta
+        return mp.exp((self.A - 1) * mp.log(x) - x - mp.loggamma(self.A)) * self.k / theta
+
+    def mean_below(self, c, theta):
+        """E[Y; Y < c] = (A theta / k) P(Gamma(A + 1) < x)."""
+        return self.mean(theta) * self._tails(self.A + 1, self.k * c / theta)[0]
+
+    def mean_above(self, c, theta):
+        """E[Y; Y > c] = (A theta / k) P(Gamma(A + 1) > x), the tail computed directly."""
+        return self.mean(theta) * self._tails(self.A + 1, self.k * c / theta)[1]
+
+
+class Gamma(ContinuousFamily):
+    """Total of n gamma units with known shape k (the dispersion) and mean theta."""
+
+    def theta_ok(self, theta):
+        return theta > 0 and math.isfinite(theta)
+
+    def theta_allowed(self):
+        return "the gamma mean per unit must be a finite number > 0"
+
+    def theta_ok_array(self, theta):
+        t = np.asarray(theta, dtype=float)
+        return (t > 0) & np.isfinite(t)
+
+    def theta_spread(self, theta, n, k):
+        return theta / math.sqrt(float(n) * float(k))
+
+    def continuous_float(self, n, k) -> GammaFloat:
+        return GammaFloat(n, k)
+
+    def continuous_mp(self, n, k) -> GammaMp:
+        return GammaMp(n, k)
+
+    def scipy_law(self, theta, n, k):
+        """scipy.stats law of Y (frozen; theta may be an array)."""
+        from scipy import stats
+
+        return stats.gamma(a=float(n) * float(k), scale=np.asarray(theta, dtype=float) / float(k))
+
+
+GAMMA = Gamma(
+    name="gamma", theta_word="mean per unit", theta_unit="units of the measurement",
+    axis_word="mean \u03b8", symbol="mean", theta_what="the mean of one unit (its mean "
+    "lifetime when k = 1)", n_word="number of units n", n_what="the number of units",
+    n_unit="units", y_word="the total over the n units (total time on test when k = 1)",
+    y_inspected="the total over the n units tested", integer_n=True, uses_dispersion=True,
+    dispersion_word="shape k of one unit (k = 1: exponential)",
+)

@@ -1,0 +1,322 @@
+"""High-precision solver for continuous families (mpmath only), independent of cfast.
+
+Distribution code: the family's mpmath law (``NormalMp``: erfc; ``GammaMp``:
+gammainc, loggamma) at a scoped working precision (``mp.workdps``); no scipy.
+
+Algorithm (different from the float solver's tail-mass search): a nested search
+over the cutoffs themselves.  The inner search puts c2 where the first side
+condition holds for the given c1 (the size at high, or at the value; for
+equivalence the window's mass at high) by safeguarded Newton steps inside a
+bracket; the outer search moves c1 by Illinois regula falsi inside a bracket
+until the second condition holds, written in its original form:
+
+* point: E[Y phi] = alpha E[Y] (with E[Y; Y < c] and E[Y; Y > c] from the law);
+* band: the size at low equals alpha, taken as (E_high phi - E_low phi) / (high - low)
+  computed at a precision raised by the digits the narrow band costs;
+* equivalence: the window's mass at low equals alpha (same narrow treatment).
+
+Working precision: precision + GUARD_DIGITS + the digits a narrow band costs
+(+ -log10 alpha for equivalence, whose window mass is a difference of tails;
++ log10(|E Y| / sd Y) for the point condition's cancellation).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import mpmath as mp
+
+from ..kinds import as_kind
+from ..mpnum import dec
+
+GUARD_DIGITS = 15
+MAX_STEPS = 400
+
+
+class PreciseFailure(RuntimeError):
+    """The precise continuous solver could not produce a rule (never silent)."""
+
+
+@dataclass(frozen=True)
+class PreciseContinuous:
+    """Cutoffs and sizes as mpf at working precision ``dps``; None where the kind has none."""
+
+    c1: object
+    c2: object
+    sizes: tuple
+    dps: int
+
+
+def working_dps(precision: int, kind, alpha, sd_ratio=1.0, width=None) -> int:
+    """Digits to work with: requested + guard + the digits narrowness and cancellation cost.
+
+    ``width`` is the band's width in standard deviations of Y (None: one point);
+    ``sd_ratio`` is |E Y| / sd Y at the value (the point condition subtracts terms of that size).
+    """
+    extra = 0
+    if kind.rejects_inside and alpha < 0.1:
+        extra += int(math.ceil(-math.log10(alpha)))
+    if width is not None and 0 < width < 1:
+        extra += int(math.ceil(-math.log10(width)))
+    if kind.moment_condition:
+        extra += int(math.ceil(math.log10(1.0 + sd_ratio)))
+    return int(precision) + GUARD_DIGITS + extra
+
+
+def _newton_in(fn, lo, hi, tol, x0=None):
+    """Root of an increasing fn (value, derivative) in [lo, hi]: Newton steps from x0 (or
+    the middle), bisection when a step leaves the bracket or does not halve the last one."""
+    x = x0 if x0 is not None and lo < x0 < hi else (lo + hi) / 2
+    last = hi - lo
+    for _ in range(MAX_STEPS):
+        v, d = fn(x)
+        if v == 0:
+            return x
+        if v < 0:
+            lo = x
+        else:
+            hi = x
+        nx = x - v / d if d != 0 and mp.isfinite(v) else None
+        if nx is not None and lo <= nx <= hi and abs(nx - x) <= tol * (abs(x) + tol):
+            return nx
+        if nx is None or not lo < nx < hi or abs(nx - x) > abs(last) / 2:
+            nx = (lo + hi) / 2
+        last = nx - x
+        if hi - lo <= tol * (abs(nx) + tol):
+            return nx
+        x = nx
+    raise PreciseFailure("inner search did not converge")
+
+
+def _log_ratio(top, bottom):
+    """log(top / bottom) for probabilities (-inf when top is 0)."""
+    return mp.log(top) - mp.log(bottom) if top > 0 else mp.ninf
+
+
+def _illinois(fn, lo, hi, tol, noise=0):
+    """Root of a monotone fn in [lo, hi] by Illinois regula falsi (bracket kept).
+
+    fn is known to ``noise`` (absolute): an end of the bracket where fn is within the
+    noise and has the other end's sign is taken as the root (e.g. a band so wide that
+    its rule is the two one-sided rules to every working digit)."""
+    flo, fhi = fn(lo), fn(hi)
+    if flo == 0:
+        return lo
+    if fhi == 0:
+        return hi
+    if (flo > 0) == (fhi > 0):
+        if min(abs(flo), abs(fhi)) <= noise:
+            return lo if abs(flo) < abs(fhi) else hi
+        raise PreciseFailure("side condition does not change sign over its bracket")
+    side, prev = 0, None
+    for _ in range(MAX_STEPS):
+        x = (lo * fhi - hi * flo) / (fhi - flo)
+        if not lo < x < hi:
+            x = (lo + hi) / 2
+        if prev is not None and abs(x - prev) <= tol * (abs(x) + tol):
+            return x
+        prev = x
+        fx = fn(x)
+        if fx == 0 or abs(hi - lo) <= tol * (abs(x) + tol):
+            return x
+        if (fx > 0) == (fhi > 0):
+            hi, fhi = x, fx
+            if side == 1:
+                flo /= 2
+            side = 1
+        else:
+            lo, flo = x, fx
+            if side == -1:
+                fhi /= 2
+            side = -1
+    raise PreciseFailure("outer search did not converge")
+
+
+def _below(law, theta, target):
+    """A point c (inside the support) with P_theta(Y < c) < target."""
+    m, s = law.mean(theta), law.sd(theta)
+    c = m - s
+    for _ in range(4000):
+        if c > law.lower and law.cdf(c, theta) < target:
+            return c
+        c = c - 2 * (m - c) if law.lower == -mp.inf else (c + law.lower) / 2 if c > law.lower \
+            else (m + law.lower) / 2
+    raise PreciseFailure("no lower bracket")
+
+
+def _above(law, theta, target):
+    """A point c with P_theta(Y > c) < target."""
+    m, s = law.mean(theta), law.sd(theta)
+    step = s
+    for _ in range(4000):
+        c = m + step
+        if law.sf(c, theta) < target:
+            return c
+        step *= 2
+    raise PreciseFailure("no upper bracket")
+
+
+def _quantile_low(law, theta, p, tol):
+    """c with P_theta(Y < c) = p (Newton on log P(Y < c))."""
+    lo, hi = _below(law, theta, p), _above(law, theta, min(p, 1 - p) / 2)
+
+    def fn(c):
+        F = law.cdf(c, theta)
+        return _log_ratio(F, p), law.pdf(c, theta) / F if F > 0 else mp.mpf(0)
+
+    return _newton_in(fn, lo, hi, tol)
+
+
+def _quantile_high(law, theta, q, tol):
+    """c with P_theta(Y > c) = q (Newton on -log P(Y > c))."""
+    lo, hi = _below(law, theta, min(q, 1 - q) / 2), _above(law, theta, q)
+
+    def fn(c):
+        S = law.sf(c, theta)
+        return _log_ratio(q, S), law.pdf(c, theta) / S if S > 0 else mp.mpf(0)
+
+    return _newton_in(fn, lo, hi, tol)
+
+
+def _size(law, kind, c1, c2, theta):
+    """E_theta phi for real cutoffs: the kind's tails or its middle (mpmath)."""
+    if kind.rejects_inside:
+        return law.cdf(c2, theta) - law.cdf(c1, theta)
+    out = law.cdf(c1, theta) if kind.uses_c1 else mp.mpf(0)
+    return out + (law.sf(c2, theta) if kind.uses_c2 else 0)
+
+
+def _two_tail(law, alpha, lo, hi, moment, tol):
+    """Band / point: inner c2 from the size at hi (point: at the value), outer condition."""
+    top = _quantile_low(law, lo, alpha, tol)  # c1 can be no larger (left tail alone is alpha)
+    bottom = _below(law, lo, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+    hi_cut = _above(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+
+    def c2_of(c1):
+        rest = alpha - law.cdf(c1, hi)
+        if rest <= 0:
+            return mp.inf
+        up2 = hi_cut
+        while law.sf(up2, hi) > rest:
+            up2 = up2 + (up2 - law.mean(hi))
+
+        def fn(c):
+            S = law.sf(c, hi)
+            return _log_ratio(rest, S), law.pdf(c, hi) / S if S > 0 else mp.mpf(0)
+
+        found = _newton_in(fn, c1, up2, tol, last[0])
+        last[0] = found
+        return found
+
+    last = [None]
+
+    mu = law.mean(lo)
+    if moment:
+
+        def outer(c1):
+            c2 = c2_of(c1)
+            upper = law.mean_above(c2, lo) if c2 != mp.inf else mp.mpf(0)
+            return (law.mean_below(c1, lo) + upper - alpha * mu) / law.sd(lo)
+    else:
+        width = hi - lo
+
+        def outer(c1):
+            c2 = c2_of(c1)
+            size_lo = law.cdf(c1, lo) + (law.sf(c2, lo) if c2 != mp.inf else 0)
+            size_hi = law.cdf(c1, hi) + (law.sf(c2, hi) if c2 != mp.inf else 0)
+            return (size_lo - size_hi) / width
+
+    noise = alpha * mp.mpf(10) ** (10 - mp.mp.dps)
+    noise = noise * (1 + abs(mu) / law.sd(lo)) if moment else noise / width
+    c1 = _illinois(outer, bottom, top, tol, noise)
+    return c1, c2_of(c1)
+
+
+def _window(law, alpha, lo, hi, tol):
+    """Equivalence: inner c2 from the window's mass at high, outer: the mass at low."""
+    left = _below(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+    right = _quantile_high(law, hi, alpha, tol)  # beyond it the window at high holds < alpha
+    width = hi - lo
+
+    def c2_of(c1):
+        target = law.cdf(c1, hi) + alpha
+        if target >= 1:
+            return mp.inf
+        up = _above(law, hi, (1 - target) / 2)
+
+        def fn(c):
+            m = law.cdf(c, hi) - law.cdf(c1, hi)
+            return _log_ratio(m, alpha), law.pdf(c, hi) / m if m > 0 else mp.mpf(0)
+
+        found = _newton_in(fn, c1, up, tol, last[0])
+        last[0] = found
+        return found
+
+    last = [None]
+
+    def outer(c1):
+        c2 = c2_of(c1)
+        return ((law.cdf(c2, lo) - law.cdf(c1, lo)) - (law.cdf(c2, hi) - law.cdf(c1, hi))) / width
+
+    c1 = _illinois(outer, left, right, tol, alpha * mp.mpf(10) ** (10 - mp.mp.dps) / width)
+    return c1, c2_of(c1)
+
+
+def solve(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
+          precision: int = 50) -> PreciseContinuous:
+    """The optimal rule at ``precision`` significant digits (mpmath only); ``kind``: a Kind
+    or its name."""
+    kind = as_kind(kind)
+    a_f = float(alpha)
+    pts = kind.points(low, high, value)
+    fl = family.continuous_float(n, dispersion)  # only the scales, for the digit budget
+    lo_f, hi_f = float(pts[0]), float(pts[-1])
+    width = (hi_f - lo_f) / float(fl.theta_sd(lo_f)) if kind.two_point else None
+    ratio = abs(float(fl.mean(lo_f))) / float(fl.sd(lo_f))
+    dps = working_dps(precision, kind, a_f, ratio, width)
+    with mp.workdps(dps):
+        law = family.continuous_mp(n, dispersion)
+        a = dec(alpha)
+        tol = mp.mpf(10) ** -(dps - 5)
+        points = tuple(dec(t) for t in pts)
+        lo, hi = points[0], points[-1]
+        c1 = c2 = None
+        if kind.rejects_inside:
+            c1, c2 = _window(law, a, lo, hi, tol)
+        elif kind.two_tailed:
+            c1, c2 = _two_tail(law, a, lo, hi, kind.moment_condition, tol)
+        elif kind.uses_c2:
+            c2 = _quantile_high(law, lo, a, tol)
+        else:
+            c1 = _quantile_low(law, lo, a, tol)
+        sizes = tuple(_size(law, kind, c1, c2, t) for t in points)
+    return PreciseContinuous(c1, c2, sizes, dps)
+
+
+def sizes_of(family, kind, n, dispersion, c1, c2, points, precision: int = 50) -> tuple:
+    """E_theta phi at each point for given cutoffs, with the mpmath law (for the cross-check)."""
+    kind = as_kind(kind)
+    with mp.workdps(int(precision) + GUARD_DIGITS):
+        law = family.continuous_mp(n, dispersion)
+        cc1 = None if c1 is None else mp.mpf(c1 if isinstance(c1, float) else str(c1))
+        cc2 = None if c2 is None else mp.mpf(c2 if isinstance(c2, float) else str(c2))
+        return tuple(_size(law, kind, cc1, cc2, dec(t)) for t in points)
+
+
+def mass_between(family, n, dispersion, cuts_a, cuts_b, points, precision: int = 50) -> float:
+    """max over the points of sum_i P_theta(Y between a_i and b_i): where two rules with real
+    cutoffs (c1, c2) differ as test functions (mpmath law)."""
+    with mp.workdps(int(precision) + GUARD_DIGITS):
+        law = family.continuous_mp(n, dispersion)
+        worst = mp.mpf(0)
+        for t in points:
+            t = dec(t)
+            tot = mp.mpf(0)
+            for a, b in zip(cuts_a, cuts_b):
+                if a is None or b is None:
+                    continue
+                lo, hi = sorted((mp.mpf(a), mp.mpf(b)))
+                tot += abs(law.cdf(hi, t) - law.cdf(lo, t))
+            worst = max(worst, tot)
+        return float(worst)
