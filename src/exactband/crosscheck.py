@@ -21,6 +21,12 @@ path (docs/tolerances.md has the derivation):
 Both are capped at PHI_TOL and SIZE_TOL (relative to alpha): a design whose
 bound is above the cap is compared at the cap, so that a real mistake (a wrong
 cutoff moves phi by a whole gamma, or by 1) can never hide under a tolerance.
+One exception: an ill-conditioned gamma (a tail of size ~alpha far larger than
+the mass at the cutoff, e.g. a spread-out negative binomial at a tiny alpha)
+that no double-precision computation can give to PHI_TOL.  Its phi tolerance is
+the double-precision floor of the gamma (``floor_dg``), at most PHI_CEIL; the
+size check (relative to alpha) then stays as sharp as before, and a wrong cutoff
+still moves phi by a whole gamma or by 1.
 """
 
 from __future__ import annotations
@@ -39,6 +45,8 @@ SIZE_TOL = 1e-9  # cap of the per-design size tolerance, relative to alpha
 SAFETY = 64.0  # unmodelled error: quadrature, iteration stop, rounding of the system
 GAMMA_CLIP = 1e-12  # the fast solver accepts gammas in [-1e-12, 1 + 1e-12] and clips
 LAW_EPS = 2e-14  # relative error of the float laws for a spread (sd) up to 100
+PHI_CEIL = 1e-2  # ceiling of the phi tolerance of an ill-conditioned gamma (floor_dg)
+UNIT_ROUNDOFF = 2.0 ** -53
 
 
 def law_eps(sd: float) -> float:
@@ -86,6 +94,34 @@ def sizes_with_tables(kind: str, design: tuple, tables, dps: int) -> list:
     return out
 
 
+def input_sensitivity(law, c) -> float:
+    """Bound on |d log P / d log x| at cutoff c for the law's inputs x (theta, n, dispersion).
+
+    For these families d log pmf(y) / d log(mean) = (y - mean) mean / variance
+    (Poisson, negative binomial; the binomial in p with min(p, 1 - p) instead of p,
+    since its fast solver works in the mirror image above 1/2); a size r of the
+    negative binomial moves log pmf by the same order. Twice the largest of these
+    at the cutoff bounds the tails' sensitivity, plus 1.
+    """
+    mean, var = float(law.mean), float(law.variance)
+    if var <= 0:
+        return 1.0
+    top = getattr(law, "supmax", None)
+    m_eff = min(mean, float(top) - mean) if top is not None else mean
+    return 1.0 + 2.0 * abs(float(c) - mean) * m_eff / var
+
+
+def floor_dg(kappa: float, sigma: float) -> float:
+    """Double-precision floor of a gamma's error: kappa u (16 + 4 sigma).
+
+    kappa is the condition number of the gamma for relative errors of the
+    probabilities (dg = eps kappa); the floor is what any double evaluation
+    leaves: the inputs rounded to doubles (3 roundings each, moving the tails by
+    sigma times that), and a tail and a mass computed to a few units of roundoff.
+    """
+    return kappa * UNIT_ROUNDOFF * (16.0 + 4.0 * sigma)
+
+
 def tolerances(kind: str, alpha, precise) -> tuple:
     """(phi_tol, size_tol) for one design from the fast path's error bound (module doc)."""
     T = precise.tables
@@ -125,7 +161,12 @@ def tolerances(kind: str, alpha, precise) -> tuple:
             else:
                 dg = 1.0
             fmax = max(float(t.pmf(c1) + t.pmf(c2)) for t in T)
+        cuts = [c for c in (c1, c2) if c is not None]
+        sigma = max(input_sensitivity(t.law, c) for t in T for c in cuts)
     phi_tol = min(PHI_TOL, SAFETY * dg + GAMMA_CLIP)
+    floor = floor_dg(dg / eps, sigma) if eps > 0 else 0.0
+    if floor > PHI_TOL:  # no double computation reaches PHI_TOL (module doc)
+        phi_tol = min(PHI_CEIL, floor)
     size_tol = min(SIZE_TOL * a, phi_tol * fmax + 1e-15 * a)
     return phi_tol, size_tol
 

@@ -224,7 +224,9 @@ def provenance_rows(tset, csv_sha256: str) -> list:
         ("Verifying solver", f"mpmath, {v.precision} significant digits, independent of the fast "
                              f"(scipy) solver"),
         ("Designs verified", f"{v.rows} of {v.rows}"),
-        ("Largest |phi difference|", f"{v.max_phi_diff:.3g} (tolerance {PHI_TOL:g})"),
+        ("Largest |phi difference|", f"{v.max_phi_diff:.3g} (tolerance {PHI_TOL:g}"
+                                     + (")" if v.max_phi_diff <= PHI_TOL else
+                                        ", or an ill-conditioned gamma's floor)")),
         ("Largest size error, fast solver", f"{v.max_fast_size_error:.3g} "
                                             f"(tolerance {SIZE_TOL:g})"),
         ("Largest size error, precise solver", f"{v.max_precise_size_error:.3g}"),

@@ -1,0 +1,79 @@
+"""Ill-conditioned gammas verify (issue 10): the cross-check's double-precision floor.
+
+A spread-out negative binomial at a tiny alpha has a tail of size ~alpha that is
+~1/q = (r + m)/r times the mass at the cutoff, so the gamma = (alpha - S(c))/f(c)
+moves by that factor times any relative error of S(c): no double evaluation
+(even of correctly rounded tails, from inputs rounded to doubles) reaches the
+1e-6 phi cap. These designs were refused ("the two solvers disagree"); they now
+verify with the floor of crosscheck.floor_dg, and their sizes, summed here
+independently of exactband, equal alpha.
+"""
+
+from __future__ import annotations
+
+import mpmath as mp
+import pytest
+
+from exactband import api
+from exactband.crosscheck import PHI_CEIL, PHI_TOL, compare
+from exactband.solvers import precise
+
+NB = "negative-binomial"
+
+
+def mp_size(d, theta) -> mp.mpf:
+    """E_theta phi of a one-sided design at 40 digits, from mpmath.
+
+    Source: mpmath.betainc (regularised incomplete beta, its own hypergeometric
+    series) for the tails, P(Y > c) = I_{1-q}(c + 1, r) and P(Y < c) = I_q(r, c);
+    mpmath.loggamma for the mass Gamma(c + r)/(Gamma(r) c!) q^r (1 - q)^c;
+    size r = n k, mean m = n theta, q = r/(r + m). scipy.stats.nbinom is not used:
+    it loses digits at c ~ 1e12 with r = 0.05.
+    """
+    with mp.workdps(40):
+        r = mp.mpf(d.n) * mp.mpf(repr(d.problem.dispersion))
+        m = mp.mpf(d.n) * mp.mpf(repr(theta))
+        q, qc = r / (r + m), m / (r + m)
+
+        def pmf(c):
+            return mp.exp(mp.loggamma(c + r) - mp.loggamma(r) - mp.loggamma(c + 1)
+                          + r * mp.log(q) + c * mp.log(qc))
+
+        if d.kind == "upper":
+            c, g = d.c2, mp.mpf(d.gamma2_decimal)
+            return mp.betainc(c + 1, r, 0, qc, regularized=True) + g * pmf(c)
+        c, g = d.c1, mp.mpf(d.gamma1_decimal)
+        below = mp.betainc(r, c, 0, q, regularized=True) if c > 0 else mp.mpf(0)
+        return below + g * pmf(c)
+
+
+# refused before (notes/nb.md; the scratch draw of notes/nbfast.md)
+CASES = [
+    ("upper", dict(n=1, value=1e9, dispersion=0.05, alpha=1e-50)),
+    ("upper", dict(n=1, value=1e9, dispersion=0.05, alpha=1e-100)),
+    ("upper", dict(n=3, value=2e8, dispersion=0.07, alpha=1e-20)),
+]
+
+
+@pytest.mark.parametrize("kind,kw", CASES)
+def test_refused_designs_verify_with_alpha_sizes(kind, kw):
+    d = api.design(NB, kind, verify=True, **kw)
+    assert d.verified and d.check.agree
+    assert PHI_TOL < d.check.phi_tol <= PHI_CEIL  # the floor was needed and used
+    g = d.gamma2 if kind == "upper" else d.gamma1
+    assert 0.0 <= g < 1.0
+    size = mp_size(d, kw["value"])
+    assert abs(size / mp.mpf(repr(kw["alpha"])) - 1) < 1e-9
+
+
+def test_floor_still_catches_a_wrong_cutoff():
+    p = api.make_problem(NB, "upper", n=1, value=1e9, dispersion=0.05, alpha=1e-50)
+    sol = api.fast_solve([p])[0]
+    pd = precise.solve(p.family, "upper", p.n, p.alpha, value=p.value, dispersion=p.dispersion)
+    assert compare("upper", p.alpha, sol, pd, 50).agree
+    for shift in (-1, 1):
+        wrong = (sol[0], sol[1], sol[2] + shift, sol[3])
+        cc = compare("upper", p.alpha, wrong, pd, 50)
+        assert not cc.agree
+    off = (sol[0], sol[1], sol[2], sol[3] + 0.02)  # gamma off by more than the ceiling
+    assert not compare("upper", p.alpha, off, pd, 50).agree
