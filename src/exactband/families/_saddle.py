@@ -36,11 +36,15 @@ def stirlerr(x):
     return out
 
 
-def bd0(x, m):
-    """x*log(x/m) + m - x computed without cancellation (array, x >= 0, m > 0)."""
+def bd0(x, m, d=None):
+    """x*log(x/m) + m - x computed without cancellation (array, x >= 0, m > 0).
+
+    ``d`` is x - m when the caller has it without cancellation (default x - m).
+    """
     x, m = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(m, dtype=float))
     out = np.empty(x.shape, dtype=float)
-    d = x - m
+    given = d is not None
+    d = np.broadcast_to(np.asarray(d, dtype=float), x.shape) if given else x - m
     close = np.abs(d) < 0.1 * (x + m)
     if np.any(close):
         xc, dc, mc = x[close], d[close], m[close]
@@ -56,7 +60,10 @@ def bd0(x, m):
     if np.any(far):
         xf, mf = x[far], m[far]
         with np.errstate(divide="ignore", invalid="ignore"):
-            out[far] = np.where(xf > 0, xf * np.log(xf / mf), 0.0) + mf - xf
+            if given:  # m - x = -d exactly
+                out[far] = np.where(xf > 0, xf * np.log(xf / mf), 0.0) - d[far]
+            else:
+                out[far] = np.where(xf > 0, xf * np.log(xf / mf), 0.0) + mf - xf
     return out
 
 

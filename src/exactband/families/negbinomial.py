@@ -103,12 +103,19 @@ class NegBinomialLaw(FloatLaw):
         r, m = P
         ok = y >= 0
         yy = np.where(ok, y, 0.0)
-        q = r / (r + m)
         qc = m / (r + m)
         at0 = -r * np.log1p(m / r)
-        # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y   (y > 0), as in Loader's note
+        # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y (y > 0) in saddle-point form, with
+        # y itself (never (y + r) - r) and the deviations d = r (y - m)/(r + m) formed
+        # without cancellation (derivation: docs/tolerances.md section 1)
         with np.errstate(divide="ignore", invalid="ignore"):
-            pos = _saddle.log_binom_raw(r + 0.0 * yy, yy + r, q, qc) + np.log(r / (r + yy))
+            y1 = np.where(yy > 0, yy, 1.0)
+            d = r * (y1 - m) / (r + m)
+            pos = (_saddle.stirlerr(y1 + r) - _saddle.stirlerr(r + 0.0 * y1)
+                   - _saddle.stirlerr(y1)
+                   - _saddle.bd0(r + 0.0 * y1, r * (r + y1) / (r + m), -d)
+                   - _saddle.bd0(y1, (y1 + r) * qc, d)
+                   - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
         out = np.where(yy == 0, at0, pos)
         # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
         #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
