@@ -80,6 +80,16 @@ def test_missing_option_is_one_line(capsys):
     assert err.count("\n") == 1 and "required" in err
 
 
+def test_table_help_shows_the_default_random_digits(capsys):
+    from exactband.rule import DEFAULT_RANDOM_DIGITS
+
+    with pytest.raises(SystemExit) as e:
+        main(["table", "--help"])
+    out = capsys.readouterr().out
+    assert e.value.code == 0 and f"random_digits = {DEFAULT_RANDOM_DIGITS}," in out
+    assert "{random_digits}" not in out
+
+
 def test_console_script_runs_and_help_reads_well():
     out = subprocess.run([sys.executable, "-m", "exactband", "design", "--help"],
                          capture_output=True, text=True, check=True).stdout

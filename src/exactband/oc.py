@@ -20,6 +20,7 @@ from . import kinds as K
 from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid, recast
 from .families.base import as_real
+from .rule import check_random_digits as rule_digits
 
 RULES = ("randomised", "conservative", "digits")
 DEFAULT_POINTS = 201
@@ -43,12 +44,13 @@ def one_hypothesis(designs, why: str) -> list:
 
 
 def check_random_digits(d) -> int:
-    """Number of random digits of the field rule: a whole number from 1 to 9."""
-    allowed = "a whole number of random digits from 1 to 9"
-    x = _whole("random-digits", d, allowed)
-    if not 1 <= x <= 9:
-        raise invalid("random-digits", d, allowed, PlanningError)
-    return x
+    """Number of random digits of the field rule: a whole number from 1 to 9 (also as
+    text), checked by ``rule.check_random_digits`` and raised as a PlanningError."""
+    try:
+        return rule_digits(d, "random-digits", "a whole number of random digits from 1 to 9",
+                           text=True)
+    except ExactbandError as e:
+        raise recast(e, PlanningError) from None
 
 
 def _whole(field, value, allowed) -> int:

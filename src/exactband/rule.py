@@ -31,12 +31,27 @@ from .kinds import Kind, as_kind, get_kind
 DEFAULT_RANDOM_DIGITS = 3  # random digits of the field rule: decide, tables, power, plan
 
 
-def check_random_digits(d) -> int:
-    """Number of random digits of a field rule: a whole number from 1 to 9."""
-    if isinstance(d, bool) or not isinstance(d, numbers.Integral) or not 1 <= int(d) <= 9:
-        raise DesignError(f"invalid random_digits = {show(d)}: a whole number from 1 to 9",
-                          field="random_digits", value=d, allowed="a whole number from 1 to 9")
-    return int(d)
+def check_random_digits(d, field: str = "random_digits",
+                        allowed: str = "a whole number from 1 to 9", text: bool = False) -> int:
+    """Number of random digits of a field rule: a whole number from 1 to 9 (DesignError).
+
+    The one check of random digits (planning's ``oc.check_random_digits`` recasts it).
+    ``text=True`` also takes a whole number written as text or as an integral float
+    (``strict.whole``: command line, planning calls); ``field`` and ``allowed`` name the
+    input as the caller's user wrote it.
+    """
+    if text:
+        from .strict import whole
+
+        x = whole(field, d, allowed)
+    elif isinstance(d, bool) or not isinstance(d, numbers.Integral):
+        x = None
+    else:
+        x = int(d)
+    if x is None or not 1 <= x <= 9:
+        raise DesignError(f"invalid {field} = {show(d)}: {allowed}", field=field, value=d,
+                          allowed=allowed)
+    return x
 
 
 def threshold(gamma, random_digits: int, exact: str | None = None) -> int:

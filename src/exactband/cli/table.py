@@ -24,7 +24,7 @@ A spec (TOML; every key is described in README.md):
   n = { from = 10, to = 50, step = 5 }      # or a list: n = [10, 20, 50]
   bands = [[2.0, 2.5]]                      # for band and equivalence
   values = [2.5]                            # for upper, lower and point
-  # optional: dispersion (negative-binomial), gamma_decimals = 4, random_digits = 3,
+  # optional: dispersion (negative-binomial), gamma_decimals = 4, random_digits = {random_digits},
   # conservative = true, paper = "A4" | "Letter", precision = 50, random_seed,
   # random_digit_pages = 1
   [oc]                                      # optional, last: what the rules catch
@@ -41,13 +41,14 @@ the output folder.
 
 
 def add_parser(sub) -> None:
+    from ..rule import DEFAULT_RANDOM_DIGITS
     from ..tables.spec import GRID_LIMIT, LARGE_LIMIT
 
     p = add_command(
         sub, "table", "write verified, print-ready tables (CSV, spreadsheet, PDF) from a spec",
         "Compute every design of a table spec, verify each with the "
                     "high-precision solver, and write the table set into a folder.",
-        EXAMPLE)
+        EXAMPLE.replace("{random_digits}", str(DEFAULT_RANDOM_DIGITS)))
     p.add_argument("spec", nargs="?", metavar="SPEC", help="the table spec (a .toml file)")
     p.add_argument("--out", metavar="DIR", help="folder to write the table set into")
     p.add_argument("--check", nargs="?", const=True, metavar="DIR",
