@@ -193,6 +193,12 @@ def test_table_bad_input(tmp_path, table):
         table_rule(bad, 1)
     with pytest.raises(DecideError, match="existing table"):
         table_rule(tmp_path / "nope.csv", 1)
+    for d in (0, 10, "12"):  # the random digits asked for: 1 to 9, the value named as given
+        with pytest.raises(DecideError, match=rf"row 1: invalid random-digits = {d}: a whole "
+                                              "number 1 to 9$"):
+            table_rule(table, 1, random_digits=d)
+    tr = table_rule(table, 1, random_digits=9)  # in range: taken, the table's 3 noted
+    assert tr.random_digits == 9 and tr.table_random_digits == 3
 
 
 # -- the command ---------------------------------------------------------------------

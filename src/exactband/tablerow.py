@@ -19,7 +19,7 @@ from .decide import DecideError
 from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid, recast
 from .params import make_problem
-from .rule import threshold
+from .rule import check_random_digits, threshold
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
             "c2", "gamma2")
@@ -205,9 +205,12 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
     for source, value in (("random_digits", col), ("random-digits", random_digits)):
         if value is not None:
             dd = _number(where, source, str(value), whole=True)
-            if not 1 <= dd <= 9:
+            try:  # the one range check of random digits; the message names the cell as read
+                check_random_digits(dd, source)
+            except ExactbandError:
                 raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9",
-                                  field=source, value=value, allowed="a whole number 1 to 9")
+                                  field=source, value=value,
+                                  allowed="a whole number 1 to 9") from None
             if source == "random_digits":
                 d = dd
             else:
