@@ -76,7 +76,7 @@ def check(fam, kind, n, k, alpha, pts):
 
 
 @seed(SEED)
-@settings(max_examples=25)
+@settings(max_examples=15)
 @given(designs())
 def test_random_designs_exact_size_and_agreement(d):
     check(*d)
@@ -113,3 +113,14 @@ def test_ill_conditioned_window_is_declined():
     with mp.workdps(40):
         sizes = cprecise.sizes_of(GAMMA, "equivalence", 10, 1.0, fast.c1, fast.c2, [2.0], 30)
         assert abs(sizes[0] / mp.mpf("1e-10") - 1) > 1e-9
+
+
+@pytest.mark.parametrize("alpha", [0.7, 0.999])
+@pytest.mark.parametrize("kind, pts", [("point", dict(value=5.0)),
+                                       ("band", dict(low=5.0, high=5.25)),
+                                       ("equivalence", dict(low=5.0, high=5.25))])
+def test_large_alpha(kind, pts, alpha):
+    """alpha > 1/2: a band or point rule accepts only a short window (solved as a window of
+    mass 1 - alpha); both solvers still agree."""
+    for fam in (NORMAL, GAMMA):
+        assert check(fam, kind, 12, 1.5, alpha, pts) is not None

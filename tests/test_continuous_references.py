@@ -186,3 +186,29 @@ def test_gamma_narrow_band_tends_to_point():
     r1, r2 = _gamma_two_sided_reference(n, k, alpha, v, v, "point")
     for c1, c2 in both(GAMMA, "band", n, k, alpha, low=v, high=v * (1 + 1e-9)):
         assert close(c1, r1, 2e-9) and close(c2, r2, 2e-9)
+
+
+@pytest.mark.parametrize("fam, n, k, theta", [(NORMAL, 9, 1.5, -2.0), (NORMAL, 1, 0.01, 1e3),
+                                              (GAMMA, 4, 0.5, 3.0), (GAMMA, 300, 7.0, 0.02)])
+def test_float_mp_and_scipy_laws_agree(fam, n, k, theta):
+    """The float law (scipy.special), the precise law (mpmath, own code) and the family's
+    scipy.stats law give the same cdf, sf and density; d/dtheta of the cdf matches a
+    central difference of the mpmath cdf.  Tolerance 1e-12 relative (the float laws are
+    accurate to a few 1e-15 here)."""
+    law, ref = fam.continuous_float(n, k), fam.scipy_law(theta, n, k)
+    m, s = float(law.mean(theta)), float(law.sd(theta))
+    with mp.workdps(40):
+        mpl = fam.continuous_mp(n, k)
+        for z in (-8.0, -2.5, -0.3, 0.0, 1.7, 6.0):
+            c = m + z * s
+            if c <= float(law.lower):
+                continue
+            C, T = mp.mpf(c), mp.mpf(theta)
+            for got, want in ((law.cdf(c, theta), mpl.cdf(C, T)), (law.sf(c, theta), mpl.sf(C, T)),
+                              (math.exp(law.logpdf(c, theta)), mpl.pdf(C, T))):
+                assert close(float(got), float(want), 1e-12)
+            assert close(float(law.cdf(c, theta)), float(ref.cdf(c)), 1e-12)
+            assert close(math.exp(float(law.logpdf(c, theta))), float(ref.pdf(c)), 1e-11)
+            h = mp.mpf(theta) * mp.mpf("1e-12") if theta != 0 else mp.mpf("1e-12")
+            slope = (mpl.cdf(C, T + h) - mpl.cdf(C, T - h)) / (2 * h)
+            assert close(float(law.dcdf(c, theta)), float(slope), 1e-9)

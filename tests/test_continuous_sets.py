@@ -222,3 +222,33 @@ def test_spec_keys_for_real_cutoffs(tmp_path):
     path = tmp_path / "ok.toml"
     path.write_text(base, encoding="utf-8")
     assert load_spec(path).cutoff_decimals == 4  # the default for real cutoffs
+
+
+def test_resume_from_the_cache(tmp_path):
+    """A build killed after its verified chunk was saved resumes from the cache (the cached
+    real cutoffs are checked against the fast solution) and writes the same bytes."""
+    import subprocess
+    import sys
+
+    spec = tmp_path / "normal.toml"
+    spec.write_text(NORMAL_SPEC.replace("n = [10, 25]", "n = [10]"), encoding="utf-8")
+    env = dict(__import__("os").environ, EXACTBAND_STOP_AT="chunk-saved")
+    run = [sys.executable, "-m", "exactband", "table", str(spec), "--out", str(tmp_path / "o")]
+    assert subprocess.run(run, env=env, capture_output=True).returncode != 0
+    env.pop("EXACTBAND_STOP_AT")
+    done = subprocess.run(run, env=env, capture_output=True, text=True)
+    assert done.returncode == 0 and "resumed 10 of 10" in done.stderr
+    generate(spec, tmp_path / "fresh", workers=1)
+    for name in ("normal.csv", "normal.print.csv", "normal.pdf"):
+        assert (tmp_path / "o" / name).read_bytes() == (tmp_path / "fresh" / name).read_bytes()
+
+
+def test_power_figure_of_a_continuous_rule():
+    """One curve (the rule has real cutoffs), a caption without gammas or random digits."""
+    from exactband.plots import design_caption, oc_figure
+
+    d = exactband.design("normal", "band", n=25, alpha=0.05, low=9.5, high=10.5, dispersion=2)
+    fig = oc_figure(d)
+    assert len(fig.axes[0].lines) == 2  # the alpha line and the one rule
+    text = design_caption(d, 3)
+    assert "real cutoffs" in text and "gamma" not in text and "random digits" not in text

@@ -64,18 +64,20 @@ def die_with_parent(parent: int) -> None:
         os._exit(1)
 
 
-def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64) -> list:
+def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64, each=None) -> list:
     """[fn(t) for t in tasks] in order, on ``workers`` processes when there are enough tasks.
 
-    ``fn`` must be a module-level function (it is pickled); ``progress(k)`` is called
-    as results arrive.
+    ``fn`` must be a module-level function (it is pickled); ``progress(1)`` and
+    ``each(k, result)`` are called as the results arrive, in order.
     """
     tasks = list(tasks)
     workers = resolve_workers(workers, len(tasks))
     out = []
     if workers == 1 or len(tasks) < 8:
-        for t in tasks:
+        for k, t in enumerate(tasks):
             out.append(fn(t))
+            if each:
+                each(k, out[-1])
             if progress:
                 progress(1)
         return out
@@ -87,8 +89,10 @@ def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64) -> list:
     parent = os.getpid() if multiprocessing.get_start_method() == "fork" else None
     with ProcessPoolExecutor(max_workers=workers, initializer=die_with_parent,
                              initargs=(parent,)) as ex:
-        for r in ex.map(fn, tasks, chunksize=chunk):
+        for k, r in enumerate(ex.map(fn, tasks, chunksize=chunk)):
             out.append(r)
+            if each:
+                each(k, r)
             if progress:
                 progress(1)
     return out

@@ -111,7 +111,12 @@ def design_caption(design: Design, random_digits: int | None = None) -> str:
     parts = [f"{design.problem.kind.optimality} {design.kind} test, {fam.name} family{disp}; "
              f"{pretty(design.hypothesis())}; {fam.n_word} = {number_text(design.n)}; "
              f"alpha = {number_text(design.alpha)}."]
-    parts.append(_cutoff_text(design, random_digits))
+    if not fam.discrete:  # real cutoffs, nothing randomised
+        cuts = [f"c{i} = {c!r}" for i, c in ((1, design.c1), (2, design.c2)) if c is not None]
+        parts.append("; ".join(cuts) + " (real cutoffs, no randomisation).")
+        random_digits = None
+    else:
+        parts.append(_cutoff_text(design, random_digits))
     if random_digits:
         t1, t2 = design.thresholds(random_digits)
         ts = [f"t{i} = {t} at c{i}" for i, t in ((1, t1), (2, t2)) if t is not None]
@@ -185,37 +190,46 @@ def oc_figure(design: Design, frame=None, *, curve="power", random_digits=DEFAUL
     d = frame.attrs.get("random_digits", random_digits)
     sizes = frame.attrs.get("sizes", {})
     fig = _new_figure(size)
-    ax, dx, foot = fig.subplots(3, 1, height_ratios=[3, 1.1, 0.75])
-    dx.sharex(ax)
-    ax.tick_params(labelbottom=False)
+    real = not design.problem.family.discrete  # real cutoffs: one rule, no difference panel
+    if real:
+        ax, foot = fig.subplots(2, 1, height_ratios=[3, 0.75])
+        panels = dx = ax
+    else:
+        ax, dx, foot = fig.subplots(3, 1, height_ratios=[3, 1.1, 0.75])
+        dx.sharex(ax)
+        ax.tick_params(labelbottom=False)
+        panels = (ax, dx)
     th = frame["theta"].to_numpy(float)
     x0, x1 = float(th.min()), float(th.max())
-    for a in (ax, dx):
+    for a in (panels if isinstance(panels, tuple) else (panels,)):
         _shade_null(a, design, x0, x1, label=a is ax)
         a.grid(True, color="0.8", linewidth=0.5)
     _alpha_line(ax, design.alpha, curve)
     base = frame[f"{col}_randomised"].to_numpy(float)  # lower panel: same quantity as the top
-    for i, rule in enumerate(("randomised", "conservative", "digits")):
+    for i, rule in enumerate(("randomised",) if real else ("randomised", "conservative",
+                                                            "digits")):
         st = dict(STYLE[rule])
-        label = rule_label(rule, d)
+        label = "the rule (real cutoffs)" if real else rule_label(rule, d)
         if rule in sizes:
             label += f"; size {_size_text(sizes[rule])}"
         every = (0.02 + 0.03 * i, 0.09)
         ax.plot(th, frame[f"{col}_{rule}"].to_numpy(float), label=label, markevery=every, **st)
-        dx.plot(th, frame[f"{col}_{rule}"].to_numpy(float) - base, markevery=every, **st)
+        if not real:
+            dx.plot(th, frame[f"{col}_{rule}"].to_numpy(float) - base, markevery=every, **st)
     ax.set_xlim(x0, x1)
     ax.set_ylim(-0.02, 1.02)
     ax.set_ylabel(_y_label(curve))
     dx.set_xlabel(theta_axis_label(design))
-    dx.set_ylabel("power minus\nrandomised power" if col == "power"
-                  else "OC minus\nrandomised OC", fontsize=8.5)
+    if not real:
+        dx.set_ylabel("power minus\nrandomised power" if col == "power"
+                      else "OC minus\nrandomised OC", fontsize=8.5)
     title = "Power function" if curve == "power" else "Operating characteristic (OC) curve"
     ax.set_title(f"{title}: {pretty(design.hypothesis())}", fontsize=11)
     caption = design_caption(design, d) + (
         " Sizes are the probabilities of rejecting H0 at "
-        f"{', '.join(number_text(p) for p in design.points)} (6 decimals); "
-        "the conservative and field "
-        "rules never exceed alpha. All values are exact sums of probabilities.")
+        f"{', '.join(number_text(p) for p in design.points)} (6 decimals)" + (
+            ". All values are exact probabilities." if real else "; the conservative and "
+            "field rules never exceed alpha. All values are exact sums of probabilities."))
     add_footer(foot, ax, caption)
     return fig
 

@@ -10,6 +10,8 @@ the audit and ``decide --table``.
 
 from __future__ import annotations
 
+import math
+
 import mpmath as mp
 import numpy as np
 
@@ -179,14 +181,88 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
                   gamma1_decimal=d1, gamma2_decimal=d2, check=cc, rule=rule)
 
 
-def _verify_task(args):
-    p, sol, precision = args
-    return verify_one(p, sol, precision)
+def law_order(problems, precision) -> list:
+    """Positions of ``problems`` grouped by law (family, n, dispersion), the most
+    demanding design of a group first (most working digits, then smallest alpha).
+
+    The precise solver keeps its probability tables in a cache and reuses a table
+    of at least the precision and at most the truncation threshold a design needs
+    (solvers.precise._table), so designs taken in this order on one process build
+    each law's tables once.  Only the order of work changes: callers put the
+    results back in their own order.
+    """
+    from .solvers.precise import working_dps
+
+    def key(i):
+        p = problems[i]
+        dps = working_dps(precision, p.kind.name, p.low, p.high, p.alpha)
+        return (p.family.name, p.n, p.dispersion or 0.0, -dps, p.alpha, i)
+    return sorted(range(len(problems)), key=key)
 
 
-def verify_many(problems, sols, precision, workers=None, progress=None) -> list:
-    """verify_one over many problems, in order, on ``workers`` processes (None: all cores)."""
-    from .parallel import pmap
+def _law(p: Problem) -> tuple:
+    return (p.family.name, p.n, p.dispersion)
 
-    return pmap(_verify_task, [(p, s, precision) for p, s in zip(problems, sols)], workers,
-                progress)
+
+def law_batches(problems, precision, workers: int) -> list:
+    """Lists of positions, in law order (``law_order``), each holding whole law groups
+    where it can: the work of one process, which then reuses its tables.
+
+    About 8 batches per worker (so the last ones balance the load), the costliest
+    first; a group larger than two batches is cut.  On one worker every design is
+    its own batch, in law order.
+    """
+    order = law_order(problems, precision)
+    if workers <= 1:  # one process keeps its tables anyway: one design per batch
+        return [[i] for i in order]
+    size = max(1, -(-len(order) // (8 * workers)))
+    out, cur = [], []
+    for k, i in enumerate(order):
+        if cur and len(cur) >= size and _law(problems[i]) != _law(problems[order[k - 1]]):
+            out.append(cur)
+            cur = []
+        cur.append(i)
+        if len(cur) >= 2 * size:  # one huge law group: cut it
+            out.append(cur)
+            cur = []
+    if cur:
+        out.append(cur)
+    # the costliest batches first (so no worker is left with a large one at the end):
+    # a table's length grows like the spread of Y, here sqrt(n) as a rough measure
+    out.sort(key=lambda b: -sum(math.sqrt(problems[i].n) for i in b))
+    return out
+
+
+def _verify_batch(args):
+    tasks, precision = args
+    return [verify_one(p, s, precision) for p, s in tasks]
+
+
+def verify_many(problems, sols, precision, workers=None, progress=None, saved=None) -> list:
+    """verify_one over many problems, on ``workers`` processes (None: all cores); the
+    Designs in the order of ``problems``.
+
+    The work is cut into law batches (``law_batches``) so each process builds a
+    law's probability tables once.  ``progress(k)`` is called as k more designs
+    are verified; ``saved(positions, designs)``, if given, as each batch arrives
+    (the table build saves its resumable cache there).
+    """
+    from .parallel import pmap, resolve_workers
+
+    problems, sols = list(problems), list(sols)
+    w = resolve_workers(workers, len(problems))
+    batches = law_batches(problems, precision, w)
+
+    def arrived(k, ds):  # batch k is verified (pmap gives the results in order)
+        if saved is not None:
+            saved(batches[k], ds)
+        if progress:
+            progress(len(ds))
+
+    results = pmap(_verify_batch, [([(problems[i], sols[i]) for i in idx], precision)
+                                   for idx in batches], w, max_chunk=1, each=arrived)
+    out = [None] * len(problems)
+    for idx, ds in zip(batches, results):
+        for i, d in zip(idx, ds):
+            out[i] = d
+    return out

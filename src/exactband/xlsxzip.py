@@ -35,13 +35,48 @@ class FixedZip(zipfile.ZipFile):
         self.writestr(arcname if arcname is not None else str(filename), data)
 
 
-def workbook_bytes(wb) -> bytes:
-    """The openpyxl workbook ``wb`` as XLSX bytes with fixed dates (same workbook, same bytes)."""
+def _excel_writer():
+    """openpyxl's ExcelWriter whose worksheets are written by xlsxrows.RowsWriter."""
+    from openpyxl.drawing.spreadsheet_drawing import SpreadsheetDrawing
+    from openpyxl.writer.excel import ExcelWriter
+
+    from .xlsxrows import RowsWriter
+
+    class Writer(ExcelWriter):
+        def write_worksheet(self, ws):
+            if self.workbook.write_only:
+                return super().write_worksheet(ws)
+            # ExcelWriter.write_worksheet (openpyxl 3.1) with the faster rows writer
+            ws._drawing = SpreadsheetDrawing()
+            ws._drawing.charts = ws._charts
+            ws._drawing.images = ws._images
+            writer = RowsWriter(ws)
+            writer.write()
+            ws._rels = writer._rels
+            self._archive.write(writer.out, ws.path[1:])
+            self.manifest.append(ws)
+            writer.cleanup()
+
+    return Writer
+
+
+def workbook_bytes(wb, fast: bool = True) -> bytes:
+    """The openpyxl workbook ``wb`` as XLSX bytes with fixed dates (same workbook, same bytes).
+
+    ``fast``: worksheets written by xlsxrows.RowsWriter (the same bytes as openpyxl's
+    own writer, which ``fast=False`` uses, with any xlsxrows.TextRows put in cells).
+    """
     from openpyxl.writer.excel import ExcelWriter
 
     wb.properties.created = FIXED_TIME
     wb.properties.modified = FIXED_TIME
+    if not fast:
+        from .xlsxrows import TextRows
+
+        for ws in wb.worksheets:
+            if TextRows.of(ws) is not None:
+                TextRows.of(ws).as_cells()
     buf = io.BytesIO()
     archive = FixedZip(buf, "w", zipfile.ZIP_DEFLATED, allowZip64=True)
-    ExcelWriter(wb, archive).save()
+    (_excel_writer() if fast else ExcelWriter)(wb, archive).save()
     return buf.getvalue()

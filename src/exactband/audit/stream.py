@@ -62,20 +62,13 @@ class Tally:
 
 
 def _order(todo) -> list:
-    """Task positions grouped by law (family, n, dispersion), the most demanding design of
-    a law first (most working digits, then smallest alpha), so that the next tasks on
-    the same worker find its tables in the high-precision solver's cache
-    (solvers.precise._table reuses a table of at least the precision and at most the
-    truncation threshold needed).  Only the order of work changes; results are put
-    back in row order."""
-    from ..solvers.precise import working_dps
+    """Task positions grouped by law, the most demanding design of a law first
+    (solving.law_order), so that the next tasks on the same worker find its tables
+    in the high-precision solver's cache.  Only the order of work changes; results
+    are put back in row order."""
+    from ..solving import law_order
 
-    def key(i):
-        row, _, precision = todo[i]
-        p = row.problem
-        dps = working_dps(precision, p.kind.name, p.low, p.high, p.alpha)
-        return (p.family.name, p.n, p.dispersion or 0.0, -dps, p.alpha, i)
-    return sorted(range(len(todo)), key=key)
+    return law_order([row.problem for row, _, _ in todo], todo[0][2] if todo else 0)
 
 
 class Judging:

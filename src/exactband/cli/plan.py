@@ -69,6 +69,8 @@ def text_report(r) -> str:
     fam = r.design.problem.family
     rule = {"randomised": "randomised rule", "conservative": "conservative rule",
             "digits": f"field rule with {r.random_digits} random digits"}[r.rule]
+    if not fam.discrete:  # real cutoffs: every rule is the one rule
+        rule = "rule (real cutoffs, no randomisation)"
     alts = ", ".join(number_text(a) for a in r.alternatives)
     lines = [f"Smallest {fam.n_word} (grid step {number_text(r.step)}) "
              f"with power >= {r.target:g} at "

@@ -17,6 +17,8 @@ their logs, the log density, tail quantiles, d/dtheta of the cdf and the score.
   20-point Gauss-Legendre quadrature of the closed-form derivatives; it tends
   to the point design's condition E[(Y - EY) phi] = 0 and never subtracts two
   nearly equal sizes.  Wide bands use log(size at low) - log(alpha).
+* band / point with alpha > 1/2: the acceptance window of mass 1 - alpha (the
+  equivalence search below, with 1 - alpha formed exactly from alpha's decimal).
 * equivalence: the rejection window (c1, c2); p = P_low(Y > c1) fixes c1, the
   window's mass alpha at high fixes c2, and the balance log P_low(W) -
   log P_high(W) (narrow: minus the quadrature of d/dtheta P_theta(W)) is
@@ -34,6 +36,8 @@ from dataclasses import dataclass
 
 import numpy as np
 from scipy.optimize import brentq
+
+from ..mpnum import float_complement
 
 NARROW = 0.5  # band width (in standard deviations of Y, measured in theta) below which the
 # side condition is taken as a difference quotient
@@ -272,6 +276,10 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     c1 = c2 = None
     if kind.rejects_inside:
         c1, c2 = _window(law, alpha, lo, hi)
+    elif kind.two_tailed and alpha > 0.5:
+        # rejecting outside [c1, c2] with size alpha at both points is accepting a window
+        # of mass 1 - alpha at both: the equivalence search keeps the short window's digits
+        c1, c2 = _window(law, float_complement(alpha), lo, hi)
     elif kind.two_tailed:
         c1, c2 = _two_tail(law, alpha, lo, hi)
     elif kind.uses_c2:

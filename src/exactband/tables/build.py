@@ -1,8 +1,9 @@
 """The build: every design of the grid solved fast, verified in high precision, derived.
 
 Data flow: spec -> grid.expand -> solving.fast_solve (whole grid, vectorised) ->
-solving.verify_many (precise solver + cross-check on all cores, in chunks saved to
-the resumable cache) -> per row the digit thresholds, the sizes of the digit
+solving.verify_many (precise solver + cross-check on all cores, designs grouped by
+law so each worker reuses its probability tables; saved CHUNK at a time to the
+resumable cache) -> per row the digit thresholds, the sizes of the digit
 rule and of the conservative rule (Design.thresholds / digit_rule /
 nonrandomized); then, if the spec has an [oc] table, the power values and OC
 curves it asks for (oc_build).  A disagreement between the solvers raises VerificationError
@@ -87,13 +88,26 @@ def build(spec: TableSpec, out_dir, *, workers=None, progress=None, log=None) ->
         log(f"resumed {len(done)} of {len(problems)} verified designs from the cache")
     if progress:
         progress(len(done), total=len(problems))
+    pending = []  # verified designs not yet saved: saved CHUNK at a time
+
+    def saved(idx, ds):
+        pending.extend(zip(idx, ds))
+        if len(pending) >= CHUNK:
+            flush()
+
+    def flush():
+        cache.save([d for _, d in pending])
+        done.update(pending)
+        pending.clear()
+
     try:
-        for start in range(0, len(todo), CHUNK):
-            idx = todo[start:start + CHUNK]
-            ds = solving.verify_many([problems[i] for i in idx], [sols[i] for i in idx],
-                                 spec.precision, workers=workers, progress=progress)
-            cache.save(ds)
-            done.update(zip(idx, ds))
+        # one pool for the whole grid, designs grouped by law (solving.law_batches):
+        # each worker builds a law's probability tables once
+        solving.verify_many([problems[i] for i in todo], [sols[i] for i in todo],
+                            spec.precision, workers=workers, progress=progress,
+                            saved=lambda pos, ds: saved([todo[j] for j in pos], ds))
+        if pending:
+            flush()
     except VerificationError:
         cache.clear()
         raise

@@ -144,7 +144,9 @@ def _checked(problem, sol, rec, precision: int, where: str) -> Design:
         if problem.family.discrete:
             dist = phi_distance(problem.kind.name, (d.c1, d.gamma1, d.c2, d.gamma2), sol)
         else:  # real cutoffs: the rules agree when the cutoffs do (ccheck.CUT_TOL)
-            dist = max((0.0 if abs(a - b) <= CUT_TOL * max(abs(a), 1e-300) * 4 else 1.0)
+            law = problem.family.continuous_float(problem.n, problem.dispersion)
+            floor = float(law.sd(problem.points[0])) if law.floor_scale else 0.0
+            dist = max((0.0 if abs(a - b) <= CUT_TOL * (abs(a) + floor) else 1.0)
                        for a, b in ((d.c1, sol[0]), (d.c2, sol[2])) if a is not None)
     except (KeyError, TypeError, ValueError) as e:
         raise CacheMismatch(f"{where}: malformed ({type(e).__name__})") from None

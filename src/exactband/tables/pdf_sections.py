@@ -13,13 +13,47 @@ from xml.sax.saxutils import escape
 from reportlab.lib import colors
 from reportlab.lib.styles import ParagraphStyle
 from reportlab.pdfbase.pdfmetrics import stringWidth
-from reportlab.platypus import NextPageTemplate, PageBreak, Paragraph, Table, TableStyle
+from reportlab.platypus import (
+    Flowable,
+    NextPageTemplate,
+    PageBreak,
+    Paragraph,
+    Table,
+    TableStyle,
+)
 
 from .pdf_kit import GREY, PAD, Geometry, Mark, para
 
 
-class Undrawn(Table):
-    """A table laid out but not drawn (the first pass only learns where things land)."""
+class _UndrawnTable(Table):
+    def draw(self):
+        pass
+
+
+class Undrawn(Flowable):
+    """A page's table in the first pass, which only learns where things land: its size
+    (a Table with every row height and column width given is exactly their sums),
+    nothing laid out or drawn; should it not fit, it splits as the table would."""
+
+    def __init__(self, data, colWidths, rowHeights, **kw):
+        super().__init__()
+        self._args = (data, colWidths, rowHeights, kw)
+        self._style = None
+        self.hAlign = kw.get("hAlign") or "CENTER"
+        self.width, self.height = sum(colWidths), sum(rowHeights)
+
+    def setStyle(self, style):
+        self._style = style
+
+    def wrap(self, availWidth, availHeight):
+        return self.width, self.height
+
+    def split(self, availWidth, availHeight):
+        data, cw, rh, kw = self._args
+        t = _UndrawnTable(data, colWidths=cw, rowHeights=rh, **kw)
+        t.setStyle(self._style)
+        t.wrap(availWidth, availHeight)
+        return t.split(availWidth, availHeight)
 
     def draw(self):
         pass
@@ -40,12 +74,17 @@ def _group_style(size: float) -> ParagraphStyle:
                           leading=size * 1.15, alignment=1)
 
 
-def _col_widths(section, size: float) -> list:
+def _col_texts(section) -> list:
+    """The distinct texts of each column (a width is the same for the same text)."""
+    return [{r[i].text for r in section.rows} for i in range(len(section.columns))]
+
+
+def _col_widths(section, size: float, texts=None) -> list:
     """Column widths that fit every cell on one line and each group label on two."""
     out = []
+    texts = _col_texts(section) if texts is None else texts
     for i, col in enumerate(section.columns):
-        wmax = max(stringWidth(r[i].text, "Helvetica", size) for r in section.rows) \
-            if section.rows else 0.0
+        wmax = max(stringWidth(t, "Helvetica", size) for t in texts[i]) if texts[i] else 0.0
         wmax = max(wmax, stringWidth(col.label, "Helvetica-Bold", size))
         out.append(wmax + 2 * PAD + 2)
     for label, a, b in _groups(section):
@@ -66,9 +105,10 @@ SIZES = ((False, 10.0), (False, 9.0), (True, 10.0), (True, 9.0), (True, 8.0), (T
 def _fit(section, geo: Geometry) -> tuple:
     """(landscape?, type size, column widths): portrait at 10 or 9 pt if the section
     fits, else landscape, smaller type only if even that is too narrow."""
+    texts = _col_texts(section)
     for land, size in SIZES:
         fw, _ = geo.frame(land)
-        widths = _col_widths(section, size)
+        widths = _col_widths(section, size, texts)
         if sum(widths) <= fw:
             break
     return land, size, _spread(widths, fw)
@@ -127,6 +167,31 @@ def _table_style(section, size, chunk_starts, nrows, shaded=()) -> TableStyle:
     return TableStyle(cmds)
 
 
+PER_CELL = ("FONT", "ALIGN", "VALIGN", "LEFTPADDING", "RIGHTPADDING", "TOPPADDING",
+            "BOTTOMPADDING")
+
+
+def shared_cell_styles(cmds, nrows: int, ncols: int) -> tuple:
+    """(cellStyles for Table, the other commands): reportlab applies a per-cell command
+    (font, alignment, padding) to every cell of its range, one cell at a time; when
+    each covers whole rows, the rows covered by the same commands share one CellStyle
+    made by applying them once (a Table draws the same from equal styles).  Otherwise
+    (None, cmds): reportlab applies them as usual."""
+    per = [c for c in cmds if c[0] in PER_CELL]
+    if any(c[1][0] != 0 or c[2][0] not in (-1, ncols - 1) for c in per):
+        return None, list(cmds)
+
+    spans = [tuple(r + nrows if r < 0 else r for r in (c[1][1], c[2][1])) for c in per]
+    made, rows = {}, []
+    for i in range(nrows):
+        key = tuple(k for k, (lo, hi) in enumerate(spans) if lo <= i <= hi)
+        if key not in made:
+            one = Table([[""]], style=[(per[k][0], (0, 0), (0, 0), *per[k][3:]) for k in key])
+            made[key] = one._cellStyles[0][0]
+        rows.append([made[key]] * ncols)
+    return rows, [c for c in cmds if c[0] not in PER_CELL]
+
+
 def band_index(section) -> list:
     """For each row of a section, the number of its band (or value), 0-based."""
     starts = set(section.group_starts)
@@ -173,10 +238,13 @@ def section_flowables(section, geo, pages, spec, table=Table) -> list:
         else:
             out += [Mark(section.number, pages)] + heading(section.heading)
         body = [[c.text for c in r] for r in chunk]
-        tab = table(header + body, colWidths=widths, rowHeights=[head0, row_h]
-                    + [row_h] * len(body), hAlign="LEFT")
         seps = [i - first for i in range(first + 1, first + len(chunk)) if i in starts]
-        tab.setStyle(_table_style(section, size, seps, len(body),
-                                  shaded_runs(section, first, len(chunk))))
+        style = _table_style(section, size, seps, len(body),
+                             shaded_runs(section, first, len(chunk)))
+        cells, rest = shared_cell_styles(style.getCommands(), len(header) + len(body),
+                                         len(widths))
+        tab = table(header + body, colWidths=widths, rowHeights=[head0, row_h]
+                    + [row_h] * len(body), hAlign="LEFT", cellStyles=cells)
+        tab.setStyle(TableStyle(rest))
         out.append(tab)
     return out

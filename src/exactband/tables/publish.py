@@ -76,10 +76,11 @@ def render(tset) -> dict:
     name = tset.spec.name
     sections = build_sections(tset)
     blocks = cover_blocks(tset, sections)
-    files = {f"{name}.csv": csv_bytes(tset), f"{name}.print.csv": print_csv_bytes(sections)}
+    files = {f"{name}.csv": csv_bytes(tset)}
     prov = provenance_rows(tset, sha256(files[f"{name}.csv"]))
     pdf = forked.start(pdf_bytes, tset, sections, blocks, prov)  # typeset beside the xlsx
     try:
+        files[f"{name}.print.csv"] = print_csv_bytes(sections)
         files[f"{name}.xlsx"] = xlsx_bytes(tset, sections, blocks, prov)
     except BaseException:
         pdf.cancel()

@@ -13,10 +13,12 @@ from __future__ import annotations
 from copy import copy
 
 from openpyxl import Workbook
+from openpyxl.cell.cell import Cell
 from openpyxl.styles import Alignment, Border, Font
 from openpyxl.utils import get_column_letter
 
 from ..fileio import safe_cell_text
+from ..xlsxrows import TextRows
 from ..xlsxzip import workbook_bytes
 from .write_csv import columns_for, csv_row
 from .xlsx_power import power_sheet
@@ -147,7 +149,10 @@ def _section(wb, tset, s) -> None:
 
 def _data(wb, tset) -> None:
     """Every design at full precision: columns as wide as their text, a rule under the
-    header and between bands, a page break before each printed table's rows."""
+    header and between bands, a page break before each printed table's rows.
+
+    The rows are TextRows (values and styles, written as openpyxl writes such cells;
+    no Cell per value): the decimals as text ("@"), a rule above each band."""
     from openpyxl.worksheet.pagebreak import Break
 
     ws = wb.create_sheet("Data")
@@ -157,34 +162,48 @@ def _data(wb, tset) -> None:
         c.font, c.alignment, c.border = BOLD, CENTER, Border(bottom=THIN)
     text = {"family", "kind", "gamma1_decimal", "gamma2_decimal"}
     numeric = {i for i, k in enumerate(COLUMNS) if k not in text}
+    decimal = [k.endswith("_decimal") for k in COLUMNS]
+    styles = {}  # rule above (None, MEDIUM, THIN) -> the style of each column
+
+    def row_styles(top):
+        if top not in styles:  # made when first needed: styles register in that order
+            styles[top] = [_style(ws, Border(top=top) if top else None, d) for d in decimal]
+        return styles[top]
+
+    rows = TextRows(ws)
     longest = [len(k) for k in COLUMNS]
     before = None
     for n, row in enumerate(tset.rows):
         vals = csv_row(row, tset.spec.random_digits)
-        ws.append([None if v == "" else (float(v) if "." in v or "e" in v else int(v))
-                   if i in numeric else v for i, v in enumerate(vals)])
         longest = [max(a, len(v)) for a, v in zip(longest, vals)]
         d = row.design
         table, group = (d.kind, d.alpha), (d.kind, d.alpha, d.points)
+        top = None
         if before is not None and group != before[1]:
-            r = n + 2  # the row just appended (ws.max_row, without scanning every cell)
-            for j in range(1, len(COLUMNS) + 1):
-                ws.cell(row=r, column=j).border = Border(top=MEDIUM if table != before[0]
-                                                         else THIN)
+            top = MEDIUM if table != before[0] else THIN
             if table != before[0]:
-                ws.row_breaks.append(Break(id=r - 1))  # each table on new pages
+                ws.row_breaks.append(Break(id=n + 1))  # each table on new pages
+        rows.add([None if v == "" else (float(v) if "." in v or "e" in v else int(v))
+                  if i in numeric else v for i, v in enumerate(vals)], row_styles(top))
         before = (table, group)
     for j, k in enumerate(COLUMNS, start=1):
         letter = get_column_letter(j)
         ws.column_dimensions[letter].width = min(40, max(8, longest[j - 1] + 2))
-        if k.endswith("_decimal"):
-            for (cell,) in ws.iter_rows(min_row=2, min_col=j, max_col=j):
-                cell.number_format = "@"
     ws.freeze_panes = "C2"
     ws.print_title_rows = "1:1"
     ws.print_title_cols = "A:C"
     page_setup(ws, tset.spec, True, "Data (full precision)")
     ws.page_setup.fitToWidth = 2  # 25 wide columns: two pages across keep them legible
+
+
+def _style(ws, border, text: bool):
+    """The style array of a cell with ``border`` and, if ``text``, the format "@"."""
+    proto = Cell(ws)  # never placed in the sheet: only its style is used
+    if border is not None:
+        proto.border = border
+    if text:
+        proto.number_format = "@"
+    return copy(proto._style)
 
 
 def _digits(wb, tset) -> None:
