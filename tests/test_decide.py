@@ -178,6 +178,19 @@ def test_table_thresholds_are_used_as_printed(tmp_path, band):
         table_rule(p, 1)
 
 
+def test_table_gamma_outside_zero_one_is_refused(tmp_path, band):
+    p = tmp_path / "t.csv"
+    write_table(p, [band])
+    rows = list(csv.reader(open(p, encoding="utf-8")))
+    for bad in ("1.0", "-0.25", "1.5"):
+        rows[1][COLUMNS.index("gamma1")] = bad
+        with open(p, "w", newline="", encoding="utf-8") as fh:
+            csv.writer(fh).writerows(rows)
+        with pytest.raises(DecideError, match=rf"row 1: invalid gamma1 = {float(bad)}: a number "
+                                              r"in \[0, 1\)$"):
+            table_rule(p, 1)
+
+
 def test_table_bad_input(tmp_path, table):
     with pytest.raises(DecideError, match="row = 9"):
         table_rule(table, 9)
