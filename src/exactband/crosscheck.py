@@ -135,6 +135,7 @@ def tolerances(kind: str, alpha, precise) -> tuple:
             c = c2 if k.uses_c2 else c1
             f = float(T[0].pmf(c))
             dg = eps * (2.0 * min(a, 1.0 - a) + f) / f if f > 0 else 1.0
+            kappa = dg / eps
             fmax = f
         else:
             s = 1.0 - a if k.rejects_inside else a
@@ -156,15 +157,21 @@ def tolerances(kind: str, alpha, precise) -> tuple:
                 e2 = 2.0 * eps * (dF + dS + abs(d1) + abs(d2))
             e1 = eps * (s + f1 + f2)
             det = abs(f1 * d2 - f2 * d1)
-            if det > 0:
-                dg = max((abs(d2) * e1 + f2 * e2) / det, (abs(d1) * e1 + f1 * e2) / det)
-            else:
-                dg = 1.0
+
+            def bound(e1, e2):
+                if det > 0:
+                    return max((abs(d2) * e1 + f2 * e2) / det, (abs(d1) * e1 + f1 * e2) / det)
+                return 1.0
+
+            dg = bound(e1, e2)
+            # the floor's condition number: the right sides relative to the size itself
+            # (an equivalence design is refined from its window's masses, not 1 - alpha)
+            kappa = bound(min(a, 1.0 - a) + f1 + f2, e2 / eps) if eps > 0 else 0.0
             fmax = max(float(t.pmf(c1) + t.pmf(c2)) for t in T)
         cuts = [c for c in (c1, c2) if c is not None]
         sigma = max(input_sensitivity(t.law, c) for t in T for c in cuts)
     phi_tol = min(PHI_TOL, SAFETY * dg + GAMMA_CLIP)
-    floor = floor_dg(dg / eps, sigma) if eps > 0 else 0.0
+    floor = floor_dg(kappa, sigma)
     if floor > PHI_TOL:  # no double computation reaches PHI_TOL (module doc)
         phi_tol = min(PHI_CEIL, floor)
     size_tol = min(SIZE_TOL * a, phi_tol * fmax + 1e-15 * a)
