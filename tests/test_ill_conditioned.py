@@ -77,3 +77,60 @@ def test_floor_still_catches_a_wrong_cutoff():
         assert not cc.agree
     off = (sol[0], sol[1], sol[2], sol[3] + 0.02)  # gamma off by more than the ceiling
     assert not compare("upper", p.alpha, off, pd, 50).agree
+
+
+# -- the float mass of a negative binomial with a huge size r ------------------------------
+@pytest.mark.parametrize("y,r,m", [
+    (323675086.0, 7.85813e18, 3.2394740e8),   # the lower design below, at its cutoff
+    (201557533.0, 3.0087657408480104e19, 201224419.39),
+    (7468650000.0, 1.09e19, 7.47e9),
+    (2154124715342.0, 0.05, 1e9),
+    (3.0, 11.644, 6.3613),
+])
+def test_float_mass_keeps_its_digits(y, r, m):
+    from exactband.families.negbinomial import NegBinomialLaw
+
+    got = float(NegBinomialLaw.logpmf(y, (r, m)))
+    # reference: mpmath.loggamma at 50 digits, log pmf = lgamma(y + r) - lgamma(r)
+    # - lgamma(y + 1) + r log(r / (r + m)) + y log(m / (r + m))
+    with mp.workdps(50):
+        R, M, Y = mp.mpf(r), mp.mpf(m), mp.mpf(y)
+        ref = (mp.loggamma(Y + R) - mp.loggamma(R) - mp.loggamma(Y + 1)
+               + R * mp.log(R / (R + M)) + Y * mp.log(M / (R + M)))
+        err = abs(mp.expm1(mp.mpf(got) - ref))
+    # relative error of the mass within 64 units of roundoff times max(1, |log pmf|)
+    assert err < 64 * 2.0 ** -53 * max(1.0, abs(float(ref)))
+
+
+def mp_lower_size(d, theta) -> mp.mpf:
+    """E_theta phi of a lower design, masses summed down from c1 at 30 digits.
+
+    Source: the negative-binomial mass from mpmath.loggamma at c1, then the exact
+    ratio pmf(y - 1)/pmf(y) = y (r + m)/((y - 1 + r) m), summed until a term is
+    below 1e-25 of the sum (the ratios decrease to the left, so the rest is smaller
+    still). mpmath.betainc is too slow at r ~ 1e19.
+    """
+    with mp.workdps(30):
+        r = mp.mpf(d.n) * mp.mpf(repr(d.problem.dispersion))
+        m = mp.mpf(d.n) * mp.mpf(repr(theta))
+        c = d.c1
+        p = mp.exp(mp.loggamma(c + r) - mp.loggamma(r) - mp.loggamma(c + 1)
+                   + r * mp.log(r / (r + m)) + c * mp.log(m / (r + m)))
+        size = mp.mpf(d.gamma1_decimal) * p
+        y = c
+        while y > 0:
+            p = p * y * (r + m) / ((y - 1 + r) * m)
+            y -= 1
+            size += p
+            if p < size * mp.mpf(10) ** -25:
+                break
+        return size
+
+
+def test_huge_size_lower_design_verifies():
+    # refused before (|phi difference| 0.63: the float mass lost y's digits in y + r)
+    kw = dict(n=4306, value=36630.0, dispersion=7.39e15, alpha=7.08e-25)
+    d = api.design(NB, "lower", verify=True, **kw)
+    assert d.verified and d.check.agree and d.check.max_phi_diff <= PHI_TOL
+    assert 0.0 <= d.gamma1 < 1.0
+    assert abs(mp_lower_size(d, kw["value"]) / mp.mpf(repr(kw["alpha"])) - 1) < 1e-9
