@@ -61,7 +61,20 @@ class FloatLaw:
     @classmethod
     def quantile_guess(cls, prob, P):
         """Cornish-Fisher guess of min{c : F(c) > prob} (any error is corrected later)."""
-        z = sp.ndtri(np.clip(prob, 1e-300, 1 - 1e-16))
+        return cls._cf_guess(sp.ndtri(np.clip(prob, 1e-300, 1 - 1e-16)), P)
+
+    @classmethod
+    def upper_quantile_guess(cls, tail, P):
+        """Cornish-Fisher guess of min{c : S(c) <= tail}, from the right tail's own mass.
+
+        1 - tail rounds to 1 below tail ~ 1e-16, so quantile_guess(1 - tail) cannot
+        place a right tail of size 1e-20 (it stopped at 8 sd, and the two-tailed
+        search of a band at a tiny alpha then started from an empty left tail).
+        """
+        return cls._cf_guess(-sp.ndtri(np.clip(tail, 1e-300, 1 - 1e-16)), P)
+
+    @classmethod
+    def _cf_guess(cls, z, P):
         mean, var, skew = cls.moments(P)
         sd = np.sqrt(var)
         x = mean + sd * (z + skew * (z * z - 1.0) / 6.0)

@@ -47,7 +47,7 @@ def initial_split(L, Pl, Ph, s):
     for _ in range(3):
         c1 = L.quantile_guess(a, Pl)
         ah = L.cdf(c1 - 1.0, Ph)
-        c2 = L.quantile_guess(1.0 - np.maximum(s - ah, 1e-300), Ph)
+        c2 = L.upper_quantile_guess(np.maximum(s - ah, 1e-300), Ph)
         a = s - L.sf(c2, Pl)
     return np.clip(a, 0.0, s)
 
@@ -104,7 +104,7 @@ def two_tailed(L, Pl, Pr, second, s, a0, b=None):
         "alo": np.zeros(size), "ahi": s.copy(),
         "qlo": np.full(size, np.nan), "qhi": np.full(size, np.nan),
         "qprev": np.full(size, np.inf), "side": np.zeros(size),
-        "c1": L.quantile_guess(a0, Pl), "c2": L.quantile_guess(1.0 - (s - np.asarray(a0)), Pr),
+        "c1": L.quantile_guess(a0, Pl), "c2": L.upper_quantile_guess(s - np.asarray(a0), Pr),
         "zero": np.zeros(size), "top": np.minimum(L.supmax(Pl), BIG),
         "b": None if b is None else np.asarray(b, float),
     }
