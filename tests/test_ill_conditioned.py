@@ -75,7 +75,7 @@ def test_floor_still_catches_a_wrong_cutoff():
         wrong = (sol[0], sol[1], sol[2] + shift, sol[3])
         cc = compare("upper", p.alpha, wrong, pd, 50)
         assert not cc.agree
-    off = (sol[0], sol[1], sol[2], sol[3] + 0.02)  # gamma off by more than the ceiling
+    off = (sol[0], sol[1], sol[2], sol[3] + 0.002)  # gamma off by more than the ceiling
     assert not compare("upper", p.alpha, off, pd, 50).agree
 
 

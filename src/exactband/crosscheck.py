@@ -45,7 +45,7 @@ SIZE_TOL = 1e-9  # cap of the per-design size tolerance, relative to alpha
 SAFETY = 64.0  # unmodelled error: quadrature, iteration stop, rounding of the system
 GAMMA_CLIP = 1e-12  # the fast solver accepts gammas in [-1e-12, 1 + 1e-12] and clips
 LAW_EPS = 2e-14  # relative error of the float laws for a spread (sd) up to 100
-PHI_CEIL = 1e-2  # ceiling of the phi tolerance of an ill-conditioned gamma (floor_dg)
+PHI_CEIL = 1e-3  # ceiling of the phi tolerance of an ill-conditioned gamma (floor_dg)
 UNIT_ROUNDOFF = 2.0 ** -53
 
 
