@@ -25,11 +25,24 @@ def exact(x) -> Decimal:
     return Decimal(repr(float(x)))
 
 
+_DEC: dict = {}  # (type, x, working precision) -> mpf: a grid reads the same few numbers
+
+
 def dec(x):
     """mpf of the decimal a float prints as; ints stay exact."""
-    if isinstance(x, int):
-        return mp.mpf(x)
-    return mp.mpf(str(exact(x)))
+    key = (type(x), x, mp.mp.prec)
+    try:
+        return _DEC[key]
+    except (KeyError, TypeError):  # TypeError: an unhashable number type
+        pass
+    v = mp.mpf(x) if isinstance(x, int) else mp.mpf(str(exact(x)))
+    if len(_DEC) > 4096:
+        _DEC.clear()
+    try:
+        _DEC[key] = v
+    except TypeError:
+        pass
+    return v
 
 
 def dec_complement(x):
