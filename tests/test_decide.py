@@ -178,6 +178,19 @@ def test_table_thresholds_are_used_as_printed(tmp_path, band):
         table_rule(p, 1)
 
 
+def test_table_gamma_outside_zero_one_is_refused(tmp_path, band):
+    p = tmp_path / "t.csv"
+    write_table(p, [band])
+    rows = list(csv.reader(open(p, encoding="utf-8")))
+    for bad in ("1.0", "-0.25", "1.5"):
+        rows[1][COLUMNS.index("gamma1")] = bad
+        with open(p, "w", newline="", encoding="utf-8") as fh:
+            csv.writer(fh).writerows(rows)
+        with pytest.raises(DecideError, match=rf"row 1: invalid gamma1 = {float(bad)}: a number "
+                                              r"in \[0, 1\)$"):
+            table_rule(p, 1)
+
+
 def test_table_bad_input(tmp_path, table):
     with pytest.raises(DecideError, match="row = 9"):
         table_rule(table, 9)
@@ -193,6 +206,12 @@ def test_table_bad_input(tmp_path, table):
         table_rule(bad, 1)
     with pytest.raises(DecideError, match="existing table"):
         table_rule(tmp_path / "nope.csv", 1)
+    for d in (0, 10, "12"):  # the random digits asked for: 1 to 9, the value named as given
+        with pytest.raises(DecideError, match=rf"row 1: invalid random-digits = {d}: a whole "
+                                              "number 1 to 9$"):
+            table_rule(table, 1, random_digits=d)
+    tr = table_rule(table, 1, random_digits=9)  # in range: taken, the table's 3 noted
+    assert tr.random_digits == 9 and tr.table_random_digits == 3
 
 
 # -- the command ---------------------------------------------------------------------

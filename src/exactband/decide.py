@@ -17,6 +17,7 @@ from dataclasses import dataclass
 from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid, recast
 from .numtext import number_text
+from .rule import check_random_digits
 from .words import gamma_text, side_words
 
 MODES = ("randomised", "conservative")
@@ -254,14 +255,11 @@ def decide(design: Design, y, *, rule="randomised", digits_read=None, random_dig
     yy = check_count(design, y)
     need = None
     if random_digits is not None:
-        from .strict import whole
-
         try:
-            need = whole("random-digits", random_digits, "a whole number from 1 to 9")
+            need = check_random_digits(random_digits, "random-digits",
+                                       "a whole number from 1 to 9", text=True)
         except ExactbandError as e:
             raise recast(e, DecideError) from None
-        if not 1 <= need <= 9:
-            raise invalid("random-digits", random_digits, "a whole number from 1 to 9", DecideError)
     text = None if digits_read is None else check_digits_text(digits_read, need)
     d = need if need is not None else (len(text) if text is not None else DEFAULT_RANDOM_DIGITS)
     notes = ()

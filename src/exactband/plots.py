@@ -369,8 +369,9 @@ def draw_oc_page(charts, *, rules, curve="oc", random_digits=DEFAULT_RANDOM_DIGI
             ax.set_ylim(-0.02, 1.02)
             ax.grid(True, color="0.85", linewidth=0.5)
             sep = ", " if len(rules) < 3 else "\n"  # three columns: too narrow for one line
-            ax.set_title(f"{SHORT_RULE[rule].format(d=random_digits)}{sep}"
-                         f"alpha = {number_text(group[0].alpha)}", fontsize=8.5)
+            name = (SHORT_RULE[rule].format(d=random_digits)
+                    if group[0].problem.family.discrete else "the rule (real cutoffs)")
+            ax.set_title(f"{name}{sep}alpha = {number_text(group[0].alpha)}", fontsize=8.5)
             ax.tick_params(labelsize=7.5)
             if c == 0:
                 ax.set_ylabel(_y_label(col), fontsize=8)

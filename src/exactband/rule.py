@@ -83,7 +83,8 @@ def _cutoff(field: str, c):
         raise invalid(field, c, "a cutoff is a finite number")
 
 
-def _gamma(field: str, g):
+def check_gamma(field: str, g) -> None:
+    """A gamma of a Rule: a real number in [0, 1) (DesignError naming ``field``)."""
     allowed = "a randomisation probability in [0, 1)"
     _real(field, g, allowed)
     if not 0 <= g < 1:  # compared as given: an mpmath gamma just below 1 is fine
@@ -121,7 +122,7 @@ class Rule:
                 raise invalid(f"c{i}", None, f"the {kind.name} kind needs c{i}")
             _cutoff(f"c{i}", c)
             if not _missing(g):
-                _gamma(f"gamma{i}", g)
+                check_gamma(f"gamma{i}", g)
 
     def __repr__(self) -> str:
         return (f"Rule({self.kind.name!r}, {self.c1!r}, {self.gamma1!r}, {self.c2!r}, "

@@ -19,7 +19,7 @@ from .decide import DecideError
 from .design import DEFAULT_RANDOM_DIGITS, Design
 from .errors import ExactbandError, invalid, recast
 from .params import make_problem
-from .rule import threshold
+from .rule import check_gamma, check_random_digits, threshold
 
 REQUIRED = ("family", "kind", "n", "alpha", "low", "high", "value", "dispersion", "c1", "gamma1",
             "c2", "gamma2")
@@ -177,9 +177,13 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
     for name, c, g, used in (("1", c1, g1, kind.uses_c1), ("2", c2, g2, kind.uses_c2)):
         if used and (c is None or g is None):
             raise DecideError(f"{where}: the {kind.name} kind needs c{name} and gamma{name}")
-        if used and not 0.0 <= g < 1.0:
-            raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)",
-                              field=f"gamma{name}", value=g, allowed="a number in [0, 1)")
+        if used:
+            try:  # the Rule's check of a gamma; the message names the row
+                check_gamma(f"gamma{name}", g)
+            except ExactbandError:
+                raise DecideError(f"{where}: invalid gamma{name} = {g}: a number in [0, 1)",
+                                  field=f"gamma{name}", value=g,
+                                  allowed="a number in [0, 1)") from None
         if used and c < 0:
             raise DecideError(f"{where}: invalid c{name} = {c}: a whole number >= 0",
                               field=f"c{name}", value=c, allowed="a whole number >= 0")
@@ -205,9 +209,12 @@ def table_rule(path, row=None, random_digits=None, **filters) -> TableRule:
     for source, value in (("random_digits", col), ("random-digits", random_digits)):
         if value is not None:
             dd = _number(where, source, str(value), whole=True)
-            if not 1 <= dd <= 9:
+            try:  # the one range check of random digits; the message names the cell as read
+                check_random_digits(dd, source)
+            except ExactbandError:
                 raise DecideError(f"{where}: invalid {source} = {value}: a whole number 1 to 9",
-                                  field=source, value=value, allowed="a whole number 1 to 9")
+                                  field=source, value=value,
+                                  allowed="a whole number 1 to 9") from None
             if source == "random_digits":
                 d = dd
             else:
