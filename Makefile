@@ -3,6 +3,8 @@
 # when pyproject.toml changed since the last install.
 
 PYTHON ?= python3
+# test processes (pytest-xdist); `make test TEST_WORKERS=0` runs the suite in this one
+TEST_WORKERS ?= 2
 VENV   := .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed
@@ -22,7 +24,7 @@ demo: install
 
 test: install
 	$(PY) -m ruff check src tests bench
-	$(PY) -m pytest
+	$(PY) -m pytest -n $(TEST_WORKERS)
 
 bench: install
 	$(PY) bench/run.py
