@@ -64,8 +64,10 @@ def die_with_parent(parent: int) -> None:
         os._exit(1)
 
 
-def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64, each=None) -> list:
-    """[fn(t) for t in tasks] in order, on ``workers`` processes when there are enough tasks.
+def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64, each=None,
+         min_tasks: int = 8) -> list:
+    """[fn(t) for t in tasks] in order, on ``workers`` processes when there are at least
+    ``min_tasks`` tasks (fewer are done here).
 
     ``fn`` must be a module-level function (it is pickled); ``progress(1)`` and
     ``each(k, result)`` are called as the results arrive, in order.
@@ -73,7 +75,7 @@ def pmap(fn, tasks, workers=None, progress=None, max_chunk: int = 64, each=None)
     tasks = list(tasks)
     workers = resolve_workers(workers, len(tasks))
     out = []
-    if workers == 1 or len(tasks) < 8:
+    if workers == 1 or len(tasks) < min_tasks:
         for k, t in enumerate(tasks):
             out.append(fn(t))
             if each:

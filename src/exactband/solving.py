@@ -260,7 +260,8 @@ def verify_many(problems, sols, precision, workers=None, progress=None, saved=No
             progress(len(ds))
 
     results = pmap(_verify_batch, [([(problems[i], sols[i]) for i in idx], precision)
-                                   for idx in batches], w, max_chunk=1, each=arrived)
+                                   for idx in batches], w, max_chunk=1, each=arrived,
+                   min_tasks=2 if len(problems) >= 8 else 8)  # as many designs as before
     out = [None] * len(problems)
     for idx, ds in zip(batches, results):
         for i, d in zip(idx, ds):
