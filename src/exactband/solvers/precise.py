@@ -126,6 +126,9 @@ class _Band:
         T = self.Tl
         return T.pmf(c1), T.pmf(c2), self.s - T.cdf(c1 - 1) - T.sf(c2)
 
+    def flat(self, c, g):
+        return self.residual(c, g, c, _ZERO)
+
 
 class _Moment:
     """s E[Y] - E[Y phi] at the point (second condition of the point design)."""
@@ -143,6 +146,16 @@ class _Moment:
         T = self.T
         return (c1 * T.pmf(c1), c2 * T.pmf(c2),
                 self.target - T.moment_below(c1 - 1) - T.moment_above(c2))
+
+    def flat(self, c, g):
+        """The residual of the test that accepts at c only (phi(c) = g) and has size s.
+
+        Then E[Y phi] = E[Y] - c (1 - s), so the residual is (1 - s)(c - E[Y]) in
+        closed form: zero when the mean is the integer c.  Summed from the moments
+        it would be a difference of numbers the size of the mean, whose rounding
+        can give a tie at that breakpoint either sign.
+        """
+        return (1 - self.s) * (c - self.T.law.mean)
 
 
 def _largest(pred, lo, hi):
@@ -213,6 +226,8 @@ def _two_tailed(Tl, Tr, cond, s, tol):
         g1 = (base - Tr.sf(kk)) / f1r
         if g1 > g1_max:
             return True
+        if kk == j:  # the test accepts at j only
+            return cond.flat(j, g1) >= 0
         return cond.residual(j, g1, kk, _ZERO) >= 0
 
     k = _smallest(crossed, k_lo, max(k_lo, k_hi))
