@@ -47,7 +47,7 @@ def mp_size(d, theta) -> mp.mpf:
         return below + g * pmf(c)
 
 
-# refused before (notes/nb.md; the scratch draw of notes/nbfast.md)
+# refused before (the corner validation and a scratch draw over the documented range)
 CASES = [
     ("upper", dict(n=1, value=1e9, dispersion=0.05, alpha=1e-50)),
     ("upper", dict(n=1, value=1e9, dispersion=0.05, alpha=1e-100)),

@@ -4,7 +4,7 @@ The fast search started its right tail from quantile_guess(1 - tail): 1 - tail i
 1 in double below tail ~ 1e-16, the guess stopped ~8 sd out, the start split put
 the whole size on the right and the left tail at 0, and the search never moved
 ("fast solver did not converge"). Found by a random draw at alpha 1e-100..1e-30
-(notes/nbfast.md): 9 of 200 Poisson and 5 of 200 binomial designs.
+(a scratch draw over the documented range): 9 of 200 Poisson and 5 of 200 binomial designs.
 """
 
 from __future__ import annotations

@@ -67,7 +67,7 @@ def check_precision(value) -> int:
 
 def check_needed(args) -> None:
     """The options the chosen kind and family need, named as options when absent:
-    'missing: the band kind needs --high'."""
+    'missing --high: the band kind needs it'."""
     from ..families import get_family
     from ..kinds import get_kind
     from . import UsageError
@@ -77,9 +77,10 @@ def check_needed(args) -> None:
     fam, kind = get_family(args.family), get_kind(args.kind)
     for name in kind.takes:
         if getattr(args, name, None) is None:
-            raise UsageError(f"missing: the {kind.name} kind needs --{name}")
+            raise UsageError(f"missing --{name}: the {kind.name} kind needs it")
     if fam.uses_dispersion and getattr(args, "dispersion", None) is None:
-        raise UsageError(f"missing: the {fam.name} family needs --dispersion")
+        raise UsageError(f"missing --dispersion: the {fam.name} family needs a known "
+                         f"{fam.dispersion_word}, a finite number > 0")
 
 
 def design_kwargs(args) -> dict:
