@@ -127,17 +127,7 @@ def judge_row(row, rec: Recomputed, modes) -> Verdict:
         if bad:
             v.reasons.append("gamma")
             v.details.extend(bad)
-    if not P.size_ok(rec.excess, p.alpha):
-        worst = max(range(len(rec.sizes)), key=lambda j: rec.sizes[j])
-        names = ("low", "high") if p.kind.two_point else ("value",)
-        pt = p.points[worst]
-        v.reasons.append("size")
-        v.details.append(f"their printed numbers give size {rec.sizes[worst]:.6g} at "
-                         f"{names[worst]} = {pt:g}, above alpha = {p.alpha:g} by "
-                         f"{rec.excess:.6g} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
-    if v.reasons:
-        v.verdict = "finding"
-    return v
+    return _size_finding(v, rec, "numbers")
 
 
 def cut_allowance(num, exact: Decimal) -> Decimal:
@@ -151,7 +141,6 @@ def cut_allowance(num, exact: Decimal) -> Decimal:
 def _judge_real(row, rec: Recomputed) -> Verdict:
     """A rule with real cutoffs: each printed cutoff within one unit of its last printed
     decimal of the optimal cutoff, and the size the printed cutoffs attain at most alpha."""
-    p = row.problem
     v = Verdict(row, "ok", ours=rec.ours, ours_text=rec.ours_text, sizes=rec.sizes,
                 excess=rec.excess)
     bad = []
@@ -165,11 +154,18 @@ def _judge_real(row, rec: Recomputed) -> Verdict:
     if bad:
         v.reasons.append("cutoff")
         v.details.append("wrong cutoff: " + ", ".join(bad))
+    return _size_finding(v, rec, "cutoffs")
+
+
+def _size_finding(v: Verdict, rec: Recomputed, what: str) -> Verdict:
+    """Add the size finding when the printed rule's size passes alpha (beyond the
+    policy's allowance); a verdict with any reason is a finding."""
+    p = v.row.problem
     if not P.size_ok(rec.excess, p.alpha):
         worst = max(range(len(rec.sizes)), key=lambda j: rec.sizes[j])
         names = ("low", "high") if p.kind.two_point else ("value",)
         v.reasons.append("size")
-        v.details.append(f"their printed cutoffs give size {rec.sizes[worst]:.6g} at "
+        v.details.append(f"their printed {what} give size {rec.sizes[worst]:.6g} at "
                          f"{names[worst]} = {p.points[worst]:g}, above alpha = {p.alpha:g} by "
                          f"{rec.excess:.6g} ({100 * rec.excess / p.alpha:.3g}% of alpha)")
     if v.reasons:
