@@ -4,7 +4,15 @@ from __future__ import annotations
 
 import sys
 
-from .common import add_command, add_workers_option, check_precision, check_workers
+from .common import (
+    DISPERSION_HELP,
+    FAMILY_HELP,
+    KIND_HELP,
+    add_command,
+    add_workers_option,
+    check_precision,
+    check_workers,
+)
 
 EXAMPLE = """\
 examples:
@@ -21,6 +29,9 @@ A mapping file is TOML: optional family / kind / dispersion / decimal_mark keys 
 Verdicts: ok only when the cutoffs are exact, each gamma agrees within the decimals
 its cell prints (rounded or truncated: inferred per column, or --gamma-rounding), and
 the size the row's printed numbers attain is at most alpha (tolerance 1e-12 of alpha).
+Families with real cutoffs (continuous Y, no gamma columns): ok when each printed
+cutoff lies within one unit of its last printed decimal of the optimal one and the
+size the printed cutoffs attain is at most alpha (same tolerance).
 finding: cutoff, gamma, size (with a diagnosis such as equal-tailed, end-anchored
 tails, conservative non-randomised, gammas rounded or truncated to k decimals, gammas
 or cutoff columns swapped, cutoff convention shifted by one, neighbouring n or alpha);
@@ -44,9 +55,11 @@ def add_parser(sub) -> None:
     g.add_argument("--map", action="append", metavar="OURS=THEIRS", default=[],
                    help="their column name for a standard column (repeat as needed)")
     g.add_argument("--mapping", metavar="FILE", help="TOML mapping file (see below)")
-    g.add_argument("--family", metavar="NAME", help="family of every row (no family column)")
-    g.add_argument("--kind", metavar="KIND", help="kind of every row (no kind column)")
-    g.add_argument("--dispersion", metavar="K", help="dispersion of every row (negative-binomial)")
+    g.add_argument("--family", metavar="NAME", help="family of every row, when the file has no family column; "
+                   + FAMILY_HELP)
+    g.add_argument("--kind", metavar="KIND", help="kind of every row, when the file has no kind column; " + KIND_HELP)
+    g.add_argument("--dispersion", metavar="K", help="dispersion of every row, when the file has no dispersion "
+                   "column; " + DISPERSION_HELP)
     g.add_argument("--decimal-mark", metavar="M", choices=[".", ","],
                    help="decimal mark of the file ('.' or ','), when the cells do not show it")
     g.add_argument("--sheet", metavar="NAME", help="XLSX sheet to read (default: the first)")
