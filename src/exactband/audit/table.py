@@ -73,6 +73,15 @@ class Options:
     encoding: str = "utf-8"
 
 
+def _continuous_only(constants) -> bool:
+    """Whether every row's family, given once for the file, has a continuous Y."""
+    name = constants.get("family")
+    try:
+        return name is not None and not get_family(name).discrete
+    except DesignError:
+        return False  # an unknown family is reported row by row
+
+
 def load(path, opts: Options) -> Table:
     """Read and check a whole file into memory (refused beyond opts.max_rows data rows)."""
     table, chunks = open_table(path, opts)
@@ -138,7 +147,9 @@ def open_table(path, opts: Options):
             yield out
 
     notes = list(src.notes)
-    if "gamma1" not in pos and "gamma2" not in pos:
+    if _continuous_only(opts.constants):
+        pass  # real cutoffs: no randomisation to read
+    elif "gamma1" not in pos and "gamma2" not in pos:
         notes.append("no gamma columns: the table is read as non-randomised (every gamma 0)")
     else:
         for c, g in (("c1", "gamma1"), ("c2", "gamma2")):
