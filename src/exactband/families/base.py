@@ -63,6 +63,13 @@ Laws (independent implementations: they never share probability code):
   independent reference the audit's other constructions (one-sided tails) use.
 * ``natural_delta(lo, hi, n, k)``: the difference of the fast law's working
   parameter t between two thetas (the width of a band on t's scale).
+* ``log_ratio_line(lo, hi, n, k)``: the log ratio of the two laws,
+  log f_hi(y) - log f_lo(y) = s (y - y*), as (s, y0, d) with y* = y0 + d, y0 a
+  whole number: s = eta(hi) - eta(lo) and y* = (A(hi) - A(lo)) / s (natural
+  parameter eta, log-partition A) from the exact decimals, so that y* - c is
+  right to a few units of roundoff of (y* - mean) for an integer c near y*
+  however large the mean. Used by the fast solver only (None: not provided).
+  *Discrete only.*
 * ``reflects``: True when Y -> support_max - Y with theta -> 1 - theta maps the
   family onto itself (the binomial); the fast solver then solves theta > 1/2 in
   the mirror image. *Discrete only.*
@@ -207,3 +214,7 @@ class Family:
     def natural_delta(self, lo, hi, n, k):  # pragma: no cover
         """The difference of the float law's working parameter t between theta lo and hi."""
         raise NotImplementedError
+
+    def log_ratio_line(self, lo, hi, n, k):
+        """(s, y0, d): log f_hi(y) - log f_lo(y) = s (y - y0 - d) (module doc); None here."""
+        return None

@@ -17,7 +17,7 @@ from ..mpnum import dec, frac
 from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import FloatLaw, as_float
+from .floatlaw import FloatLaw, as_float, exact_mean_width, x_minus_log1p
 
 SUM_TOP = 6000  # largest support point summed term by term (huge size r)
 
@@ -265,6 +265,24 @@ class NegBinomial(Family):
 
     def natural_delta(self, lo, hi, n, k):
         return n * (hi - lo)
+
+    def log_ratio_line(self, lo, hi, n, k):
+        """eta = log(m / (r + m)), A = r log1p(m / r) (size r = n k, mean m = n lo).
+
+        With dm = n (hi - lo), a = dm / (r + m), b = r dm / (m (r + m + dm)):
+        s = log1p(b) and y* - m = (r log1p a - m s) / s, where
+        r log1p a - m s = r dm^2 / ((r + m)(r + m + dm)) - r (a - log1p a) + m (b - log1p b)
+        (since r a - m b is the first term): no cancellation beyond a factor ~2.
+        m and dm from the decimals (``exact_mean_width``).
+        """
+        whole, rest, dm = exact_mean_width(n, lo, hi)
+        m = whole + rest
+        r = np.asarray(n, dtype=float) * np.asarray(k, dtype=float)
+        a = dm / (r + m)
+        b = r * dm / (m * (r + m + dm))
+        s = np.log1p(b)
+        top = r * dm * dm / ((r + m) * (r + m + dm)) - r * x_minus_log1p(a) + m * x_minus_log1p(b)
+        return s, whole, rest + top / s
 
     @staticmethod
     def poisson_limit(n, k, theta_max) -> bool:

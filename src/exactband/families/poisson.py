@@ -12,7 +12,7 @@ from ..mpnum import dec, frac
 from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import FloatLaw, as_float
+from .floatlaw import FloatLaw, as_float, exact_mean_width, x_minus_log1p
 
 
 def _lower_gamma_cf(a, x, nmax: int = 300):
@@ -188,6 +188,17 @@ class Poisson(Family):
 
     def natural_delta(self, lo, hi, n, k):
         return n * (hi - lo)
+
+    def log_ratio_line(self, lo, hi, n, k):
+        """eta = log mu, A = mu: s = log1p(a), y* - mu = mu (a - log1p a) / s, a = dmu / mu.
+
+        mu = n lo and dmu = n (hi - lo) from the decimals (``exact_mean_width``).
+        """
+        whole, rest, dmu = exact_mean_width(n, lo, hi)
+        mu = whole + rest
+        a = dmu / mu
+        s = np.log1p(a)
+        return s, whole, rest + mu * x_minus_log1p(a) / s
 
 
 POISSON = Poisson(

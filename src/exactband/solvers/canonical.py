@@ -5,8 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from ..kinds import KINDS
-from .conditions import GL_MAX_SPREAD
-from .twotailed import GAMMA_TOL, MIDDLE_SUM
+from .conditions import GL_MAX_SPREAD, line_rows
+from .twotailed import GAMMA_TOL, MIDDLE_SUM, WINDOW_SUM
 
 
 def canonical_band(c1, g1, c2, g2):
@@ -68,9 +68,11 @@ def refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
         h2 = (f1 * r2 - d1 * r1) / det
     lo_ok = -GAMMA_TOL
     # alpha near 1: the window holds almost all the mass; the complement's gammas
-    # (band form of size 1 - alpha, small) are then the accurate ones
+    # (band form of size 1 - alpha, small) are then the accurate ones; so are the
+    # gammas the search took from the window's log-ratio line (twotailed._line_system)
+    line = line_rows(diff, L, Pl, c1, c2, (alpha < 0.5) & (c2 - c1 <= WINDOW_SUM))
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
-          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5))
+          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5) & ~line)
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)
     g2 = np.where(ok, np.clip(h2, 0.0, 1.0), g2)
     return c1, g1, c2, g2

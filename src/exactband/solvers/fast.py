@@ -17,10 +17,11 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..families.base import Family
 from ..kinds import KINDS
 from ..mpnum import float_complements
 from .canonical import canonical_band, equivalence_from_band, refine_equivalence
-from .conditions import Derivative, Difference
+from .conditions import Derivative, Difference, Line
 from .search import lower as _lower
 from .search import upper as _upper
 from .twotailed import SolverFailure, initial_split, two_tailed
@@ -128,11 +129,14 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
         dt = np.asarray(family.natural_delta(lo, hi, n, k), dtype=float)
         s = alpha if kind == "band" else float_complements(alpha)
         a0 = initial_split(L, Pl, Ph, s)
-        res = two_tailed(L, Pl, Ph, Difference(L, Pl, Ph, dt), s, a0,
+        # the family's log-ratio line, for short windows at a large mean (conditions.Line)
+        own = type(family).log_ratio_line is not Family.log_ratio_line
+        line = Line(family, lo, hi, n, k) if own else None
+        res = two_tailed(L, Pl, Ph, Difference(L, Pl, Ph, dt, line), s, a0,
                           b=ac if kind == "band" else alpha)
         res = canonical_band(*res)
         if kind == "equivalence":
             res = equivalence_from_band(*res)
-            return refine_equivalence(L, Pl, Difference(L, Pl, Ph, dt), alpha, *res)
+            return refine_equivalence(L, Pl, Difference(L, Pl, Ph, dt, line), alpha, *res)
         return res
     raise ValueError(f"unknown kind {kind!r}")  # validated before; defensive
