@@ -5,7 +5,8 @@ from __future__ import annotations
 import numpy as np
 
 from ..kinds import KINDS
-from .conditions import GL_MAX_SPREAD, line_rows
+from .conditions import GL_MAX_SPREAD
+from .lineform import line_rows
 from .twotailed import GAMMA_TOL, MIDDLE_SUM, WINDOW_SUM
 
 
@@ -69,8 +70,9 @@ def refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
     lo_ok = -GAMMA_TOL
     # alpha near 1: the window holds almost all the mass; the complement's gammas
     # (band form of size 1 - alpha, small) are then the accurate ones; so are the
-    # gammas the search took from the window's log-ratio line (twotailed._line_system)
-    line = line_rows(diff, L, Pl, c1, c2, (alpha < 0.5) & (c2 - c1 <= WINDOW_SUM))
+    # gammas the search took from the window's log-ratio line (lineform)
+    short, long_ = line_rows(diff, L, Pl, c1, c2, alpha < 0.5, WINDOW_SUM)
+    line = short | long_
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
           & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5) & ~line)
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)

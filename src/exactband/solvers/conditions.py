@@ -6,10 +6,6 @@ the difference quotient [E_high phi - E_low phi] / (t_high - t_low) = 0
 differences through expm1 of the log-ratio; tail differences by Gauss-Legendre
 quadrature of dF/dt when the band is narrow), so it tends smoothly to the
 derivative condition of the point design.
-
-``Line`` carries each band's log-likelihood-ratio line (``Family.log_ratio_line``)
-for the short acceptance windows of alpha near 1 at a large mean
-(``twotailed``, ``line_rows``).
 """
 
 from __future__ import annotations
@@ -23,10 +19,6 @@ _GL_X, _GL_W = leggauss(20)
 _GL_NODES = (_GL_X + 1.0) / 2.0  # on [0, 1]
 _GL_WEIGHTS = _GL_W / 2.0  # sum to 1
 GL_MAX_SPREAD = 4.0  # quadrature used while |d log(-dF/dt)/dt| * dt <= this
-# From this mean on (at the band's low end) a short acceptance window takes its second
-# condition from the log-ratio line: the float log ratio places its zero y* only to
-# about u * mean, which moves a gamma by as much (u * 2^20 ~ 1e-10)
-LINE_MEAN = 2.0 ** 20
 
 
 class Derivative:
@@ -45,42 +37,11 @@ class Derivative:
         return self.L.dcdf(c, self.P)
 
 
-class Line:
-    """log f_high(y) - log f_low(y) = s (y - y*) per design, y* = y0 + d (Family.log_ratio_line).
-
-    Computed from the exact decimals only for the rows that ask (``at``), once.
-    """
-
-    def __init__(self, family, lo, hi, n, k, cols=None):
-        self.family, self.lo, self.hi, self.n, self.k = family, lo, hi, n, k
-        self.cols = cols if cols is not None else np.full((3, np.shape(lo)[0]), np.nan)
-
-    def subset(self, j):
-        return Line(self.family, self.lo[j], self.hi[j], self.n[j],
-                    None if self.k is None else self.k[j], self.cols[:, j])
-
-    def at(self, j):
-        """(s, y0, d) for rows j."""
-        todo = j[np.isnan(self.cols[0, j])]
-        if todo.size:
-            k = None if self.k is None else self.k[todo]
-            res = self.family.log_ratio_line(self.lo[todo], self.hi[todo], self.n[todo], k)
-            for q in range(3):
-                self.cols[q, todo] = res[q]
-        return self.cols[0, j], self.cols[1, j], self.cols[2, j]
-
-
-def line_rows(second, L, P, c1, c2, narrow):
-    """Rows of a short window (``narrow``) that take the line form: a band whose family
-    gives its line, two cutoffs apart, mean at the low end at least LINE_MEAN."""
-    line = getattr(second, "line", None)
-    if line is None:
-        return np.zeros(np.shape(c1), dtype=bool)
-    return narrow & (c2 > c1) & (L.moments(P)[0] >= LINE_MEAN)
-
-
 class Difference:
-    """[E_h phi - E_l phi] / dt = 0 between two points (band designs)."""
+    """[E_h phi - E_l phi] / dt = 0 between two points (band designs).
+
+    ``line``: the bands' log-ratio lines (``lineform.Line``) or None.
+    """
 
     def __init__(self, L, Pl, Ph, dt, line=None):
         self.L, self.Pl, self.Ph, self.dt, self.line = L, Pl, Ph, dt, line

@@ -21,7 +21,8 @@ from ..families.base import Family
 from ..kinds import KINDS
 from ..mpnum import float_complements
 from .canonical import canonical_band, equivalence_from_band, refine_equivalence
-from .conditions import Derivative, Difference, Line
+from .conditions import Derivative, Difference
+from .lineform import Line
 from .search import lower as _lower
 from .search import upper as _upper
 from .twotailed import SolverFailure, initial_split, two_tailed

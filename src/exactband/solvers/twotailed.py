@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .conditions import line_rows
+from .lineform import line_rows, line_system
 from .search import BIG, first_true, sub
 
 GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
@@ -80,52 +80,6 @@ def _window_sums(L, P, second, c1, c2, rows):
     return j, mass, dsum
 
 
-def _line_system(L, P, line, c1, c2, b, f1, f2, g1, g2, rows):
-    """The gammas of a short window from its mass and its log-ratio line, for `rows`.
-
-    With psi = 1 - phi on the window (1 inside, 1 - gamma at the cutoffs), the two
-    size conditions are sum f_low psi = b and sum f_high psi = b, and
-    f_high / f_low = exp(s (y - y*)).  Dividing the second by exp(s (c1 - y*)) and
-    subtracting v times the first (v = expm1(s (y* - c1)) / s,
-    w(y) = expm1(s (y - c1)) / s, so w(c1) = 0) leaves
-
-        sum_window f_low(y) (w(y) - v) psi(y) = 0,
-
-    the window's centre of mass at y* in the line's own scale: every term is of
-    the order of the window's width, a common relative error of the masses
-    cancels, and y* - c1 comes exact from the decimals (``Line``), whereas the
-    float log ratio places y* only to about u * mean.  In gammas:
-
-        f1 g1 + f2 g2 = mass - b,    -v f1 g1 + (w2 - v) f2 g2 = sum f (w - v).
-
-    Returns the rows, both gammas and the second condition's residual Q at the
-    current gammas (g1, g2) in the scale of ``Difference`` (Q = exp(L(c1)) s / dt
-    times this residual, the same sign), for the bracket of the search.
-    """
-    j = np.nonzero(rows)[0]
-    sl, y0, d = line.at(j)
-    a, bb = c1[j], c2[j]
-    x1 = (y0 - a) + d  # y* - c1: an exact whole-number difference plus the rest
-    width = (bb - a + 1.0).astype(np.int64)
-    row = np.repeat(np.arange(j.size), width)
-    start = np.cumsum(width) - width
-    off = (np.arange(row.size) - start[row]).astype(float)  # y - c1
-    fy = L.pmf(a[row] + off, sub(P, j[row]))
-    v = np.expm1(sl * x1) / sl
-    w = np.expm1(sl[row] * off) / sl[row]
-    mass = np.bincount(row, weights=fy, minlength=j.size)
-    r2 = np.bincount(row, weights=fy * (w - v[row]), minlength=j.size)
-    r1 = mass - b[j]
-    w2 = np.expm1(sl * (bb - a)) / sl
-    F1, F2 = f1[j], f2[j]
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        h1 = (r1 * (w2 - v) - r2) / (F1 * w2)
-        h2 = (r2 + v * r1) / (F2 * w2)
-        q = -v * F1 * g1[j] + (w2 - v) * F2 * g2[j] - r2
-        q = q * np.exp(-sl * x1) * sl
-    return j, h1, h2, q
-
-
 def two_tailed(L, Pl, Pr, second, s, a0, b=None):
     """Band-form test of size s (left tail at Pl, right tail at Pr) with condition `second`.
 
@@ -187,9 +141,11 @@ def two_tailed(L, Pl, Pr, second, s, a0, b=None):
                 R2 = R2.copy()
                 R1[j] = mass - st["b"][j]
                 R2[j] = dsum
-                on = line_rows(second, L, P, c1, c2, narrow)
-                if np.any(on):
-                    lines = _line_system(L, P, second.line, c1, c2, st["b"], f1, f2, g1, g2, on)
+            # a large mean: the window's gammas from its log-ratio line (lineform)
+            short, long_ = line_rows(second, L, P, c1, c2, s_ > 0.5, WINDOW_SUM)
+            if np.any(short | long_):
+                lines = line_system(L, P, second.line, c1, c2, st["b"], f1, f2, g1, g2,
+                                    short, long_)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
             det = f1 * d2 - f2 * d1
             g1n = (R1 * d2 - f2 * R2) / det

@@ -1,0 +1,175 @@
+"""The second band condition of a short acceptance window in its log-ratio-line form.
+
+A band (or equivalence complement) of size s > 1/2 accepts only on a window
+c1..c2 of mass b = 1 - s at both ends of the band.  In a one-parameter
+exponential family the log ratio of the two end laws is a line,
+log f_high(y) - log f_low(y) = s_ (y - y*) (``Family.log_ratio_line``: s_ and
+y* from the exact decimals).  With psi = 1 - phi on the window (1 inside,
+1 - gamma at the cutoffs) the two size conditions are sum f_low psi = b and
+sum f_high psi = b.  Dividing the second by exp(s_ (c1 - y*)) and subtracting
+v times the first, with
+
+    w(y) = expm1(s_ (y - c1)) / s_   (w(c1) = 0),   v = expm1(s_ (y* - c1)) / s_,
+
+leaves the window's centre of mass at y* in the line's own scale:
+
+    sum_window f_low(y) (w(y) - v) psi(y) = 0.
+
+Every term is of the order of the window's width, a common relative error of
+the masses cancels, and y* - c1 is exact from the decimals; the float log ratio
+(``conditions.Difference``) places y* only to about u * mean, which moved a
+gamma by up to 1e-5 at a mean of 4e10 (and the tail differences of a window's
+mass lost it entirely).  In gammas the system is
+
+    f1 g1 + f2 g2 = mass - b,    -v f1 g1 + (w2 - v) f2 g2 = sum f (w - v),
+
+det = f1 f2 w2.  A window of at most ``twotailed.WINDOW_SUM`` + 1 points is
+summed term by term; a longer one, over which log f changes by less than
+LINE_SLOPE per point, is integrated (midpoint Euler-Maclaurin: the sum over
+c1..c2 is the integral over [c1 - 1/2, c2 + 1/2] minus (h'(c2 + 1/2) -
+h'(c1 - 1/2)) / 24, the next term being below 1e-9 of the window's scale
+there; the integral by 20-point Gauss-Legendre on panels over which log f
+changes by at most 1).  Error analysis: docs/tolerances.md section 8.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.polynomial.legendre import leggauss
+
+from .search import sub
+
+# From this mean on (at the band's low end, of the mirror image for a binomial above
+# one half) a short window takes the line form: the float log ratio places y* to
+# about u * mean, which moves a gamma by as much (u * 2^20 ~ 1e-10)
+LINE_MEAN = 2.0 ** 20
+LINE_SLOPE = 2.0 ** -10  # a long window is integrated while |d log f / dy| <= this
+MAX_PANELS = 64  # panels of the integral (log f changes by at most 1 on each)
+
+_X, _W = leggauss(20)
+_NODES = (_X + 1.0) / 2.0  # on [0, 1]
+_WEIGHTS = _W / 2.0
+
+
+class Line:
+    """s_ and y* = y0 + d per design (``Family.log_ratio_line``), computed for the
+    rows that ask (``at``), once."""
+
+    def __init__(self, family, lo, hi, n, k, cols=None):
+        self.family, self.lo, self.hi, self.n, self.k = family, lo, hi, n, k
+        self.cols = cols if cols is not None else np.full((3, np.shape(lo)[0]), np.nan)
+
+    def subset(self, j):
+        return Line(self.family, self.lo[j], self.hi[j], self.n[j],
+                    None if self.k is None else self.k[j], self.cols[:, j])
+
+    def at(self, j):
+        """(s_, y0, d) for rows j."""
+        todo = j[np.isnan(self.cols[0, j])]
+        if todo.size:
+            k = None if self.k is None else self.k[todo]
+            res = self.family.log_ratio_line(self.lo[todo], self.hi[todo], self.n[todo], k)
+            for q in range(3):
+                self.cols[q, todo] = res[q]
+        return self.cols[0, j], self.cols[1, j], self.cols[2, j]
+
+
+def _slope(L, y, P):
+    """d log f / dy at the half-integer y + 1/2, as log f(y + 1) - log f(y)."""
+    return L.logpmf(y + 1.0, P) - L.logpmf(y, P)
+
+
+def line_rows(second, L, P, c1, c2, big, window_sum):
+    """(short, long): rows of s > 1/2 (``big``) that take the line form, summed or integrated.
+
+    The family must give its line (``second.line``), the cutoffs must differ and the
+    mean at the low end be at least LINE_MEAN; a window of more than ``window_sum``
+    + 1 points is integrated only where log f changes by at most LINE_SLOPE per
+    point at both ends (and so inside: log f is concave or convex in y there).
+    """
+    none = np.zeros(np.shape(c1), dtype=bool)
+    if getattr(second, "line", None) is None:
+        return none, none
+    on = big & (c2 > c1) & (L.moments(P)[0] >= LINE_MEAN)
+    short = on & (c2 - c1 <= window_sum)
+    long_ = on & ~short
+    if np.any(long_):
+        j = np.nonzero(long_)[0]
+        Pj = sub(P, j)
+        with np.errstate(invalid="ignore"):
+            tilt = np.maximum(np.abs(_slope(L, c1[j] - 1.0, Pj)), np.abs(_slope(L, c2[j], Pj)))
+            ok = (tilt <= LINE_SLOPE) & (tilt * (c2[j] - c1[j] + 1.0) <= MAX_PANELS)
+        long_[j[~ok]] = False
+    return short, long_
+
+
+def _summed(L, P, sl, x1, c1, c2, j):
+    """Window mass and sum of f (w - v), term by term."""
+    a = c1[j]
+    width = (c2[j] - a + 1.0).astype(np.int64)
+    row = np.repeat(np.arange(j.size), width)
+    start = np.cumsum(width) - width
+    off = (np.arange(row.size) - start[row]).astype(float)  # y - c1
+    fy = L.pmf(a[row] + off, sub(P, j[row]))
+    v = np.expm1(sl * x1) / sl
+    w = np.expm1(sl[row] * off) / sl[row]
+    mass = np.bincount(row, weights=fy, minlength=j.size)
+    r2 = np.bincount(row, weights=fy * (w - v[row]), minlength=j.size)
+    return mass, r2
+
+
+def _integrated(L, P, sl, x1, c1, c2, j):
+    """Window mass and sum of f (w - v) by midpoint Euler-Maclaurin (module doc)."""
+    a, Pj = c1[j], sub(P, j)
+    W = c2[j] - a  # x = y - c1 runs over 0..W
+    v = np.expm1(sl * x1) / sl
+    lo_s, hi_s = _slope(L, a - 1.0, Pj), _slope(L, c2[j], Pj)
+    tilt = np.maximum(np.abs(lo_s), np.abs(hi_s))
+    K = np.clip(np.ceil(tilt * (W + 1.0)), 1, MAX_PANELS).astype(np.int64)
+    row = np.repeat(np.arange(j.size), K * _NODES.size)
+    first = np.cumsum(K * _NODES.size) - K * _NODES.size
+    idx = np.arange(row.size) - first[row]
+    panel, node = idx // _NODES.size, idx % _NODES.size
+    h = (W + 1.0) / K  # panel length on [-1/2, W + 1/2]
+    x = -0.5 + (panel + _NODES[node]) * h[row]
+    fx = L.pmf(a[row] + x, sub(Pj, row))
+    gx = (np.expm1(sl[row] * x) - np.expm1(sl[row] * x1[row])) / sl[row]
+    wt = _WEIGHTS[node] * h[row]
+    mass = np.bincount(row, weights=wt * fx, minlength=j.size)
+    r2 = np.bincount(row, weights=wt * fx * gx, minlength=j.size)
+    # h'(x) = f (l' G + G'), l' = d log f / dy, G = w - v, G' = exp(s_ x), at both ends
+    fa, fb = L.pmf(a - 0.5, Pj), L.pmf(c2[j] + 0.5, Pj)
+    ga = (np.expm1(-0.5 * sl) - np.expm1(sl * x1)) / sl
+    gb = (np.expm1(sl * (W + 0.5)) - np.expm1(sl * x1)) / sl
+    mass -= (fb * hi_s - fa * lo_s) / 24.0
+    r2 -= (fb * (hi_s * gb + np.exp(sl * (W + 0.5))) - fa * (lo_s * ga + np.exp(-0.5 * sl))) / 24.0
+    return mass, r2
+
+
+def line_system(L, P, line, c1, c2, b, f1, f2, g1, g2, short, long_):
+    """Gammas of the windows of rows ``short | long_`` from the line form (module doc).
+
+    Returns the rows, both gammas, and the second condition's residual at the current
+    gammas (g1, g2) times exp(s_ (c1 - y*)) s_: the ``conditions.Difference`` residual
+    times dt, the same sign (f_high - f_low = f_low exp(s_ (c1 - y*)) s_ (w - v)),
+    so that the search's bracket keeps one scale.
+    """
+    j = np.nonzero(short | long_)[0]
+    sl, y0, d = line.at(j)
+    x1 = (y0 - c1[j]) + d  # y* - c1: an exact whole-number difference plus the rest
+    mass, r2 = np.empty(j.size), np.empty(j.size)
+    s_rows = short[j]
+    if np.any(s_rows):
+        mass[s_rows], r2[s_rows] = _summed(L, P, sl[s_rows], x1[s_rows], c1, c2, j[s_rows])
+    if np.any(~s_rows):
+        q = ~s_rows
+        mass[q], r2[q] = _integrated(L, P, sl[q], x1[q], c1, c2, j[q])
+    v = np.expm1(sl * x1) / sl
+    r1 = mass - b[j]
+    w2 = np.expm1(sl * (c2[j] - c1[j])) / sl
+    F1, F2 = f1[j], f2[j]
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        h1 = (r1 * (w2 - v) - r2) / (F1 * w2)
+        h2 = (r2 + v * r1) / (F2 * w2)
+        q = (-v * F1 * g1[j] + (w2 - v) * F2 * g2[j] - r2) * np.exp(-sl * x1) * sl
+    return j, h1, h2, q
