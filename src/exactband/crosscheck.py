@@ -126,7 +126,7 @@ def _line_path(s, c1, c2, T) -> bool:
     """The fast solver took this design's gammas from its window's log-ratio line
     (``twotailed._line_system``): s > 1/2, a short window, a large mean at the low end
     (of the mirror image for a binomial above one half, as the fast solver works)."""
-    from .solvers.conditions import LINE_MEAN
+    from .solvers.lineform import LINE_MEAN
     from .solvers.twotailed import WINDOW_SUM
 
     if not (s > 0.5 and c2 > c1 and c2 - c1 <= WINDOW_SUM):
