@@ -124,18 +124,26 @@ def floor_dg(kappa: float, sigma: float) -> float:
 
 def _line_path(s, c1, c2, T) -> bool:
     """The fast solver took this design's gammas from its window's log-ratio line
-    (``twotailed._line_system``): s > 1/2, a short window, a large mean at the low end
-    (of the mirror image for a binomial above one half, as the fast solver works)."""
-    from .solvers.lineform import LINE_MEAN
+    (``solvers.lineform``): s > 1/2, a large mean at the low end (of the mirror image
+    for a binomial above one half, as the fast solver works), and a short window or a
+    long one over which log f changes slowly (the same tests, on the precise masses)."""
+    from .solvers.lineform import LINE_MEAN, LINE_SLOPE, MAX_PANELS
     from .solvers.twotailed import WINDOW_SUM
 
-    if not (s > 0.5 and c2 > c1 and c2 - c1 <= WINDOW_SUM):
+    if not (s > 0.5 and c2 > c1):
         return False
     lo, hi = float(T[0].law.mean), float(T[1].law.mean)
     top = getattr(T[0].law, "supmax", None)
     if top is not None and lo + hi > float(top):
         lo = float(top) - hi
-    return lo >= LINE_MEAN
+    if lo < LINE_MEAN:
+        return False
+    if c2 - c1 <= WINDOW_SUM:
+        return True
+    t0 = T[0]
+    tilt = float(max(abs(mp.log(t0.pmf(c1) / t0.pmf(c1 - 1))),
+                     abs(mp.log(t0.pmf(c2 + 1) / t0.pmf(c2)))))
+    return tilt <= LINE_SLOPE and tilt * (c2 - c1 + 1) <= MAX_PANELS
 
 
 def _line_bound(eps, b, c1, c2, T) -> tuple:

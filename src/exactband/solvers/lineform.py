@@ -44,7 +44,7 @@ from .search import sub
 # about u * mean, which moves a gamma by as much (u * 2^20 ~ 1e-10)
 LINE_MEAN = 2.0 ** 20
 LINE_SLOPE = 2.0 ** -10  # a long window is integrated while |d log f / dy| <= this
-MAX_PANELS = 64  # panels of the integral (log f changes by at most 1 on each)
+MAX_PANELS = 1024  # panels of the integral (log f changes by at most 1 on each)
 
 _X, _W = leggauss(20)
 _NODES = (_X + 1.0) / 2.0  # on [0, 1]
