@@ -6,7 +6,7 @@ import numpy as np
 
 from ..kinds import KINDS
 from .conditions import GL_MAX_SPREAD
-from .lineform import line_rows
+from .lineform import equivalence_gammas, line_rows
 from .twotailed import GAMMA_TOL, MIDDLE_SUM, WINDOW_SUM
 
 
@@ -69,12 +69,15 @@ def refine_equivalence(L, Pl, diff, alpha, c1, g1, c2, g2):
         h2 = (f1 * r2 - d1 * r1) / det
     lo_ok = -GAMMA_TOL
     # alpha near 1: the window holds almost all the mass; the complement's gammas
-    # (band form of size 1 - alpha, small) are then the accurate ones; so are the
-    # gammas the search took from the window's log-ratio line (lineform)
+    # (band form of size 1 - alpha, small) are then the accurate ones.  A window
+    # at a large mean takes the line form instead (lineform.equivalence_gammas)
     short, long_ = line_rows(diff, L, Pl, c1, c2, alpha < 0.5, WINDOW_SUM)
-    line = short | long_
+    if np.any(short | long_):
+        j, l1, l2 = equivalence_gammas(L, Pl, diff.line, c1, c2, alpha, short, long_)
+        h1, h2 = h1.copy(), h2.copy()
+        h1[j], h2[j] = l1, l2
     ok = (np.isfinite(h1) & np.isfinite(h2) & (h1 >= lo_ok) & (h1 < 1.0) & (h2 >= lo_ok)
-          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5) & ~line)
+          & (h2 < 1.0) & (c2 > c1) & (alpha <= 0.5))
     g1 = np.where(ok, np.clip(h1, 0.0, 1.0), g1)
     g2 = np.where(ok, np.clip(h2, 0.0, 1.0), g2)
     return c1, g1, c2, g2

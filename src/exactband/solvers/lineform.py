@@ -103,13 +103,14 @@ def line_rows(second, L, P, c1, c2, big, window_sum):
     return short, long_
 
 
-def _summed(L, P, sl, x1, c1, c2, j):
-    """Window mass and sum of f (w - v), term by term."""
+def _summed(L, P, sl, x1, c1, c2, j, inner=False):
+    """Window mass and sum of f (w - v), term by term (``inner``: c1 < y < c2 only)."""
     a = c1[j]
-    width = (c2[j] - a + 1.0).astype(np.int64)
+    skip = 1.0 if inner else 0.0
+    width = np.maximum(c2[j] - a + 1.0 - 2.0 * skip, 0.0).astype(np.int64)
     row = np.repeat(np.arange(j.size), width)
     start = np.cumsum(width) - width
-    off = (np.arange(row.size) - start[row]).astype(float)  # y - c1
+    off = (np.arange(row.size) - start[row]).astype(float) + skip  # y - c1
     fy = L.pmf(a[row] + off, sub(P, j[row]))
     v = np.expm1(sl * x1) / sl
     w = np.expm1(sl[row] * off) / sl[row]
@@ -173,3 +174,35 @@ def line_system(L, P, line, c1, c2, b, f1, f2, g1, g2, short, long_):
         h2 = (r2 + v * r1) / (F2 * w2)
         q = (-v * F1 * g1[j] + (w2 - v) * F2 * g2[j] - r2) * np.exp(-sl * x1) * sl
     return j, h1, h2, q
+
+
+def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_):
+    """Gammas of equivalence designs (reject inside c1..c2) of rows ``short | long_``.
+
+    The same two conditions written for phi itself (sum f_low phi = alpha, and the
+    centre sum f_low (w - v) phi = 0), with the inner terms summed apart from the
+    cutoffs: h1 f1 + h2 f2 = alpha - mid, -v f1 h1 + (w2 - v) f2 h2 = -R_mid, so a
+    gamma of size ~alpha / f keeps its relative digits (1 - the complement's gamma
+    would keep only absolute ones).  Returns the rows and both gammas.
+    """
+    j = np.nonzero(short | long_)[0]
+    sl, y0, d = line.at(j)
+    x1 = (y0 - c1[j]) + d
+    v = np.expm1(sl * x1) / sl
+    w2 = np.expm1(sl * (c2[j] - c1[j])) / sl
+    f1, f2 = L.pmf(c1[j], sub(P, j)), L.pmf(c2[j], sub(P, j))
+    mid, rmid = np.empty(j.size), np.empty(j.size)
+    s_rows = short[j]
+    if np.any(s_rows):
+        mid[s_rows], rmid[s_rows] = _summed(L, P, sl[s_rows], x1[s_rows], c1, c2, j[s_rows],
+                                            inner=True)
+    if np.any(~s_rows):  # a long window: f1, f2 are below 1/4096 of its mass
+        q = ~s_rows
+        mass, r2 = _integrated(L, P, sl[q], x1[q], c1, c2, j[q])
+        mid[q] = mass - f1[q] - f2[q]
+        rmid[q] = r2 + f1[q] * v[q] - f2[q] * (w2[q] - v[q])
+    r1 = alpha[j] - mid
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        h1 = (r1 * (w2 - v) + rmid) / (f1 * w2)
+        h2 = (v * r1 - rmid) / (f2 * w2)
+    return j, h1, h2
