@@ -177,3 +177,18 @@ def test_random_narrow_bands_near_one():
         d = api.design(family, "band", n=n, dispersion=k, low=low, high=high, alpha=alpha)
         assert d.verified
         assert 0.0 <= d.gamma1 < 1.0 and 0.0 <= d.gamma2 < 1.0
+
+
+def test_tiny_equivalence_gammas_keep_their_digits():
+    """An equivalence design at alpha = 1.3e-12 rejecting on two points with gammas
+    ~3e-9: the line form written for phi keeps their relative digits (1 - the
+    complement's gamma keeps only absolute ones: size error 1.4e-8 x alpha, refused)."""
+    family, n, low, high, alpha = "binomial", 179493367, 0.01091057141, 0.0109110855494403, \
+        1.29196653375629e-12
+    d = api.design(family, "equivalence", n=n, low=low, high=high, alpha=alpha)
+    assert d.verified and d.c2 == d.c1 + 1
+    with mp.workdps(DPS):
+        for theta in (low, high):
+            parts = window(family, n, None, theta, d.c1, d.c2)
+            size = acceptance(parts, 1 - mp.mpf(d.gamma1), 1 - mp.mpf(d.gamma2))
+            assert abs(size / mp.mpf(repr(alpha)) - 1) <= 1e-9
