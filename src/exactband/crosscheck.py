@@ -122,58 +122,63 @@ def floor_dg(kappa: float, sigma: float) -> float:
     return kappa * UNIT_ROUNDOFF * (16.0 + 4.0 * sigma)
 
 
-def _line_path(s, c1, c2, T) -> bool:
-    """The fast solver took this design's gammas from its window's log-ratio line
-    (``solvers.lineform``): s > 1/2, a large mean at the low end (of the mirror image
-    for a binomial above one half, as the fast solver works), and a short window or a
-    long one over which log f changes slowly (the same tests, on the precise masses)."""
-    from .solvers.lineform import LINE_MEAN, LINE_SLOPE, MAX_PANELS
+def _line_path(s, c1, c2, T):
+    """The fast solver's gammas came from the window's log-ratio line (``solvers.lineform``):
+    s > 1/2, a large mean at the low end (of the mirror image for a binomial above one
+    half, as the fast solver works), a log ratio changing by at most LINE_SPAN over the
+    window, and a short window or a long one over which log f changes slowly (the same
+    tests, on the precise masses).  Returns (s_, y* - c1) of the line, or None."""
+    from .solvers.lineform import LINE_MEAN, LINE_SLOPE, LINE_SPAN, MAX_PANELS
     from .solvers.twotailed import WINDOW_SUM
 
     if not (s > 0.5 and c2 > c1):
-        return False
+        return None
     lo, hi = float(T[0].law.mean), float(T[1].law.mean)
     top = getattr(T[0].law, "supmax", None)
     if top is not None and lo + hi > float(top):
         lo = float(top) - hi
     if lo < LINE_MEAN:
-        return False
+        return None
+    t0, t1 = T
+    l1 = mp.log(t1.pmf(c1) / t0.pmf(c1))
+    sl = (mp.log(t1.pmf(c2) / t0.pmf(c2)) - l1) / (c2 - c1)
+    if not sl * (c2 - c1 + 1) <= LINE_SPAN:
+        return None
+    line = (sl, -l1 / sl)
     if c2 - c1 <= WINDOW_SUM:
-        return True
-    t0 = T[0]
+        return line
     tilt = float(max(abs(mp.log(t0.pmf(c1) / t0.pmf(c1 - 1))),
                      abs(mp.log(t0.pmf(c2 + 1) / t0.pmf(c2)))))
-    return tilt <= LINE_SLOPE and tilt * (c2 - c1 + 1) <= MAX_PANELS
+    return line if tilt <= LINE_SLOPE and tilt * (c2 - c1 + 1) <= MAX_PANELS else None
 
 
-def _line_bound(eps, b, c1, c2, T) -> tuple:
+def _line_bound(eps, b, c1, c2, T, line) -> tuple:
     """(dg, kappa) of the line form (docs/tolerances.md section 8).
 
-    Rows f1 g1 + f2 g2 = mass - b and -v f1 g1 + (w2 - v) f2 g2 = sum f (w - v),
-    det = f1 f2 w2; right sides err by e1 = eps M and e2 = eps M D + b dv
-    (M = b + f1 + f2 bounds the window's mass, D = max(|v|, |w2 - v|) bounds |w - v|,
-    dv = 8 u (|mean_hi - mean_lo| + |y* - c1| + (c2 - c1) + 1) the error of v).
-    The line (s, y*) is read here from the precise tables' mass ratios.
+    Rows f1 g1 + f2 g2 = mass - b and u1 f1 g1 + u2 f2 g2 = sum f u (u(y) =
+    expm1(s_ (y - y*)) / s_), det = f1 f2 (u2 - u1); the right sides err by e1 = eps M
+    and e2 = eps M D + b dx (M = b + f1 + f2 bounds the window's mass, D = max(|u1|,
+    |u2|) bounds |u| on it, dx = 8 u (|mean_hi - mean_lo| + |y* - c1| + (c2 - c1) + 1)
+    the error of y* - c1, which moves the second row by b dx).  The line (s_, y* - c1)
+    is read from the precise tables' mass ratios at c1 and c2.
     """
     t0, t1 = T
+    sl, x1 = line
     f1, f2 = float(t0.pmf(c1)), float(t0.pmf(c2))
-    l1 = mp.log(t1.pmf(c1) / t0.pmf(c1))
-    l2 = mp.log(t1.pmf(c2) / t0.pmf(c2))
-    sl = (l2 - l1) / (c2 - c1)
-    x1 = -l1 / sl  # y* - c1
-    w2 = float(mp.expm1(sl * (c2 - c1)) / sl)
-    v = float(mp.expm1(sl * x1) / sl)
+    u1 = float(mp.expm1(-sl * x1) / sl)
+    u2 = float(mp.expm1(sl * (c2 - c1 - x1)) / sl)
     M = b + f1 + f2
-    D = max(abs(v), abs(w2 - v))
-    dv = 8.0 * UNIT_ROUNDOFF * (abs(float(t1.law.mean - t0.law.mean)) + abs(float(x1))
+    D = max(abs(u1), abs(u2))
+    dx = 8.0 * UNIT_ROUNDOFF * (abs(float(t1.law.mean - t0.law.mean)) + abs(float(x1))
                                 + (c2 - c1) + 1.0)
-    if not (f1 > 0 and f2 > 0 and w2 > 0):
+    den = u2 - u1
+    if not (f1 > 0 and f2 > 0 and den > 0):
         return 1.0, 1.0 / UNIT_ROUNDOFF
 
     def bound(e1, e2):
-        return max((abs(w2 - v) * e1 + e2) / (f1 * w2), (abs(v) * e1 + e2) / (f2 * w2))
+        return max((abs(u2) * e1 + e2) / (f1 * den), (abs(u1) * e1 + e2) / (f2 * den))
 
-    return bound(eps * M, eps * M * D + b * dv), bound(M, M * D)
+    return bound(eps * M, eps * M * D + b * dx), bound(M, M * D)
 
 
 def tolerances(kind: str, alpha, precise) -> tuple:
@@ -221,8 +226,9 @@ def tolerances(kind: str, alpha, precise) -> tuple:
             # the floor's condition number: the right sides relative to the size itself
             # (an equivalence design is refined from its window's masses, not 1 - alpha)
             kappa = bound(min(a, 1.0 - a) + f1 + f2, e2 / eps) if eps > 0 else 0.0
-            if not k.moment_condition and _line_path(s, c1, c2, T):
-                dg, kappa = _line_bound(eps, min(a, 1.0 - a), c1, c2, T)
+            line = None if k.moment_condition else _line_path(s, c1, c2, T)
+            if line is not None:
+                dg, kappa = _line_bound(eps, min(a, 1.0 - a), c1, c2, T, line)
             fmax = max(float(t.pmf(c1) + t.pmf(c2)) for t in T)
         cuts = [c for c in (c1, c2) if c is not None]
         sigma = max(input_sensitivity(t.law, c) for t in T for c in cuts)

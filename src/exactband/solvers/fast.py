@@ -130,7 +130,7 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
         dt = np.asarray(family.natural_delta(lo, hi, n, k), dtype=float)
         s = alpha if kind == "band" else float_complements(alpha)
         a0 = initial_split(L, Pl, Ph, s)
-        # the family's log-ratio line, for short windows at a large mean (conditions.Line)
+        # the family's log-ratio line, for short windows at a large mean (lineform.Line)
         own = type(family).log_ratio_line is not Family.log_ratio_line
         line = Line(family, lo, hi, n, k) if own else None
         res = two_tailed(L, Pl, Ph, Difference(L, Pl, Ph, dt, line), s, a0,

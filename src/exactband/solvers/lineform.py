@@ -11,9 +11,12 @@ v times the first, with
 
     w(y) = expm1(s_ (y - c1)) / s_   (w(c1) = 0),   v = expm1(s_ (y* - c1)) / s_,
 
-leaves the window's centre of mass at y* in the line's own scale:
+leaves the window's centre of mass at y* in the line's own scale.  Written
+with u(y) = expm1(s_ (y - y*)) / s_ = (w(y) - v) exp(-s_ (y* - c1)), which stays
+finite wherever the log ratio does (the window's log ratio changes by at most
+LINE_SPAN), the condition is
 
-    sum_window f_low(y) (w(y) - v) psi(y) = 0.
+    sum_window f_low(y) u(y) psi(y) = 0.
 
 Every term is of the order of the window's width, a common relative error of
 the masses cancels, and y* - c1 is exact from the decimals; the float log ratio
@@ -21,9 +24,9 @@ the masses cancels, and y* - c1 is exact from the decimals; the float log ratio
 gamma by up to 1e-5 at a mean of 4e10 (and the tail differences of a window's
 mass lost it entirely).  In gammas the system is
 
-    f1 g1 + f2 g2 = mass - b,    -v f1 g1 + (w2 - v) f2 g2 = sum f (w - v),
+    f1 g1 + f2 g2 = mass - b,    u1 f1 g1 + u2 f2 g2 = sum f u,
 
-det = f1 f2 w2.  A window of at most ``twotailed.WINDOW_SUM`` + 1 points is
+det = f1 f2 (u2 - u1).  A window of at most ``twotailed.WINDOW_SUM`` + 1 points is
 summed term by term; a longer one, over which log f changes by less than
 LINE_SLOPE per point, is integrated (midpoint Euler-Maclaurin: the sum over
 c1..c2 is the integral over [c1 - 1/2, c2 + 1/2] minus (h'(c2 + 1/2) -
@@ -44,6 +47,7 @@ from .search import sub
 # about u * mean, which moves a gamma by as much (u * 2^20 ~ 1e-10)
 LINE_MEAN = 2.0 ** 20
 LINE_SLOPE = 2.0 ** -10  # a long window is integrated while |d log f / dy| <= this
+LINE_SPAN = 512.0  # the log ratio changes by at most this over the window (exp stays finite)
 MAX_PANELS = 1024  # panels of the integral (log f changes by at most 1 on each)
 
 _X, _W = leggauss(20)
@@ -82,8 +86,9 @@ def _slope(L, y, P):
 def line_rows(second, L, P, c1, c2, big, window_sum):
     """(short, long): rows of s > 1/2 (``big``) that take the line form, summed or integrated.
 
-    The family must give its line (``second.line``), the cutoffs must differ and the
-    mean at the low end be at least LINE_MEAN; a window of more than ``window_sum``
+    The family must give its line (``second.line``), the cutoffs must differ, the
+    mean at the low end be at least LINE_MEAN and the log ratio change by at most
+    LINE_SPAN over the window; a window of more than ``window_sum``
     + 1 points is integrated only where log f changes by at most LINE_SLOPE per
     point at both ends (and so inside: log f is concave or convex in y there).
     """
@@ -91,6 +96,10 @@ def line_rows(second, L, P, c1, c2, big, window_sum):
     if getattr(second, "line", None) is None:
         return none, none
     on = big & (c2 > c1) & (L.moments(P)[0] >= LINE_MEAN)
+    if np.any(on):
+        j = np.nonzero(on)[0]
+        sl = second.line.at(j)[0]
+        on[j] = sl * (c2[j] - c1[j] + 1.0) <= LINE_SPAN
     short = on & (c2 - c1 <= window_sum)
     long_ = on & ~short
     if np.any(long_):
@@ -104,7 +113,7 @@ def line_rows(second, L, P, c1, c2, big, window_sum):
 
 
 def _summed(L, P, sl, x1, c1, c2, j, inner=False):
-    """Window mass and sum of f (w - v), term by term (``inner``: c1 < y < c2 only)."""
+    """Window mass and sum of f u, term by term (``inner``: c1 < y < c2 only)."""
     a = c1[j]
     skip = 1.0 if inner else 0.0
     width = np.maximum(c2[j] - a + 1.0 - 2.0 * skip, 0.0).astype(np.int64)
@@ -112,18 +121,16 @@ def _summed(L, P, sl, x1, c1, c2, j, inner=False):
     start = np.cumsum(width) - width
     off = (np.arange(row.size) - start[row]).astype(float) + skip  # y - c1
     fy = L.pmf(a[row] + off, sub(P, j[row]))
-    v = np.expm1(sl * x1) / sl
-    w = np.expm1(sl[row] * off) / sl[row]
+    u = np.expm1(sl[row] * (off - x1[row])) / sl[row]
     mass = np.bincount(row, weights=fy, minlength=j.size)
-    r2 = np.bincount(row, weights=fy * (w - v[row]), minlength=j.size)
+    r2 = np.bincount(row, weights=fy * u, minlength=j.size)
     return mass, r2
 
 
 def _integrated(L, P, sl, x1, c1, c2, j):
-    """Window mass and sum of f (w - v) by midpoint Euler-Maclaurin (module doc)."""
+    """Window mass and sum of f u by midpoint Euler-Maclaurin (module doc)."""
     a, Pj = c1[j], sub(P, j)
     W = c2[j] - a  # x = y - c1 runs over 0..W
-    v = np.expm1(sl * x1) / sl
     lo_s, hi_s = _slope(L, a - 1.0, Pj), _slope(L, c2[j], Pj)
     tilt = np.maximum(np.abs(lo_s), np.abs(hi_s))
     K = np.clip(np.ceil(tilt * (W + 1.0)), 1, MAX_PANELS).astype(np.int64)
@@ -134,16 +141,16 @@ def _integrated(L, P, sl, x1, c1, c2, j):
     h = (W + 1.0) / K  # panel length on [-1/2, W + 1/2]
     x = -0.5 + (panel + _NODES[node]) * h[row]
     fx = L.pmf(a[row] + x, sub(Pj, row))
-    gx = (np.expm1(sl[row] * x) - np.expm1(sl[row] * x1[row])) / sl[row]
+    ux = np.expm1(sl[row] * (x - x1[row])) / sl[row]
     wt = _WEIGHTS[node] * h[row]
     mass = np.bincount(row, weights=wt * fx, minlength=j.size)
-    r2 = np.bincount(row, weights=wt * fx * gx, minlength=j.size)
-    # h'(x) = f (l' G + G'), l' = d log f / dy, G = w - v, G' = exp(s_ x), at both ends
+    r2 = np.bincount(row, weights=wt * fx * ux, minlength=j.size)
+    # h'(x) = f (l' u + u'), l' = d log f / dy, u' = exp(s_ (x - x1)), at both ends
     fa, fb = L.pmf(a - 0.5, Pj), L.pmf(c2[j] + 0.5, Pj)
-    ga = (np.expm1(-0.5 * sl) - np.expm1(sl * x1)) / sl
-    gb = (np.expm1(sl * (W + 0.5)) - np.expm1(sl * x1)) / sl
+    xa, xb = -0.5 - x1, W + 0.5 - x1
+    ua, ub = np.expm1(sl * xa) / sl, np.expm1(sl * xb) / sl
     mass -= (fb * hi_s - fa * lo_s) / 24.0
-    r2 -= (fb * (hi_s * gb + np.exp(sl * (W + 0.5))) - fa * (lo_s * ga + np.exp(-0.5 * sl))) / 24.0
+    r2 -= (fb * (hi_s * ub + np.exp(sl * xb)) - fa * (lo_s * ua + np.exp(sl * xa))) / 24.0
     return mass, r2
 
 
@@ -151,58 +158,60 @@ def line_system(L, P, line, c1, c2, b, f1, f2, g1, g2, short, long_):
     """Gammas of the windows of rows ``short | long_`` from the line form (module doc).
 
     Returns the rows, both gammas, and the second condition's residual at the current
-    gammas (g1, g2) times exp(s_ (c1 - y*)) s_: the ``conditions.Difference`` residual
-    times dt, the same sign (f_high - f_low = f_low exp(s_ (c1 - y*)) s_ (w - v)),
-    so that the search's bracket keeps one scale.
+    gammas (g1, g2) times s_: the ``conditions.Difference`` residual times dt, the same
+    sign (f_high - f_low = f_low s_ u), so that the search's bracket keeps one scale.
     """
     j = np.nonzero(short | long_)[0]
     sl, y0, d = line.at(j)
     x1 = (y0 - c1[j]) + d  # y* - c1: an exact whole-number difference plus the rest
-    mass, r2 = np.empty(j.size), np.empty(j.size)
-    s_rows = short[j]
-    if np.any(s_rows):
-        mass[s_rows], r2[s_rows] = _summed(L, P, sl[s_rows], x1[s_rows], c1, c2, j[s_rows])
-    if np.any(~s_rows):
-        q = ~s_rows
-        mass[q], r2[q] = _integrated(L, P, sl[q], x1[q], c1, c2, j[q])
-    v = np.expm1(sl * x1) / sl
+    mass, r2 = _window(L, P, sl, x1, c1, c2, j, short[j])
+    u1 = np.expm1(-sl * x1) / sl
+    u2 = np.expm1(sl * ((c2[j] - c1[j]) - x1)) / sl
     r1 = mass - b[j]
-    w2 = np.expm1(sl * (c2[j] - c1[j])) / sl
     F1, F2 = f1[j], f2[j]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        h1 = (r1 * (w2 - v) - r2) / (F1 * w2)
-        h2 = (r2 + v * r1) / (F2 * w2)
-        q = (-v * F1 * g1[j] + (w2 - v) * F2 * g2[j] - r2) * np.exp(-sl * x1) * sl
+        h1 = (r1 * u2 - r2) / (F1 * (u2 - u1))
+        h2 = (r2 - u1 * r1) / (F2 * (u2 - u1))
+        q = (u1 * F1 * g1[j] + u2 * F2 * g2[j] - r2) * sl
     return j, h1, h2, q
+
+
+def _window(L, P, sl, x1, c1, c2, j, summed, inner=False):
+    """(mass, sum f u) over rows j: summed where ``summed``, integrated elsewhere
+    (``inner``: without the cutoffs, summed rows only)."""
+    mass, r2 = np.empty(j.size), np.empty(j.size)
+    if np.any(summed):
+        mass[summed], r2[summed] = _summed(L, P, sl[summed], x1[summed], c1, c2, j[summed],
+                                           inner)
+    if np.any(~summed):
+        q = ~summed
+        mass[q], r2[q] = _integrated(L, P, sl[q], x1[q], c1, c2, j[q])
+    return mass, r2
 
 
 def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_):
     """Gammas of equivalence designs (reject inside c1..c2) of rows ``short | long_``.
 
-    The same two conditions written for phi itself (sum f_low phi = alpha, and the
-    centre sum f_low (w - v) phi = 0), with the inner terms summed apart from the
-    cutoffs: h1 f1 + h2 f2 = alpha - mid, -v f1 h1 + (w2 - v) f2 h2 = -R_mid, so a
-    gamma of size ~alpha / f keeps its relative digits (1 - the complement's gamma
-    would keep only absolute ones).  Returns the rows and both gammas.
+    The same two conditions written for phi itself (sum f_low phi = alpha and
+    sum f_low u phi = 0), with the inner terms summed apart from the cutoffs:
+    h1 f1 + h2 f2 = alpha - mid, u1 f1 h1 + u2 f2 h2 = -R_mid, so a gamma of size
+    ~alpha / f keeps its relative digits (1 - the complement's gamma would keep only
+    absolute ones).  Returns the rows and both gammas.
     """
     j = np.nonzero(short | long_)[0]
     sl, y0, d = line.at(j)
     x1 = (y0 - c1[j]) + d
-    v = np.expm1(sl * x1) / sl
-    w2 = np.expm1(sl * (c2[j] - c1[j])) / sl
+    u1 = np.expm1(-sl * x1) / sl
+    u2 = np.expm1(sl * ((c2[j] - c1[j]) - x1)) / sl
     f1, f2 = L.pmf(c1[j], sub(P, j)), L.pmf(c2[j], sub(P, j))
-    mid, rmid = np.empty(j.size), np.empty(j.size)
     s_rows = short[j]
-    if np.any(s_rows):
-        mid[s_rows], rmid[s_rows] = _summed(L, P, sl[s_rows], x1[s_rows], c1, c2, j[s_rows],
-                                            inner=True)
-    if np.any(~s_rows):  # a long window: f1, f2 are below 1/4096 of its mass
-        q = ~s_rows
-        mass, r2 = _integrated(L, P, sl[q], x1[q], c1, c2, j[q])
-        mid[q] = mass - f1[q] - f2[q]
-        rmid[q] = r2 + f1[q] * v[q] - f2[q] * (w2[q] - v[q])
+    mid, rmid = _window(L, P, sl, x1, c1, c2, j, s_rows, inner=True)
+    # a long window: f1, f2 are below 1/4096 of its mass, so they come off its integral
+    q = ~s_rows
+    mid[q] -= f1[q] + f2[q]
+    rmid[q] -= f1[q] * u1[q] + f2[q] * u2[q]
     r1 = alpha[j] - mid
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        h1 = (r1 * (w2 - v) + rmid) / (f1 * w2)
-        h2 = (v * r1 - rmid) / (f2 * w2)
+        h1 = (r1 * u2 + rmid) / (f1 * (u2 - u1))
+        h2 = (-rmid - u1 * r1) / (f2 * (u2 - u1))
     return j, h1, h2
