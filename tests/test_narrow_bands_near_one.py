@@ -27,6 +27,7 @@ import numpy as np
 import pytest
 
 from exactband import api
+from exactband.errors import DesignError
 from exactband.families.registry import get_family
 
 DPS = 40  # loggamma at y ~ 4e10 cancels ~12 digits: 28 left
@@ -192,3 +193,23 @@ def test_tiny_equivalence_gammas_keep_their_digits():
             parts = window(family, n, None, theta, d.c1, d.c2)
             size = acceptance(parts, 1 - mp.mpf(d.gamma1), 1 - mp.mpf(d.gamma2))
             assert abs(size / mp.mpf(repr(alpha)) - 1) <= 1e-9
+
+
+def test_window_search_where_the_tails_cannot_place_the_window():
+    """Binomial n = 1e12, p ~ 0.0428 (mean 4.3e10), alpha = 1 - 4.4e-12: the window is
+    two points with 1 - gamma ~ 1e-6, below what the search's tails (absolute error
+    ~1e-12 here) resolve; the fast solver failed (exit 70) before.  Now the window
+    is found from its own masses (``lineform.window_search``).  The verified path
+    declines the law (its table would pass 2,000,000 terms), with one line."""
+    family, n, low, high, alpha = "binomial", 10**12, 0.04277874839, 0.0427789845521, \
+        0.999999999995567
+    d = api.design(family, "band", n=n, low=low, high=high, alpha=alpha, verify=False)
+    assert 0.0 <= d.gamma1 < 1.0 and 0.0 <= d.gamma2 < 1.0 and d.c2 == d.c1 + 1
+    with mp.workdps(DPS):
+        b = 1 - mp.mpf(repr(alpha))
+        for theta in (low, high):
+            acc = acceptance(window(family, n, None, theta, d.c1, d.c2), mp.mpf(d.gamma1),
+                             mp.mpf(d.gamma2))
+            assert abs(acc / b - 1) <= 1e-9  # measured 1.5e-12
+    with pytest.raises(DesignError):
+        api.design(family, "band", n=n, low=low, high=high, alpha=alpha)

@@ -215,3 +215,72 @@ def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_):
         h1 = (r1 * u2 + rmid) / (f1 * (u2 - u1))
         h2 = (-rmid - u1 * r1) / (f2 * (u2 - u1))
     return j, h1, h2
+
+
+def _from_left(L, P, line, b, c, span):
+    """Windows of mass b at low starting fully at integer c (psi(c) = 1) for each row:
+    (c2, psi2, sum f u psi, ok); ``span`` points are looked at from c."""
+    sl, y0, d = line
+    width = np.maximum(span, 2.0).astype(np.int64)
+    row = np.repeat(np.arange(c.size), width)
+    start = np.cumsum(width) - width
+    off = (np.arange(row.size) - start[row]).astype(float)  # y - c
+    y = c[row] + off
+    fy = L.pmf(y, sub(P, row))
+    uy = np.expm1(sl[row] * ((y - y0[row]) - d[row])) / sl[row]
+    cum = np.cumsum(fy)
+    base = np.concatenate(([0.0], cum))[start]
+    within = cum - base[row]  # mass from c to y inclusive
+    idx = np.where(within >= b[row], np.arange(row.size), row.size)
+    first = np.minimum.reduceat(idx, start)
+    ok = first < start + width
+    k = np.where(ok, first, start)
+    psi2 = (b - (within[k] - fy[k])) / fy[k]
+    fu = np.where(np.arange(row.size) < k[row], fy * uy, 0.0)
+    total = np.bincount(row, weights=fu, minlength=c.size) + psi2 * fy[k] * uy[k]
+    return c + off[k], psi2, total, ok
+
+
+def window_search(L, P, line, b, window_sum):
+    """Band-form (c1, g1, c2, g2) of size 1 - b from the window itself, for rows the
+    two-tailed search did not converge on (the state's tails, from differences near
+    1/2, cannot place a window whose 1 - gamma are ~1e-6 at a mean of 4e10).
+
+    The window of mass b at low starting at an integer c (psi(c) = 1) has its
+    centre condition sum f u psi increasing in c; c1 is the last c where it is
+    <= 0 (integer bisection between a window wholly left of y* and one right of it),
+    and the gammas come from the line system on the pieces (c1, c2), (c1, c2 + 1),
+    (c1, c2 + 2) - the first whose gammas lie in [0, 1].  NaN where none does.
+    """
+    from .search import first_true
+
+    rows = np.arange(b.size)
+    sl, y0, d = line.at(rows)
+    ystar = y0 + np.floor(d)
+    W = np.ceil(b / L.pmf(ystar, P)) + 2.0
+    span = np.minimum(2.0 * W + 8.0, window_sum + 1.0)
+    lo = np.maximum(ystar - 2.0 * W - 8.0, 0.0)
+    hi = ystar + 1.0
+
+    def pred(c, j):
+        _, _, total, _ = _from_left(L, sub(P, j), (sl[j], y0[j], d[j]), b[j], c, span[j])
+        return total > 0
+
+    c1 = first_true(pred, np.floor(ystar - W / 2.0), lo, hi) - 1.0
+    c2a, _, _, ok = _from_left(L, P, (sl, y0, d), b, c1, span)
+    out = [np.full(b.size, np.nan) for _ in range(4)]
+    for extra in (0.0, 1.0, 2.0):
+        todo = ok & np.isnan(out[0])
+        if not np.any(todo):
+            break
+        c2 = c2a + extra
+        short = todo.copy()
+        f1, f2 = L.pmf(c1, P), L.pmf(c2, P)
+        zero = np.zeros(b.size)
+        j, h1, h2, _ = line_system(L, P, line, c1, c2, b, f1, f2, zero, zero, short,
+                                   np.zeros(b.size, dtype=bool))
+        good = (h1 >= -1e-12) & (h1 <= 1.0 + 1e-12) & (h2 >= -1e-12) & (h2 <= 1.0 + 1e-12)
+        k = j[good]
+        out[0][k], out[1][k] = c1[k], np.clip(h1[good], 0.0, 1.0)
+        out[2][k], out[3][k] = c2[k], np.clip(h2[good], 0.0, 1.0)
+    return tuple(out)

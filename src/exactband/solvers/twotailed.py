@@ -14,7 +14,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .lineform import line_rows, line_system
+from .lineform import LINE_MEAN, line_rows, line_system, window_search
 from .search import BIG, first_true, sub
 
 GAMMA_TOL = 1e-12  # a piece's solution is accepted with gammas in [-tol, 1 + tol]
@@ -191,7 +191,19 @@ def two_tailed(L, Pl, Pr, second, s, a0, b=None):
         Pr = Pl if same else sub(Pr, sel)
         second = second.subset(sel)
     else:
-        raise SolverFailure(f"fast solver did not converge for {st['idx'].size} design(s)")
+        # a short window at a large mean the tails could not place: the window itself
+        left = st["idx"]
+        if st["b"] is not None and getattr(second, "line", None) is not None:
+            on = (st["s"] > 0.5) & (L.moments(Pl)[0] >= LINE_MEAN)
+            if np.any(on):
+                j = np.nonzero(on)[0]
+                res = window_search(L, sub(Pl, j), second.line.subset(j), st["b"][j], WINDOW_SUM)
+                found = np.isfinite(res[0])
+                for o, r in zip(out, res):
+                    o[left[j[found]]] = r[found]
+                left = np.setdiff1d(left, left[j[found]])
+        if left.size:
+            raise SolverFailure(f"fast solver did not converge for {left.size} design(s)")
     return tuple(out)
 
 
