@@ -9,7 +9,7 @@ Per design it prints the CPU seconds (``time.process_time``, which machine load 
 moves; wall seconds beside it) before and after, and whether the outcome and the cutoffs
 are the same.  ``--before none`` times this tree only.
 
-    .venv/bin/python bench/bench_slow.py [--before a1eed15] [--draw 50] [--timeout 90]
+    .venv/bin/python bench/bench_slow.py [--before a1eed15] [--draw 50] [--timeout 90] [--discrete]
 """
 
 from __future__ import annotations
@@ -30,13 +30,41 @@ from pathlib import Path
 ROOT = Path(__file__).resolve().parents[1]
 BEFORE = "a1eed15"  # main before the fixed-point incomplete gamma and the started searches
 
-REPRODUCTIONS = [  # from the whole-range draw (bench/validate_range.py on branch sweep)
+REPRODUCTIONS = [  # gamma designs over 2 s in the whole-range draw (bench/validate_range.py)
     ("gamma", "band", dict(n="504000", alpha="0.17", low="8.34e-8", high="8.3400002155e-8",
                            dispersion="1")),
     ("gamma", "point", dict(n="40000", alpha="0.9999998606", value="20", dispersion="1.64")),
     ("gamma", "point", dict(n="7", alpha="0.7", value="1.7e-5", dispersion="13000")),
-    ("negative-binomial", "point", dict(n="230000000", alpha="0.9999999999979", value="300",
+    ("gamma", "equivalence", dict(n="29", alpha="0.9999999999517", low="3e-4", high="3.51e-4",
+                                  dispersion="3000")),
+    ("gamma", "point", dict(n="9", alpha="0.091", value="19000", dispersion="15840")),
+    ("gamma", "band", dict(n="10000", alpha="0.99999999905", low="1.4e5", high="140000.0519",
+                           dispersion="0.198")),
+    ("gamma", "band", dict(n="2", alpha="0.999999995174", low="0.0893", high="0.08935358",
+                           dispersion="9000")),
+    ("gamma", "point", dict(n="400000", alpha="3.221e-35", value="0.4644", dispersion="1.86")),
+    ("gamma", "equivalence", dict(n="7", alpha="0.00332", low="20", high="20.0000003",
+                                  dispersion="330")),
+    ("gamma", "point", dict(n="10", alpha="1.132e-100", value="5.9", dispersion="20000")),
+    ("gamma", "equivalence", dict(n="8", alpha="0.503", low="2e5", high="200150",
+                                  dispersion="55")),
+    ("gamma", "upper", dict(n="45", alpha="0.93", value="4.988e-8", dispersion="1976")),
+    ("gamma", "upper", dict(n="430700", alpha="0.99998477", value="2.83e6", dispersion="0.197")),
+    ("gamma", "point", dict(n="4", alpha="0.716", value="15.07", dispersion="1163")),
+]
+DISCRETE = [  # slow discrete designs of the same draw (their laws: families/mptails.py)
+    ("negative-binomial", "point", dict(n="230000000", alpha="0.999999999997864", value="300",
                                         dispersion="240")),
+    ("binomial", "equivalence", dict(n="50000000000", alpha="0.1209", low="0.0212",
+                                     high="0.0212001484")),
+    ("negative-binomial", "equivalence", dict(n="113400000000", alpha="1.4e-9", low="0.608",
+                                              high="0.60800000091", dispersion="3e18")),
+    ("binomial", "equivalence", dict(n="70000000000", alpha="0.8", low="0.989",
+                                     high="0.98900002")),
+    ("negative-binomial", "equivalence", dict(n="18490000000", alpha="0.628", low="0.5987",
+                                              high="0.59882", dispersion="0.1")),
+    ("negative-binomial", "point", dict(n="365000000", alpha="0.9999999999543", value="462",
+                                        dispersion="0.9423")),
 ]
 
 
@@ -158,12 +186,15 @@ def main() -> int:
     ap.add_argument("--draw", type=int, default=50, help="number of drawn gamma designs")
     ap.add_argument("--timeout", type=float, default=90.0, help="seconds per design")
     ap.add_argument("--no-repro", action="store_true", help="drawn designs only")
+    ap.add_argument("--discrete", action="store_true",
+                    help="also the slow discrete designs (code this bench does not change)")
     ap.add_argument("--worker", action="store_true", help=argparse.SUPPRESS)
     a = ap.parse_args()
     if a.worker:
         worker(a.timeout)
         return 0
     cases = ([] if a.no_repro else list(REPRODUCTIONS)) + drawn(a.draw)
+    cases += DISCRETE if a.discrete else []
     after = run_tree(ROOT / "src", cases, a.timeout)
     before = None
     if a.before != "none":
