@@ -15,6 +15,17 @@ until the second condition holds, written in its original form:
   computed at a precision raised by the digits the narrow band costs;
 * equivalence: the window's mass at low equals alpha (same narrow treatment).
 
+Starts (``solve(start=...)``, the float solver's cutoffs when verifying): the outer
+search first tries brackets of half-width 1e-12, 1e-8, 1e-4 (relative to |c1| + sd of
+Y) around the start and keeps one only where its own outer condition changes sign;
+the inner searches begin at the last solution.  Without a usable start the brackets
+come from the tails as before.  The outer search stops where |condition| is within its
+noise, alpha 10^(10 - dps) (scaled as the condition), i.e. the sizes hold to 10^(10 -
+dps) x alpha; working precision is precision + 15 digits, so that is 1e-55 x alpha at
+50 digits, far below the 1e-9 x alpha of the cross-check.  With the fixed-point
+incomplete gamma of ``families.gamma`` this makes a gamma design at shape 5e5 cost some
+40 tail evaluations instead of ~300 (bench/bench_slow.py).
+
 Working precision: precision + GUARD_DIGITS + the digits a narrow band costs
 (+ -log10 alpha for equivalence, whose window mass is a difference of tails;
 + log10(|E Y| / sd Y) for the point condition's cancellation).
