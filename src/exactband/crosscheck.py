@@ -157,8 +157,9 @@ def _line_bound(eps, b, c1, c2, T, line) -> tuple:
 
     Rows f1 g1 + f2 g2 = mass - b and u1 f1 g1 + u2 f2 g2 = sum f u (u(y) =
     expm1(s_ (y - y*)) / s_), det = f1 f2 (u2 - u1); the right sides err by e1 = eps M
-    and e2 = eps M D + b dx (M = b + f1 + f2 bounds the window's mass, D = max(|u1|,
-    |u2|) bounds |u| on it, dx = 8 u (|mean_hi - mean_lo| + |y* - c1| + (c2 - c1) + 1)
+    and e2 = eps M D + b dx (M = b + f1 + f2 bounds the window's mass, M D bounds
+    sum f |u| over it: D = min(max(|u1|, |u2|), (M + Mh) / (M s_)), Mh = b + the
+    masses at high at c1 and c2, since |u| <= (f_high / f_low + 1) / s_; dx = 8 u (|mean_hi - mean_lo| + |y* - c1| + (c2 - c1) + 1)
     the error of y* - c1, which moves the second row by b dx).  The line (s_, y* - c1)
     is read from the precise tables' mass ratios at c1 and c2.
     """
@@ -168,7 +169,11 @@ def _line_bound(eps, b, c1, c2, T, line) -> tuple:
     u1 = float(mp.expm1(-sl * x1) / sl)
     u2 = float(mp.expm1(sl * (c2 - c1 - x1)) / sl)
     M = b + f1 + f2
-    D = max(abs(u1), abs(u2))
+    Mh = b + float(t1.pmf(c1) + t1.pmf(c2))  # bounds the window's mass at high
+    # sum over the window of f |u| <= M max|u|, and (|u| <= (f_high/f_low + 1) / s_)
+    # <= (M + Mh) / s_: the second is the smaller once the log ratio changes by
+    # more than ~2 over the window (a wide band)
+    D = min(max(abs(u1), abs(u2)), (M + Mh) / (M * float(sl)))
     dx = 8.0 * UNIT_ROUNDOFF * (abs(float(t1.law.mean - t0.law.mean)) + abs(float(x1))
                                 + (c2 - c1) + 1.0)
     den = u2 - u1
