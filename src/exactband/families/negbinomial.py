@@ -14,12 +14,13 @@ import numpy as np
 from scipy import special as sp
 
 from ..mpnum import dec, frac
-from . import _saddle
+from . import _saddle, _tailratio
 from . import mptable as mt
 from .base import Family
 from .floatlaw import FloatLaw, as_float
 
 SUM_TOP = 6000  # largest support point summed term by term (huge size r)
+RATIO_MIN = 1e4  # far tails whose tail/mass ratio passes this are mass x ratio (_tailratio)
 
 
 class NegBinomialLaw(FloatLaw):
@@ -83,6 +84,32 @@ class NegBinomialLaw(FloatLaw):
             below = y[None, :] <= cs[:, None]
             cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
             sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
+        return cls._far_tails(cdf, sf, r_, m_, c_, summed)
+
+    @classmethod
+    def _far_tails(cls, cdf, sf, r, m, c, summed):
+        """Far tails as mass x (tail/mass ratio) where that ratio is large.
+
+        There a gamma = (alpha - tail)/mass has a condition number ~ the ratio
+        (1e9 at a size r ~ 4e8, mean ~ 3e14, alpha ~ 1e-65) and the incomplete
+        beta's relative error (up to ~7e-11) would reach it; the ratio of
+        ``_tailratio`` keeps a few units of roundoff (docs/tolerances.md section 8).
+        """
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            right = (~summed & (c > m) & _tailratio.right_usable(c, r, m)
+                     & ((c + r) * (m / r) >= RATIO_MIN * ((c - m) + 1.0 + m / r)))
+            left = (~summed & (c < m) & _tailratio.left_usable(c, r, m)
+                    & (c * (r + m) >= RATIO_MIN * r * ((m - c) + 1.0)))
+        if not (np.any(right) or np.any(left)):
+            return cdf, sf
+        cdf, sf = (np.array(np.broadcast_to(x, r.shape), dtype=float) for x in (cdf, sf))
+        for mask, out, ratio, add in ((right, sf, _tailratio.right_ratio, 0.0),
+                                      (left, cdf, _tailratio.left_ratio, 1.0)):
+            if np.any(mask):
+                j = np.nonzero(mask.ravel())[0]
+                rs, ms, cs = r.ravel()[j], m.ravel()[j], c.ravel()[j]
+                f = np.exp(cls.logpmf(cs, (rs, ms)))
+                out.ravel()[j] = f * (add + ratio(cs, rs, ms))
         return cdf, sf
 
     @classmethod
