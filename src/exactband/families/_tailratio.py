@@ -44,11 +44,11 @@ MIN_DECAY = 0.5  # for B < 0: the integrand is <= exp(-w A/lam); A/lam at least 
 
 
 def log1p_minus(x):
-    """log1p(x) - x for x >= 0 (<= 0), without cancellation.
+    """log1p(x) - x for x > -1 (<= 0), without cancellation.
 
     With v = x/(2 + x): log1p(x) - x = -sum_{j>=2} c_j v^j, c_j = 2 (j even),
-    2 - 2/j (j odd), all terms of one sign; used for x < 1 (v < 1/3, 40 terms
-    reach 1e-19 of the first); above, log1p(x) - x loses at most a factor 3.3.
+    2 - 2/j (j odd); used for -1/2 < x < 1 (|v| < 1/3, the first term dominant,
+    40 terms reach 1e-19 of it); outside, log1p(x) - x loses at most a factor 3.6.
     """
     x = np.asarray(x, dtype=float)
     v = x / (2.0 + x)
@@ -57,7 +57,27 @@ def log1p_minus(x):
     for j in range(2, 42):
         acc += (2.0 if j % 2 == 0 else 2.0 - 2.0 / j) * vj
         vj = vj * v
-    return np.where(x < 1.0, -acc, np.log1p(x) - x)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where((x > -0.5) & (x < 1.0), -acc, np.log1p(x) - x)
+
+
+def deviance(e):
+    """(1 + e) log1p(e) - e for e > -1 (>= 0), without cancellation.
+
+    With v = e/(2 + e) (so 1 + e = (1 + v)/(1 - v), log1p(e) = 2 atanh v):
+    (1 - v) times it is 2 v^2 + sum_{k>=1} 2/(2k+1) v^(2k+1) (1 + v), the first term
+    dominant for |v| < 1/3 (-1/2 < e < 1, 40 powers); outside,
+    (log1p(e) - e) + e log1p(e) loses at most a factor 3.5.
+    """
+    e = np.asarray(e, dtype=float)
+    v = e / (2.0 + e)
+    acc = 2.0 * v * v
+    vk = v * v * v
+    for k in range(1, 21):
+        acc += 2.0 / (2 * k + 1) * vk * (1.0 + v)
+        vk = vk * v * v
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.where((e > -0.5) & (e < 1.0), acc / (1.0 - v), log1p_minus(e) + e * np.log1p(e))
 
 
 def expm1_plus(s):
@@ -129,3 +149,24 @@ def left_ratio(c, r, m):
     c, r, m = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (c, r, m)))
     A, B, rho, lam = _left_terms(c, r, m)
     return c * ((r + m) / m) * _integral(A, B, rho, lam)
+
+
+def far_logpmf(y, r, m):
+    """log pmf(y), y >= 1, of NB(size r, mean m) with both deviance terms from relative deviations.
+
+    The saddle-point form of negbinomial.NegBinomialLaw.logpmf with
+    bd0(r, r (1 + delta)) = -r (log1p(delta) - delta), delta = (y - m)/(r + m), and
+    bd0(y, M) = M deviance(d/M), M = (y + r) m/(r + m), d = r delta = y - M:
+    every piece of log pmf then has one sign or is small, so its relative error
+    is a few units of roundoff (bd0(x, M) from a rounded ratio x/M lost up to
+    ~80 units where the deviation is large; docs/tolerances.md section 8).
+    """
+    from ._saddle import stirlerr
+
+    y, r, m = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (y, r, m)))
+    delta = (y - m) / (r + m)
+    t1 = -r * log1p_minus(delta)
+    big_m = (y + r) * (m / (r + m))
+    t2 = big_m * deviance(r * delta / big_m)
+    return (stirlerr(y + r) - stirlerr(r) - stirlerr(y) - t1 - t2
+            - 0.5 * np.log(2.0 * np.pi * y) - 0.5 * np.log1p(y / r))

@@ -23,6 +23,16 @@ SUM_TOP = 6000  # largest support point summed term by term (huge size r)
 RATIO_MIN = 1e4  # far tails whose tail/mass ratio passes this are mass x ratio (_tailratio)
 
 
+def far_tail(c, r, m):
+    """(right, left): where P(Y > c)/pmf(c) (c > m), or P(Y < c)/pmf(c) (c < m), is at least
+    about RATIO_MIN, by the leading terms of _tailratio: (c + r)(m/r) / ((c - m) + 1 + m/r)
+    and c (r + m) / (r (m - c + 1))."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        right = (c > m) & ((c + r) * (m / r) >= RATIO_MIN * ((c - m) + 1.0 + m / r))
+        left = (c < m) & (c * (r + m) >= RATIO_MIN * r * ((m - c) + 1.0))
+    return right, left
+
+
 class NegBinomialLaw(FloatLaw):
     """Y ~ NB(size r = n*k, mean m = n*theta), P = (r, m), t = m.
 
@@ -95,11 +105,9 @@ class NegBinomialLaw(FloatLaw):
         beta's relative error (up to ~7e-11) would reach it; the ratio of
         ``_tailratio`` keeps a few units of roundoff (docs/tolerances.md section 8).
         """
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            right = (~summed & (c > m) & _tailratio.right_usable(c, r, m)
-                     & ((c + r) * (m / r) >= RATIO_MIN * ((c - m) + 1.0 + m / r)))
-            left = (~summed & (c < m) & _tailratio.left_usable(c, r, m)
-                    & (c * (r + m) >= RATIO_MIN * r * ((m - c) + 1.0)))
+        far_r, far_l = far_tail(c, r, m)
+        right = ~summed & far_r & _tailratio.right_usable(c, r, m)
+        left = ~summed & far_l & _tailratio.left_usable(c, r, m)
         if not (np.any(right) or np.any(left)):
             return cdf, sf
         cdf, sf = (np.array(np.broadcast_to(x, r.shape), dtype=float) for x in (cdf, sf))
@@ -144,6 +152,14 @@ class NegBinomialLaw(FloatLaw):
                    - _saddle.bd0(y1, (y1 + r) * qc, d)
                    - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
         out = np.where(yy == 0, at0, pos)
+        # far tails (a large tail/mass ratio, where a gamma's condition number is about
+        # that ratio): the deviance terms from relative deviations (_tailratio.far_logpmf)
+        far = np.logical_or(*far_tail(yy, r, m)) & (yy > 0)
+        if np.any(far):
+            yb, rb, mb = np.broadcast_arrays(yy, r, m)
+            j = np.nonzero(far.ravel())[0]
+            out = np.array(np.broadcast_to(out, yb.shape), dtype=float)
+            out.ravel()[j] = _tailratio.far_logpmf(yb.ravel()[j], rb.ravel()[j], mb.ravel()[j])
         # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
         #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
         # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
