@@ -52,13 +52,24 @@ def log1p_minus(x):
     """
     x = np.asarray(x, dtype=float)
     v = x / (2.0 + x)
+    inside = (x > -0.5) & (x < 1.0)
     acc = np.zeros_like(x)
     vj = v * v
-    for j in range(2, 42):
+    for j in range(2, 2 + _terms(v, inside, 40)):
         acc += (2.0 if j % 2 == 0 else 2.0 - 2.0 / j) * vj
         vj = vj * v
+    if np.all(inside):
+        return -acc
     with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where((x > -0.5) & (x < 1.0), -acc, np.log1p(x) - x)
+        return np.where(inside, -acc, np.log1p(x) - x)
+
+
+def _terms(v, inside, most):
+    """Powers of v past the first needed for 2^-64 of it where ``inside`` (at most ``most``)."""
+    top = float(np.max(np.abs(np.where(inside, v, 0.0)), initial=0.0))
+    if top == 0.0:
+        return 1
+    return int(min(most, np.ceil(64.0 / -np.log2(top)) + 1))
 
 
 def deviance(e):
@@ -71,13 +82,16 @@ def deviance(e):
     """
     e = np.asarray(e, dtype=float)
     v = e / (2.0 + e)
+    inside = (e > -0.5) & (e < 1.0)
     acc = 2.0 * v * v
     vk = v * v * v
-    for k in range(1, 21):
+    for k in range(1, 1 + (_terms(v, inside, 40) + 1) // 2):
         acc += 2.0 / (2 * k + 1) * vk * (1.0 + v)
         vk = vk * v * v
+    if np.all(inside):
+        return acc / (1.0 - v)
     with np.errstate(invalid="ignore", divide="ignore"):
-        return np.where((e > -0.5) & (e < 1.0), acc / (1.0 - v), log1p_minus(e) + e * np.log1p(e))
+        return np.where(inside, acc / (1.0 - v), log1p_minus(e) + e * np.log1p(e))
 
 
 def expm1_plus(s):
@@ -89,7 +103,7 @@ def expm1_plus(s):
     s = np.asarray(s, dtype=float)
     acc = np.zeros_like(s)
     term = s * s / 2.0
-    for k in range(3, 27):
+    for k in range(3, 3 + _terms(s, s < 1.0, 24)):
         acc += term
         term = -term * s / k
     return np.where(s < 1.0, acc, s + np.expm1(-s))
