@@ -26,8 +26,16 @@ RATIO_MIN = 1e4  # far tails whose tail/mass ratio passes this are mass x ratio 
 def far_tail(c, r, m):
     """(right, left): where P(Y > c)/pmf(c) (c > m), or P(Y < c)/pmf(c) (c < m), is at least
     about RATIO_MIN, by the leading terms of _tailratio: (c + r)(m/r) / ((c - m) + 1 + m/r)
-    and c (r + m) / (r (m - c + 1))."""
+    and c (r + m) / (r (m - c + 1)).
+
+    Both are at most m max(1 + m/r, 1/r) (the right one falls from m at c = m towards
+    m/r, the left one rises to m (1 + m/r) at c = m): laws below RATIO_MIN there
+    have no far tail, checked on the parameters alone."""
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        bound = np.max(m * np.maximum(1.0 + m / r, 1.0 / r), initial=0.0)
+        if bound < RATIO_MIN:
+            none = np.zeros(np.broadcast(c, r, m).shape, dtype=bool)
+            return none, none
         right = (c > m) & ((c + r) * (m / r) >= RATIO_MIN * ((c - m) + 1.0 + m / r))
         left = (c < m) & (c * (r + m) >= RATIO_MIN * r * ((m - c) + 1.0))
     return right, left
@@ -106,10 +114,12 @@ class NegBinomialLaw(FloatLaw):
         ``_tailratio`` keeps a few units of roundoff (docs/tolerances.md section 8).
         """
         far_r, far_l = far_tail(c, r, m)
-        right = ~summed & far_r & _tailratio.right_usable(c, r, m)
-        left = ~summed & far_l & _tailratio.left_usable(c, r, m)
-        if not (np.any(right) or np.any(left)):
+        far_r &= ~summed
+        far_l &= ~summed
+        if not (np.any(far_r) or np.any(far_l)):
             return cdf, sf
+        right = far_r & _tailratio.right_usable(c, r, m)
+        left = far_l & _tailratio.left_usable(c, r, m)
         cdf, sf = (np.array(np.broadcast_to(x, r.shape), dtype=float) for x in (cdf, sf))
         for mask, out, ratio, add in ((right, sf, _tailratio.right_ratio, 0.0),
                                       (left, cdf, _tailratio.left_ratio, 1.0)):
