@@ -71,11 +71,13 @@ class CrossCheck:
     phi_tol: float = PHI_TOL
     size_tol: float = 0.0  # 0: not recorded (older records); see SIZE_TOL
     floor: float = 0.0  # the gamma's double-precision floor (floor_dg); 0: not recorded
+    same_cutoffs: bool = True  # the two designs have the same cutoffs (only gammas differ)
 
     @property
     def beyond_double(self) -> bool:
-        """A disagreement where the floor of any double evaluation is above PHI_CEIL."""
-        return not self.agree and self.floor > PHI_CEIL
+        """A disagreement in the gammas alone where the floor of any double evaluation is
+        above PHI_CEIL (a different cutoff is a disagreement, never this)."""
+        return not self.agree and self.same_cutoffs and self.floor > PHI_CEIL
 
     def summary(self) -> str:
         state = "agree" if self.agree else "DISAGREE"
@@ -219,4 +221,7 @@ def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossChec
     if not ok:
         reason = (f"max |phi difference| {dist:.3e} (tolerance {phi_tol:.1e}), "
                   f"fast-solver size error {ferr:.3e} (tolerance {size_tol:.1e})")
-    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol, floor)
+    same = all((a is None and b is None) or (a is not None and b is not None
+                                               and float(a) == float(b))
+               for a, b in ((fast[0], pd[0]), (fast[2], pd[2])))
+    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol, floor, same)
