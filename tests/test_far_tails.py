@@ -158,3 +158,19 @@ def test_beyond_double_precision_is_declined_in_one_line():
     msg = str(e.value)
     assert "\n" not in msg and "cannot be verified in double precision" in msg
     assert e.value.field == "alpha"
+
+
+def test_beyond_double_needs_the_same_cutoffs():
+    from exactband.crosscheck import PHI_CEIL, compare
+    from exactband.solvers import precise
+
+    p = api.make_problem(NB, "upper", n=1, value=1e9, dispersion=0.05, alpha=1e-50)
+    sol = api.fast_solve([p])[0]
+    pd = precise.solve(p.family, "upper", p.n, p.alpha, value=p.value, dispersion=p.dispersion)
+    ok = compare("upper", p.alpha, sol, pd, 50)
+    assert ok.agree and ok.floor > PHI_CEIL and not ok.beyond_double
+    off = compare("upper", p.alpha, (sol[0], sol[1], sol[2], sol[3] + 0.002), pd, 50)
+    assert not off.agree and off.beyond_double  # gammas alone differ: a double-precision limit
+    for shift in (-1, 1):  # a wrong cutoff is a disagreement, never declined as that
+        wrong = compare("upper", p.alpha, (sol[0], sol[1], sol[2] + shift, sol[3]), pd, 50)
+        assert not wrong.agree and not wrong.beyond_double
