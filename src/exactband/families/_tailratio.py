@@ -127,15 +127,15 @@ def _usable(A, B, rho, lam):
     return (lam > 0) & np.isfinite(quad) & (quad <= MAX_QUAD) & ((B >= 0) | (decay >= MIN_DECAY))
 
 
-def _right_terms(c, r, m):
+def _right_terms(c, r, m, lo=0.0):
     A, B, rho = c + 1.0, r - 1.0, m / r
-    lam = (c - m) + 1.0 + rho
+    lam = ((c - m) - lo) + 1.0 + rho
     return A, B, rho, lam
 
 
-def _left_terms(c, r, m):
+def _left_terms(c, r, m, lo=0.0):
     A, B, rho = r, c - 1.0, r / m
-    lam = rho * ((m - c) + 1.0)
+    lam = rho * (((m - c) + lo) + 1.0)
     return A, B, rho, lam
 
 
@@ -151,21 +151,25 @@ def left_usable(c, r, m):
     return (c >= 1.0) & _usable(*_left_terms(c, r, m))
 
 
-def right_ratio(c, r, m):
-    """P(Y > c) / pmf(c) for Y ~ NB(size r, mean m), where right_usable (module doc)."""
-    c, r, m = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (c, r, m)))
-    A, B, rho, lam = _right_terms(c, r, m)
+def right_ratio(c, r, m, lo=0.0):
+    """P(Y > c) / pmf(c) for Y ~ NB(size r, mean m + lo), where right_usable (module doc).
+
+    ``lo`` is a residual of the mean far below m (the decimal mean minus its double):
+    it enters only the deviation c - m, where the rounding of m would be amplified.
+    """
+    c, r, m, lo = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (c, r, m, lo)))
+    A, B, rho, lam = _right_terms(c, r, m, lo)
     return (c + r) * rho * _integral(A, B, rho, lam)
 
 
-def left_ratio(c, r, m):
-    """P(Y < c) / pmf(c) for Y ~ NB(size r, mean m), where left_usable (module doc)."""
-    c, r, m = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (c, r, m)))
-    A, B, rho, lam = _left_terms(c, r, m)
+def left_ratio(c, r, m, lo=0.0):
+    """P(Y < c) / pmf(c) for Y ~ NB(size r, mean m + lo), where left_usable (module doc)."""
+    c, r, m, lo = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (c, r, m, lo)))
+    A, B, rho, lam = _left_terms(c, r, m, lo)
     return c * ((r + m) / m) * _integral(A, B, rho, lam)
 
 
-def far_logpmf(y, r, m):
+def far_logpmf(y, r, m, lo=0.0):
     """log pmf(y), y >= 1, of NB(size r, mean m) with both deviance terms from relative deviations.
 
     The saddle-point form of negbinomial.NegBinomialLaw.logpmf with
@@ -177,8 +181,8 @@ def far_logpmf(y, r, m):
     """
     from ._saddle import stirlerr
 
-    y, r, m = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (y, r, m)))
-    delta = (y - m) / (r + m)
+    y, r, m, lo = np.broadcast_arrays(*(np.asarray(a, dtype=float) for a in (y, r, m, lo)))
+    delta = ((y - m) - lo) / (r + m)  # lo: the mean's residual, as in right_ratio
     t1 = -r * log1p_minus(delta)
     big_m = (y + r) * (m / (r + m))
     t2 = big_m * deviance(r * delta / big_m)

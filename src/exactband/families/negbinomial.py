@@ -41,6 +41,39 @@ def far_tail(c, r, m):
     return right, left
 
 
+RESIDUAL_MIN = 2.0 ** 20  # means below this have no far tail whose gamma their rounding moves
+
+
+def mean_residual(theta, n, m):
+    """(n x the decimal theta) - m for the double m = n * theta (0 below RESIDUAL_MIN).
+
+    A far tail's gamma moves with d log tail / d log m ~ z sqrt(r) times m's
+    rounding (1e-2 in gamma at kappa ~ 2e10, z sqrt(r) ~ 9e3): the far forms of
+    _tailratio take the deviation y - m as (y - m) - residual, the mean the
+    user wrote (docs/tolerances.md section 8).
+    """
+    import decimal
+
+    from ..mpnum import exact
+
+    m = np.asarray(m, dtype=float)
+    out = np.zeros(m.shape)
+    big = np.abs(m) >= RESIDUAL_MIN
+    if np.any(big):
+        th = np.broadcast_to(np.asarray(theta, dtype=float), m.shape)
+        nn = np.broadcast_to(np.asarray(n, dtype=float), m.shape)
+        with decimal.localcontext() as ctx:
+            ctx.prec = 200  # every product and difference below is exact
+            for i in zip(*np.nonzero(big)):
+                e = exact(float(nn[i])) * exact(float(th[i])) - decimal.Decimal(float(m[i]))
+                out[i] = float(e)
+    return out
+
+
+def _residual(P):
+    return P[2] if len(P) > 2 else 0.0
+
+
 class NegBinomialLaw(FloatLaw):
     """Y ~ NB(size r = n*k, mean m = n*theta), P = (r, m), t = m.
 
@@ -54,7 +87,8 @@ class NegBinomialLaw(FloatLaw):
     def make(theta, n, k):
         r = as_float(n) * as_float(k)
         m = as_float(n) * as_float(theta)
-        return (r + 0.0 * m, m + 0.0 * r)
+        r, m = r + 0.0 * m, m + 0.0 * r
+        return (r, m, mean_residual(theta, n, m))
 
     @staticmethod
     def t(P):
@@ -62,7 +96,7 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def with_t(P, t):
-        return (P[0], t)
+        return (P[0], t)  # a mean between the inputs: no decimal behind it
 
     @staticmethod
     def supmax(P):
@@ -75,13 +109,13 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def moments(P):
-        r, m = P
+        r, m = P[0], P[1]
         var = m + m * m / r
         return m, var, (r + 2.0 * m) / np.sqrt(r * m * (r + m))
 
     @classmethod
     def _tails(cls, c, P):
-        r, m = P
+        r, m = P[0], P[1]
         q = r / (r + m)
         qc = m / (r + m)  # 1 - q, computed without cancellation
         a = c + 1.0
@@ -102,10 +136,11 @@ class NegBinomialLaw(FloatLaw):
             below = y[None, :] <= cs[:, None]
             cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
             sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
-        return cls._far_tails(cdf, sf, r_, m_, c_, summed)
+        lo = np.broadcast_to(_residual(P), r_.shape)
+        return cls._far_tails(cdf, sf, r_, m_, c_, summed, lo)
 
     @classmethod
-    def _far_tails(cls, cdf, sf, r, m, c, summed):
+    def _far_tails(cls, cdf, sf, r, m, c, summed, lo):
         """Far tails as mass x (tail/mass ratio) where that ratio is large.
 
         There a gamma = (alpha - tail)/mass has a condition number ~ the ratio
@@ -125,9 +160,9 @@ class NegBinomialLaw(FloatLaw):
                                       (left, cdf, _tailratio.left_ratio, 1.0)):
             if np.any(mask):
                 j = np.nonzero(mask.ravel())[0]
-                rs, ms, cs = r.ravel()[j], m.ravel()[j], c.ravel()[j]
-                f = np.exp(cls.logpmf(cs, (rs, ms)))
-                out.ravel()[j] = f * (add + ratio(cs, rs, ms))
+                rs, ms, cs, ls = r.ravel()[j], m.ravel()[j], c.ravel()[j], lo.ravel()[j]
+                f = np.exp(cls.logpmf(cs, (rs, ms, ls)))
+                out.ravel()[j] = f * (add + ratio(cs, rs, ms, ls))
         return cdf, sf
 
     @classmethod
@@ -145,7 +180,7 @@ class NegBinomialLaw(FloatLaw):
     @staticmethod
     def logpmf(y, P):
         y = as_float(y)
-        r, m = P
+        r, m = P[0], P[1]
         ok = y >= 0
         yy = np.where(ok, y, 0.0)
         qc = m / (r + m)
@@ -166,10 +201,11 @@ class NegBinomialLaw(FloatLaw):
         # that ratio): the deviance terms from relative deviations (_tailratio.far_logpmf)
         far = np.logical_or(*far_tail(yy, r, m)) & (yy > 0)
         if np.any(far):
-            yb, rb, mb = np.broadcast_arrays(yy, r, m)
+            yb, rb, mb, lb = np.broadcast_arrays(yy, r, m, _residual(P))
             j = np.nonzero(far.ravel())[0]
             out = np.array(np.broadcast_to(out, yb.shape), dtype=float)
-            out.ravel()[j] = _tailratio.far_logpmf(yb.ravel()[j], rb.ravel()[j], mb.ravel()[j])
+            out.ravel()[j] = _tailratio.far_logpmf(yb.ravel()[j], rb.ravel()[j], mb.ravel()[j],
+                                                   lb.ravel()[j])
         # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
         #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
         # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
@@ -186,24 +222,24 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def weight(c, P):
-        r, m = P
+        r, m = P[0], P[1]
         return (r + as_float(c)) / (r + m)
 
     @staticmethod
     def dlogw(c, P):
-        r, m = P
+        r, m = P[0], P[1]
         c = as_float(c)
         # c/m - (r + c + 1)/(r + m), without the cancellation of r against r + m
         return c / m - 1.0 - (c + 1.0 - m) / (r + m)
 
     @staticmethod
     def dlogpmf(y, P):
-        r, m = P
+        r, m = P[0], P[1]
         return r * (as_float(y) - m) / (m * (r + m))
 
     @staticmethod
     def logratio(y, P, dt):
-        r, m = P
+        r, m = P[0], P[1]
         y = as_float(y)
         return -r * np.log1p(dt / (r + m)) + y * np.log1p(dt * r / (m * (r + m + dt)))
 
