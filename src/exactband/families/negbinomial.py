@@ -104,7 +104,7 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def mode(P):
-        r, mean = P
+        r, mean = P[0], P[1]
         return np.where(r > 1.0, np.floor((r - 1.0) * mean / r), 0.0)
 
     @staticmethod
