@@ -70,6 +70,22 @@ def mean_residual(theta, n, m):
     return out
 
 
+def _saddle_logpmf(yy, r, m, qc, at0):
+    """log pmf in saddle-point form (section 1 of docs/tolerances.md), y >= 0."""
+    # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y (y > 0) in saddle-point form, with
+    # y itself (never (y + r) - r) and the deviations d = r (y - m)/(r + m) formed
+    # without cancellation (derivation: docs/tolerances.md section 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y1 = np.where(yy > 0, yy, 1.0)
+        d = r * (y1 - m) / (r + m)
+        pos = (_saddle.stirlerr(y1 + r) - _saddle.stirlerr(r + 0.0 * y1)
+               - _saddle.stirlerr(y1)
+               - _saddle.bd0(r + 0.0 * y1, r * (r + y1) / (r + m), -d)
+               - _saddle.bd0(y1, (y1 + r) * qc, d)
+               - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
+    return np.where(yy == 0, at0, pos)
+
+
 def _residual(P):
     return P[2] if len(P) > 2 else 0.0
 
@@ -185,22 +201,14 @@ class NegBinomialLaw(FloatLaw):
         yy = np.where(ok, y, 0.0)
         qc = m / (r + m)
         at0 = -r * np.log1p(m / r)
-        # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y (y > 0) in saddle-point form, with
-        # y itself (never (y + r) - r) and the deviations d = r (y - m)/(r + m) formed
-        # without cancellation (derivation: docs/tolerances.md section 1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            y1 = np.where(yy > 0, yy, 1.0)
-            d = r * (y1 - m) / (r + m)
-            pos = (_saddle.stirlerr(y1 + r) - _saddle.stirlerr(r + 0.0 * y1)
-                   - _saddle.stirlerr(y1)
-                   - _saddle.bd0(r + 0.0 * y1, r * (r + y1) / (r + m), -d)
-                   - _saddle.bd0(y1, (y1 + r) * qc, d)
-                   - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
-        out = np.where(yy == 0, at0, pos)
+        far = np.logical_or(*far_tail(yy, r, m)) & (yy > 0)
+        if np.all(far):  # every point in a far tail: only the far form is needed
+            out = _tailratio.far_logpmf(yy, r, m, _residual(P))
+        else:
+            out = _saddle_logpmf(yy, r, m, qc, at0)
         # far tails (a large tail/mass ratio, where a gamma's condition number is about
         # that ratio): the deviance terms from relative deviations (_tailratio.far_logpmf)
-        far = np.logical_or(*far_tail(yy, r, m)) & (yy > 0)
-        if np.any(far):
+        if np.any(far) and not np.all(far):
             yb, rb, mb, lb = np.broadcast_arrays(yy, r, m, _residual(P))
             j = np.nonzero(far.ravel())[0]
             out = np.array(np.broadcast_to(out, yb.shape), dtype=float)
