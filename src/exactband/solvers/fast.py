@@ -19,8 +19,8 @@ import numpy as np
 
 from ..kinds import KINDS
 from ..mpnum import float_complements
-from .canonical import canonical_band, equivalence_from_band, refine_equivalence
 from . import window
+from .canonical import canonical_band, equivalence_from_band, refine_equivalence
 from .conditions import Derivative, Difference
 from .search import lower as _lower
 from .search import upper as _upper
