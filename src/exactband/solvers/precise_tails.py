@@ -377,7 +377,7 @@ def check_cost(T, hint: CostHint | None, prec: int):
     if terms > MAX_CF_TERMS:
         raise TableTooLarge(
             f"about {terms:,.0f} continued-fraction terms predicted for the tails of a law with "
-            f"standard deviation {T.sd_f:.3g} at cutoffs {z:.2g} sd from its mean, "
+            f"standard deviation {T.sd_f:.3g} at cutoffs {abs(z):.2g} sd from its mean, "
             f"limit {MAX_CF_TERMS:,}")
 
 
