@@ -7,7 +7,7 @@ negative-binomial): means 1e6 to 1e11, relative band width 1e-9 to 1e-3, alpha
 within 1e-12 to 1e-3 of 1 (about a quarter of them as the equivalence design at
 1 - alpha), and verifies each (``design(..., verify=True)``), one JSON line per
 design: ok, decline (a one-line DesignError), disagree (VerificationError),
-fail:<exception>, or timeout (60 s).  Figures: docs/tolerances.md section 8.
+fail:<exception>, or timeout (60 s).  Figures: docs/tolerances.md section 9.
 """
 
 from __future__ import annotations

@@ -32,7 +32,7 @@ LINE_SLOPE per point, is integrated (midpoint Euler-Maclaurin: the sum over
 c1..c2 is the integral over [c1 - 1/2, c2 + 1/2] minus (h'(c2 + 1/2) -
 h'(c1 - 1/2)) / 24, the next term being below 1e-9 of the window's scale
 there; the integral by 20-point Gauss-Legendre on panels over which log f
-changes by at most 1).  Error analysis: docs/tolerances.md section 8.
+changes by at most 1).  Error analysis: docs/tolerances.md section 9.
 """
 
 from __future__ import annotations
