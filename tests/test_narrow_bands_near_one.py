@@ -29,6 +29,9 @@ import pytest
 from exactband import api
 from exactband.errors import DesignError
 from exactband.families.registry import get_family
+from exactband.mpnum import float_complement
+from exactband.solvers.lineform import Line, window_search
+from exactband.solvers.twotailed import WINDOW_SUM
 
 DPS = 40  # loggamma at y ~ 4e10 cancels ~12 digits: 28 left
 
@@ -199,8 +202,10 @@ def test_window_search_where_the_tails_cannot_place_the_window():
     """Binomial n = 1e12, p ~ 0.0428 (mean 4.3e10), alpha = 1 - 4.4e-12: the window is
     two points with 1 - gamma ~ 1e-6, below what the search's tails (absolute error
     ~1e-12 here) resolve; the fast solver failed (exit 70) before.  Now the window
-    is found from its own masses (``lineform.window_search``).  The verified path
-    declines the law (its table would pass 2,000,000 terms), with one line."""
+    search in its own terms (``window``) places it and the line form gives its
+    gammas; ``lineform.window_search`` (the complement search's fallback) finds the
+    same rule.  The verified path declines the law (its table would pass 2,000,000
+    terms), with one line."""
     family, n, low, high, alpha = "binomial", 10**12, 0.04277874839, 0.0427789845521, \
         0.999999999995567
     d = api.design(family, "band", n=n, low=low, high=high, alpha=alpha, verify=False)
@@ -213,3 +218,10 @@ def test_window_search_where_the_tails_cannot_place_the_window():
             assert abs(acc / b - 1) <= 1e-9  # measured 1.5e-12
     with pytest.raises(DesignError):
         api.design(family, "band", n=n, low=low, high=high, alpha=alpha)
+    fam = get_family(family)
+    lo, hi, nn = np.array([low]), np.array([high]), np.array([float(n)])
+    b = np.array([float_complement(alpha)])
+    w = window_search(fam.float_law, fam.float_law.make(lo, nn, None), Line(fam, lo, hi, nn, None),
+                      b, WINDOW_SUM)
+    assert (w[0][0], w[2][0]) == (d.c1, d.c2)
+    assert abs(w[1][0] - d.gamma1) <= 1e-9 and abs(w[3][0] - d.gamma2) <= 1e-9
