@@ -152,6 +152,9 @@ def _line_path(s, c1, c2, T):
     if lo < LINE_MEAN:
         return None
     t0, t1 = T
+    ends = [t.pmf(c) for t in T for c in (c1, c2)]
+    if not all(x > 0 for x in ends):  # a window beyond a table's reach: not this path
+        return None
     l1 = mp.log(t1.pmf(c1) / t0.pmf(c1))
     sl = (mp.log(t1.pmf(c2) / t0.pmf(c2)) - l1) / (c2 - c1)
     if not sl * (c2 - c1 + 1) <= LINE_SPAN:
@@ -159,8 +162,10 @@ def _line_path(s, c1, c2, T):
     line = (sl, -l1 / sl)
     if c2 - c1 <= WINDOW_SUM:
         return line
-    tilt = float(max(abs(mp.log(t0.pmf(c1) / t0.pmf(c1 - 1))),
-                     abs(mp.log(t0.pmf(c2 + 1) / t0.pmf(c2)))))
+    outer = (t0.pmf(c1 - 1), t0.pmf(c2 + 1))
+    if not all(x > 0 for x in outer):
+        return None
+    tilt = float(max(abs(mp.log(t0.pmf(c1) / outer[0])), abs(mp.log(outer[1] / t0.pmf(c2)))))
     return line if tilt <= LINE_SLOPE and tilt * (c2 - c1 + 1) <= MAX_PANELS else None
 
 
