@@ -366,7 +366,8 @@ def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int) -> tuple:
         if hint.kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
-    return evals * cf_terms_estimate(sd, z, prec), z
+    # the fractions run at the working precision + GUARD_BITS + 10 (mptails.tails)
+    return evals * cf_terms_estimate(sd, z, prec + GUARD_BITS + 10), z
 
 
 def check_cost(T, hint: CostHint | None, prec: int):
