@@ -44,6 +44,9 @@ MAX_SEG = 1 << 18  # masses per segment (bounds the floors' error, docs/toleranc
 CHECK_BITS = 16  # a certified tail agrees with a fresh anchor to 2**-(prec + CHECK_BITS)
 
 
+ALPHA_MIN_BITS = 333  # the smallest alpha allowed, 1e-100, is above 2**-333
+
+
 class TailCheckFailure(ArithmeticError):
     """A tail read from a segment disagrees with a fresh evaluation (never silent)."""
 
@@ -208,10 +211,17 @@ class TailTable:
 
     @property
     def hi(self):
-        """A point beyond which the right tail is below 2**-(prec + 100) (for open brackets)."""
+        """A point beyond which the right tail is below 2**-(prec + 100) times the
+        smallest alpha (for open brackets).
+
+        Relative to alpha, not to 1: at alpha = 4.74e-99 a tail of 2**-(prec + 100)
+        (~1e-96 at 65 digits) is still above alpha, and a bracket closed there
+        put the right cutoff of a point design short of its solution.
+        """
         if self._hi is None:
             with mp.workprec(self._prec):
-                self._hi = self.first_sf_at_most(mp.ldexp(_ONE, -(self._prec + 100)))
+                self._hi = self.first_sf_at_most(
+                    mp.ldexp(_ONE, -(self._prec + 100 + ALPHA_MIN_BITS)))
         return self._hi
 
     def certify(self, points):
