@@ -1,0 +1,68 @@
+"""Negative-binomial inputs inside the documented range that ended in exit 70 (issue 10).
+
+Each now gives a verified design whose size is checked here independently, or a
+one-line decline naming the limit it reached.
+"""
+
+from __future__ import annotations
+
+import mpmath as mp
+import pytest
+
+from exactband import api
+from exactband.cli import main
+from exactband.errors import DesignError
+
+from .test_far_tails import nb_parts
+
+NB = "negative-binomial"
+
+# the high mean n * high passes 1e15, the largest cutoff the fast solver searches
+# (SolverFailure "fast solver did not converge", exit 70, after ~36 s before)
+BEYOND = [
+    dict(n=271264, dispersion=1.25, low=6.743e7, high=2.5286e10, alpha=7.34e-38),
+    dict(n=269538, dispersion=60.9, low=4.237e7, high=2.476e10, alpha=1.7e-77),
+]
+
+
+@pytest.mark.parametrize("kw", BEYOND)
+def test_cutoff_beyond_search_limit_is_declined(kw):
+    with pytest.raises(DesignError, match="would pass 1e15"):
+        api.design(NB, "band", **kw)
+
+
+def test_cutoff_beyond_search_limit_cli_one_line(capsys):
+    kw = BEYOND[0]
+    code = main(["design", "--family", NB, "--kind", "band", "--n", str(kw["n"]),
+                 "--dispersion", "1.25", "--low", "6.743e7", "--high", "2.5286e10",
+                 "--alpha", "7.34e-38"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2 and len(err) == 1
+    assert err[0].startswith("exactband: error:") and "1e15" in err[0]
+
+
+def test_mean_just_inside_the_search_limit_still_solves():
+    # the check declines only what the search cannot reach: a Poisson mean of 1e13
+    # (upper cutoff ~ 1e13 + 13 sd) is solved by the fast path as before
+    d = api.design("poisson", "upper", n=1e12, value=10, alpha=1e-30, verify=False)
+    assert 1e13 < d.c2 < 1e13 + 1e8
+
+
+def test_point_with_all_left_tail_in_the_mass_at_zero():
+    # P(Y = 0) ~ 1.7e-61 is far above alpha: c1 = 0 with a gamma ~ 2.7e-38. The
+    # precise TailTable's open-bracket end (its right tail below 2**-(prec + 100),
+    # ~1e-96) lay short of the right cutoff at alpha 4.74e-99 (PreciseFailure
+    # "gamma -37242178 outside [0, 1]", exit 70, before)
+    kw = dict(n=93, dispersion=0.0863, value=3.214e6, alpha=4.74e-99)
+    d = api.design(NB, "point", verify=True, **kw)
+    assert d.verified and d.check.agree and d.c1 == 0
+    assert 0.0 <= d.gamma1 < 1.0 and 0.0 <= d.gamma2 < 1.0
+    # independent size: pmf from mpmath.loggamma, P(Y > c2) by mpmath.quad of the
+    # incomplete-beta integral (test_far_tails.nb_parts); to 1e-9 relative to alpha
+    with mp.workdps(40):
+        A = mp.mpf("4.74e-99")
+        r, m = mp.mpf(93) * mp.mpf("0.0863"), mp.mpf(93) * mp.mpf("3.214e6")
+        pmf, _, above = nb_parts(r, m)
+        g1, g2 = mp.mpf(d.gamma1_decimal), mp.mpf(d.gamma2_decimal)
+        size = g1 * pmf(0) + g2 * pmf(d.c2) + above(d.c2)
+        assert abs(size / A - 1) < 1e-9, size
