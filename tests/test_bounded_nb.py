@@ -66,3 +66,33 @@ def test_point_with_all_left_tail_in_the_mass_at_zero():
         g1, g2 = mp.mpf(d.gamma1_decimal), mp.mpf(d.gamma2_decimal)
         size = g1 * pmf(0) + g2 * pmf(d.c2) + above(d.c2)
         assert abs(size / A - 1) < 1e-9, size
+
+
+def test_narrow_window_at_a_huge_size_is_declined_before_the_work(capsys):
+    # size r = n k = 1.6e11 <= mean 2.6e14: read from its tails with no table; the
+    # window is 0.03 sd wide, so at alpha 1e-12 both cutoffs sit at the centre, where
+    # each continued fraction takes ~200,000 terms (94-167 s, then exit 1, before)
+    args = dict(n=348385, dispersion=4.7e5, low=7.351e8, high=7.35100057e8, alpha=1e-12)
+    with pytest.raises(DesignError, match="limit 300,000"):
+        api.design(NB, "equivalence", **args)
+    code = main(["design", "--family", NB, "--kind", "equivalence", "--n", "348385",
+                 "--dispersion", "4.7e5", "--low", "7.351e8", "--high", "7.35100057e8",
+                 "--alpha", "1e-12"])
+    err = capsys.readouterr().err.strip().splitlines()
+    assert code == 2 and len(err) == 1 and "size r = 1.64e+11" in err[0]
+
+
+@pytest.mark.parametrize("r,m", [(10**6, 10**12), (10**7, 10**8)])
+def test_centre_cost_estimate_covers_the_terms_taken(r, m):
+    # the cost check's prediction for a negative binomial read from its tails
+    # (cf_sd = 70 r^(1/3)) is not below the terms one evaluation takes near the centre
+    from fractions import Fraction
+
+    from exactband.families.mptails import NegBinomialTails, cf_terms_estimate
+
+    T = NegBinomialTails(Fraction(r), Fraction(m))
+    for z in (0.0, 0.3):
+        T.terms = 0
+        with mp.workprec(217):
+            T.tails(int(m + z * T.sd_f))
+        assert 0 < T.terms <= cf_terms_estimate(T.cf_sd, z, 217), (z, T.terms)

@@ -358,36 +358,43 @@ class CostHint(NamedTuple):
     other_mean: float | None = None
 
 
-def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int) -> tuple:
+def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int,
+                    cf_sd: float | None = None) -> tuple:
     """(terms, z): continued-fraction terms a design is predicted to take on this law.
 
     z is how near (in sd) to the law's mean its cutoffs may come: the alpha
     quantile for one-sided designs, the min(alpha, 1/2) quantile for two-tailed
-    ones, and for equivalence the smaller of that and the rest of the distance
-    to the other end's mean (a narrow equivalence window sits at the centre).
+    ones (min(alpha, 1 - alpha) for equivalence), and for equivalence the
+    smaller of that and the rest of the distance to the other end's mean (a
+    narrow equivalence window sits at the centre).
     Times the evaluations a design takes (10 one-sided, 30 two-tailed;
-    measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``.
+    measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``, whose centre
+    cost is set by ``cf_sd`` (the law's ``cf_sd``: 70 r^(1/3) for a negative
+    binomial whose spread comes from its dispersion; sd by default).
     """
     a = min(max(hint.alpha, 1e-300), 1.0 - 1e-16)
     if hint.kind in ("upper", "lower"):
         z = abs(NormalDist().inv_cdf(a))
     else:
-        z = -NormalDist().inv_cdf(min(a, 0.5))
+        # an equivalence design of size a > 1/2 is the band of size 1 - a: its
+        # cutoffs lie the 1 - a quantile out, not at the centre
+        z = -NormalDist().inv_cdf(min(a, 1.0 - a) if hint.kind == "equivalence" else min(a, 0.5))
         if hint.kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
-    return evals * cf_terms_estimate(sd, z, prec), z
+    return evals * cf_terms_estimate(sd if cf_sd is None else cf_sd, z, prec), z
 
 
 def check_cost(T, hint: CostHint | None, prec: int):
     """Raise TableTooLarge (one line, naming the limit) for a design predicted too slow."""
-    if hint is None or T.suited:
+    if hint is None:
         return
-    terms, z = predicted_terms(hint, T.mean_f, T.sd_f, prec)
+    terms, z = predicted_terms(hint, T.mean_f, T.sd_f, prec, T.cf_sd)
     if terms > MAX_CF_TERMS:
         raise TableTooLarge(
             f"about {terms:,.0f} continued-fraction terms predicted for the tails of a law with "
-            f"standard deviation {T.sd_f:.3g} at cutoffs {abs(z):.2g} sd from its mean, "
+            f"standard deviation {T.sd_f:.3g}{'' if T.cf_sd is None else f' (size r = {T.r_f:.3g})'}"
+            f" at cutoffs {abs(z):.2g} sd from its mean, "
             f"limit {MAX_CF_TERMS:,}")
 
 
