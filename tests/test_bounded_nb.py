@@ -85,14 +85,30 @@ def test_narrow_window_at_a_huge_size_is_declined_before_the_work(capsys):
 @pytest.mark.parametrize("r,m", [(10**6, 10**12), (10**7, 10**8)])
 def test_centre_cost_estimate_covers_the_terms_taken(r, m):
     # the cost check's prediction for a negative binomial read from its tails
-    # (cf_sd = 70 r^(1/3)) is not below the terms one evaluation takes near the centre
+    # (cf_sd = 50 r^(1/3)) is not below the terms one evaluation takes near the centre
+    # (at 217 bits of working precision the fractions run at 217 + GUARD_BITS + 10)
     from fractions import Fraction
 
-    from exactband.families.mptails import NegBinomialTails, cf_terms_estimate
+    from exactband.families.mptails import GUARD_BITS, NegBinomialTails, cf_terms_estimate
 
     T = NegBinomialTails(Fraction(r), Fraction(m))
     for z in (0.0, 0.3):
         T.terms = 0
         with mp.workprec(217):
             T.tails(int(m + z * T.sd_f))
-        assert 0 < T.terms <= cf_terms_estimate(T.cf_sd, z, 217), (z, T.terms)
+        assert 0 < T.terms <= cf_terms_estimate(T.cf_sd, z, 217 + GUARD_BITS + 10), (z, T.terms)
+
+
+def test_slow_tails_fall_back_to_a_table_that_fits():
+    # size r = mean = 2e8 (sd 2e4): a table fits; at alpha 0.5 the point design's
+    # cutoffs sit at the centre, where the fractions are predicted over the limit, so
+    # the law is tabulated (MpTable) instead of declined; at alpha 0.05 its tails are
+    # cheap and it is read from them (TailTable) as before
+    from exactband.solvers import precise
+
+    kw = dict(n=10000, dispersion=20000, value=20000)
+    for alpha, kind in ((0.5, "MpTable"), (0.05, "TailTable")):
+        precise.clear_cache()
+        d = api.design(NB, "point", alpha=alpha, verify=True, **kw)
+        assert d.verified and d.check.agree
+        assert {type(T).__name__ for T in precise._CACHE.values()} == {kind}

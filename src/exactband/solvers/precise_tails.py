@@ -112,8 +112,9 @@ class _Seg:
 class TailTable:
     """MpTable's questions answered from anchors (module doc); no truncation."""
 
-    def __init__(self, law, tails, moments: bool = False):
+    def __init__(self, law, tails, moments: bool = False, beyond: bool = True):
         self.law = law
+        self.beyond = beyond  # False: the law fits a table; read so because it was cheaper
         self.tails = tails
         self.moments = moments
         self._prec = mp.mp.prec
@@ -347,6 +348,7 @@ class TailTable:
 
 
 MAX_CF_TERMS = 300_000  # continued-fraction terms one design may be predicted to take
+SWITCH_TERMS = 200_000  # table terms past which a cheaper design is read from the tails
 _EVALS = {"upper": 10, "lower": 10}  # tail evaluations a design takes (measured; 30 if two-tailed)
 
 
@@ -369,7 +371,7 @@ def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int,
     narrow equivalence window sits at the centre).
     Times the evaluations a design takes (10 one-sided, 30 two-tailed;
     measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``, whose centre
-    cost is set by ``cf_sd`` (the law's ``cf_sd``: 70 r^(1/3) for a negative
+    cost is set by ``cf_sd`` (the law's ``cf_sd``: 50 r^(1/3) for a negative
     binomial whose spread comes from its dispersion; sd by default).
     """
     a = min(max(hint.alpha, 1e-300), 1.0 - 1e-16)
@@ -382,7 +384,21 @@ def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int,
         if hint.kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
-    return evals * cf_terms_estimate(sd if cf_sd is None else cf_sd, z, prec), z
+    # the fractions run at the working precision + GUARD_BITS + 10 (mptails.tails)
+    return evals * cf_terms_estimate(sd if cf_sd is None else cf_sd, z,
+                                     prec + GUARD_BITS + 10), z
+
+
+def over_cost(T, hint: CostHint | None, prec: int) -> bool:
+    """The design is predicted to take more than MAX_CF_TERMS fraction terms on T."""
+    return hint is not None and predicted_terms(hint, T.mean_f, T.sd_f, prec,
+                                                T.cf_sd)[0] > MAX_CF_TERMS
+
+
+def fits_table(sd: float, thr, prec: int) -> bool:
+    """The law's table stays within MAX_TABLE terms and MAX_TABLE_BYTES."""
+    terms, nbytes = table_estimate(sd, thr, prec)
+    return terms <= MAX_TABLE and nbytes <= MAX_TABLE_BYTES
 
 
 def check_cost(T, hint: CostHint | None, prec: int):
@@ -398,18 +414,33 @@ def check_cost(T, hint: CostHint | None, prec: int):
             f"limit {MAX_CF_TERMS:,}")
 
 
+def prefers_tails(T, terms: int, hint: CostHint | None, prec: int) -> bool:
+    """A law within the table limits is read from its tails when that is the cheaper way.
+
+    Only past SWITCH_TERMS table terms (laws that small keep their tables, so
+    their designs are computed as before), when the design is known (``hint``)
+    and its predicted fraction terms, at about twice a table term's cost each,
+    stay under the table's length and under MAX_CF_TERMS.  Both ways give the
+    same numbers to the working precision (docs/tolerances.md section 6).
+    """
+    if hint is None or T.suited or terms <= SWITCH_TERMS:
+        return False
+    cf, _ = predicted_terms(hint, T.mean_f, T.sd_f, prec)
+    return cf <= MAX_CF_TERMS and 2 * cf < terms
+
+
 def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
     """MpTable of the law, or a TailTable when the law is too spread out for a table.
 
     A law whose family gives single-point tails (``law.tails``) is read through a
     TailTable past TAIL_TERMS terms when the family says the tails are cheap for
-    it from there on (``suited``: a negative binomial with r <= m), and otherwise
-    past the table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it
-    was declined before: Poisson, binomial and the Poisson-like negative
-    binomial.  Those are declined (TableTooLarge) when the design is predicted to
-    take more than MAX_CF_TERMS continued-fraction terms (``check_cost``).
-    Every law that fits the table limits is still tabulated, so its designs are
-    unchanged.
+    it from there on (``suited``: a negative binomial with r <= m), past the
+    table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it was
+    declined before (Poisson, binomial and the Poisson-like negative binomial),
+    and past SWITCH_TERMS terms when the design's fractions are predicted to be
+    cheaper than the table (``prefers_tails``).  A design predicted to take more
+    than MAX_CF_TERMS continued-fraction terms is tabulated when the table fits,
+    and declined beyond the table limits (TableTooLarge, ``check_cost``).
     """
     tails = getattr(law, "tails", None)
     if tails is not None:
@@ -417,7 +448,12 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
         terms, nbytes = table_estimate(sd, thr, mp.mp.prec)
         if terms > TAIL_TERMS or nbytes > MAX_TABLE_BYTES:
             T = tails()
-            if T.suited or terms > MAX_TABLE or nbytes > MAX_TABLE_BYTES:
+            fits = terms <= MAX_TABLE and nbytes <= MAX_TABLE_BYTES
+            # a suited law whose fractions would be slow at this design's cutoffs (a
+            # size r above ~1e7, cutoffs near the centre) keeps its table when it fits
+            if (T.suited or not fits) and not (fits and over_cost(T, hint, mp.mp.prec)):
                 check_cost(T, hint, mp.mp.prec)
-                return TailTable(law, T, moments=True)
+                return TailTable(law, T, moments=True, beyond=True)
+            if prefers_tails(T, terms, hint, mp.mp.prec):
+                return TailTable(law, T, moments=True, beyond=False)
     return MpTable(law, thr, moments=moments)
