@@ -86,7 +86,7 @@ def check_reach(p: Problem) -> None:
         return
     big = np.array([BIG])
     a = float(p.alpha)
-    if p.kind.name == "lower":
+    if not p.kind.uses_c2:  # rejects below c1 only: its cutoff is beyond BIG if all of Y is
         below = float(L.cdf(big, P)[0])
         if not below <= a:  # (a NaN leaves the search to report)
             return
