@@ -274,7 +274,13 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     points = kind.points(low, high, value)
     lo, hi = points[0], points[-1]
     c1 = c2 = None
-    if kind.rejects_inside:
+    # alpha > 1/2: 1 - alpha is formed exactly from alpha's decimal (1.0 - alpha would carry
+    # alpha's rounding, relative 1e-16 / (1 - alpha)), and the rule is found from it
+    if kind.rejects_inside and alpha > 0.5:
+        # a window of mass alpha at both points is accepting two tails of mass 1 - alpha at
+        # both: the two-tailed search on the complement keeps the small tails' digits
+        c1, c2 = _two_tail(law, float_complement(alpha), lo, hi)
+    elif kind.rejects_inside:
         c1, c2 = _window(law, alpha, lo, hi)
     elif kind.two_tailed and alpha > 0.5:
         # rejecting outside [c1, c2] with size alpha at both points is accepting a window
@@ -283,8 +289,8 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     elif kind.two_tailed:
         c1, c2 = _two_tail(law, alpha, lo, hi)
     elif kind.uses_c2:
-        c2 = q_high(law, alpha, lo)
+        c2 = q_low(law, float_complement(alpha), lo) if alpha > 0.5 else q_high(law, alpha, lo)
     else:
-        c1 = q_low(law, alpha, lo)
+        c1 = q_high(law, float_complement(alpha), lo) if alpha > 0.5 else q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
     return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points))
