@@ -107,3 +107,36 @@ def set_files(folder) -> dict:
     if not folder.exists():
         return {}
     return {p.name: p.read_bytes() for p in sorted(folder.iterdir()) if p.is_file()}
+
+
+def stop_after(count: int):
+    """A progress callback that interrupts a build once ``count`` designs were reported."""
+    seen = []
+
+    def progress(k, total=None):
+        seen.append(k)
+        if sum(seen) >= count:
+            raise KeyboardInterrupt
+
+    return progress
+
+
+def interrupted_build(folder: Path, monkeypatch, spec: Path | None = None) -> tuple:
+    """A build of SMALL stopped after two chunks of 5 designs were saved to the cache.
+
+    Returns (spec, out, cache parts); the stop is deterministic (a progress callback
+    raising after 12 designs, CHUNK set to 5), never a timed kill.
+    """
+    import pytest
+
+    from exactband.tables import build as build_mod
+    from exactband.tables import generate
+
+    spec = spec or write_spec(folder, "small", SMALL)
+    out = Path(folder) / "out"
+    monkeypatch.setattr(build_mod, "CHUNK", 5)
+    with pytest.raises(KeyboardInterrupt):
+        generate(spec, out, workers=1, progress=stop_after(12))
+    parts = sorted((out / ".small.verify-cache").glob("part-*.json"))
+    assert len(parts) == 2  # two chunks of 5 saved before the interruption
+    return spec, out, parts

@@ -15,11 +15,10 @@ import pytest
 from exactband import solving
 from exactband.cli import main
 from exactband.errors import VerificationError
-from exactband.tables import build as build_mod
 from exactband.tables import cache as cache_mod
 from exactband.tables import generate
 
-from .tables_support import FINAL, OC, SMALL, built, set_files, write_spec
+from .tables_support import FINAL, OC, SMALL, built, interrupted_build, set_files, write_spec
 
 
 @pytest.fixture(scope="module")
@@ -107,21 +106,8 @@ def test_disagreement_stops_before_writing(tmp_path, monkeypatch, capsys):
 
 
 def test_resume_from_cache_and_invalidation(tmp_path, ref, monkeypatch):
-    spec = write_spec(tmp_path, "small", SMALL)
-    out = tmp_path / "out"
-    monkeypatch.setattr(build_mod, "CHUNK", 5)
-    seen = []
-
-    def stop_after_12(k, total=None):
-        seen.append(k)
-        if sum(seen) >= 12:
-            raise KeyboardInterrupt
-
-    with pytest.raises(KeyboardInterrupt):
-        generate(spec, out, workers=1, progress=stop_after_12)
+    spec, out, _ = interrupted_build(tmp_path, monkeypatch)
     assert not [p for p in out.iterdir() if p.name.endswith(FINAL)]
-    parts = sorted((out / ".small.verify-cache").glob("part-*.json"))
-    assert len(parts) == 2  # two chunks of 5 saved before the interruption
     notes = []
     generate(spec, out, workers=1, log=notes.append)
     assert notes == ["resumed 10 of 30 verified designs from the cache"]
@@ -129,9 +115,7 @@ def test_resume_from_cache_and_invalidation(tmp_path, ref, monkeypatch):
     assert not (out / ".small.verify-cache").exists()
     # a cache from another spec version or package version is not used
     for change in ("spec", "version"):
-        seen.clear()
-        with pytest.raises(KeyboardInterrupt):
-            generate(spec, out, workers=1, progress=stop_after_12)
+        interrupted_build(tmp_path, monkeypatch, spec=spec)
         if change == "spec":
             spec.write_text(SMALL + "# edited\n")
         else:

@@ -21,12 +21,11 @@ import pytest
 
 from exactband.cli import main
 from exactband.decide import DecideError
-from exactband.tables import build as build_mod
 from exactband.tables import check_set, generate
 from exactband.tables.publish import folder_lock
 from exactband.tableverify import verified_table_rule
 
-from .tables_support import FINAL, SMALL, built, set_files, write_spec
+from .tables_support import FINAL, SMALL, built, interrupted_build, set_files, write_spec
 
 
 @pytest.fixture(scope="module")
@@ -65,32 +64,13 @@ def _rehash(folder: Path, name: str = "small") -> None:
 
 
 # -- 1. a poisoned verification cache is never published -------------------------------
-def _interrupted_build(tmp_path, monkeypatch) -> tuple:
-    """A build of SMALL stopped after two chunks of 5 designs were saved to the cache."""
-    spec = write_spec(tmp_path, "small", SMALL)
-    out = tmp_path / "out"
-    monkeypatch.setattr(build_mod, "CHUNK", 5)
-    seen = []
-
-    def stop_after_12(k, total=None):
-        seen.append(k)
-        if sum(seen) >= 12:
-            raise KeyboardInterrupt
-
-    with pytest.raises(KeyboardInterrupt):
-        generate(spec, out, workers=1, progress=stop_after_12)
-    parts = sorted((out / ".small.verify-cache").glob("part-*.json"))
-    assert len(parts) == 2
-    return spec, out, parts
-
-
 @pytest.mark.parametrize("forger, why", [
     (None, "digest does not match"),  # an edit alone breaks the chunk's digest
     ("rule", "differs from the fast solution"),  # a forger who recomputes the digest
     ("sizes", "are not alpha"),
 ])
 def test_poisoned_cache_is_discarded(tmp_path, monkeypatch, ref, forger, why):
-    spec, out, parts = _interrupted_build(tmp_path, monkeypatch)
+    spec, out, parts = interrupted_build(tmp_path, monkeypatch)
     doc = json.loads(parts[0].read_text("utf-8"))
     rec = doc["records"][0]  # a two-point design (equivalence n=10, alpha=0.01: the build
     # verifies by law, the most demanding design first)
