@@ -171,7 +171,7 @@ def _two_tail(law, alpha: float, lo: float, hi: float):
         s = a + _f(law.sf(c2, lo))
         return _clip(math.log(s) - math.log(alpha)) if s > 0 else -_BIG
 
-    r = _root(cond, 0.0, 1.0, 0.0 if slim else LOG_NOISE)
+    r = _root(cond, 0.0, 1.0, 0.0 if slim else lambda r: _noise(law, *cuts(r)[1:], alpha, lo, hi))
     _, c1, c2 = cuts(r)
     return c1, c2
 
@@ -199,7 +199,7 @@ def _window(law, alpha: float, lo: float, hi: float):
             return -_BIG
         return _clip(math.log(pl) - math.log(ph)) if ph > 0 else _BIG
 
-    p = _root(cond, alpha, 1.0, 0.0 if slim else LOG_NOISE)
+    p = _root(cond, alpha, 1.0, 0.0 if slim else lambda p: _noise(law, *cuts(p), alpha, lo, hi))
     return cuts(p)
 
 
@@ -226,13 +226,23 @@ def _refine_end(law, c1: float, c2: float, alpha: float, theta: float) -> float:
     return c2
 
 
-def _root(fn, lo: float, hi: float, noise: float = 0.0) -> float:
+def _noise(law, c1, c2, alpha, lo, hi) -> float:
+    """What rounding alone can put in a log-ratio side condition at cutoffs (c1, c2): the
+    ratio's own rounding (LOG_NOISE) plus half an ulp of each cutoff, which moves a size of
+    alpha by conditioning * 2**-53 relative (2 ulps allowed at each of the two points)."""
+    kappa = conditioning(law, c1, c2, alpha, (lo, hi))
+    return LOG_NOISE + 4.0 * np.finfo(float).eps * kappa if math.isfinite(kappa) else LOG_NOISE
+
+
+def _root(fn, lo: float, hi: float, noise=0.0) -> float:
     """Root of an increasing fn on [lo, hi]; an end where fn is within ``noise`` of 0 (on
-    the wrong side by rounding) is the root."""
+    the wrong side by rounding) is the root.  ``noise``: a number, or a function of the end."""
     flo, fhi = fn(lo), fn(hi)
-    if flo == 0.0 or (flo > 0 and flo <= noise):
+    nlo = noise(lo) if callable(noise) else noise
+    if flo == 0.0 or (flo > 0 and flo <= nlo):
         return lo
-    if fhi == 0.0 or (fhi < 0 and -fhi <= noise):
+    nhi = noise(hi) if callable(noise) else noise
+    if fhi == 0.0 or (fhi < 0 and -fhi <= nhi):
         return hi
     if flo > 0 or fhi < 0:
         raise FloatingPointError("side condition does not change sign over its bracket")

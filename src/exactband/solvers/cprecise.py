@@ -235,7 +235,10 @@ def _two_tail(law, alpha, lo, hi, moment, tol):
 
 def _window(law, alpha, lo, hi, tol):
     """Equivalence: inner c2 from the window's mass at high, outer: the mass at low."""
-    left = _below(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+    # below both laws' bulk: there the window ending where its mass at high is alpha holds
+    # more than alpha at low (low's law lies to the left), whatever the distance low to high
+    tiny = alpha * mp.mpf(10) ** -(mp.mp.dps // 2)
+    left = min(_below(law, hi, tiny), _below(law, lo, tiny))
     right = _quantile_high(law, hi, alpha, tol)  # beyond it the window at high holds < alpha
     width = hi - lo
 
