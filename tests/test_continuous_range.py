@@ -17,6 +17,7 @@ import numpy as np
 import pytest
 
 from exactband import design
+from exactband.errors import DesignError
 from exactband.families.gamma import GammaFloat
 
 REL = 1e-9
@@ -29,7 +30,7 @@ def normal_sizes(d):
         for t in d.points:
             t = mp.mpf(repr(t))
             lo = mp.ncdf((mp.mpf(d.c1) - t) / s) if d.c1 is not None else 0
-            hi = 1 - mp.ncdf((mp.mpf(d.c2) - t) / s) if d.c2 is not None else 0
+            hi = mp.ncdf(-(mp.mpf(d.c2) - t) / s) if d.c2 is not None else 0
             out.append(1 - hi - lo if d.kind == "equivalence" else lo + hi)
         return out
 
@@ -47,19 +48,21 @@ def lower_series(a, x):
         return float(total * mp.exp(a * mp.log(x) - x - mp.loggamma(a + 1)))
 
 
-def gamma_cdf(d, c, t):
-    """P_t(Y <= c) for the total of n gamma units with shape k and mean t."""
+def gamma_tail(d, c, t, upper=False):
+    """P_t(Y <= c) (or P_t(Y > c)) for the total of n gamma units, shape k, mean t."""
     with mp.workdps(40):
         k = mp.mpf(repr(d.dispersion))
         a, x = d.n * k, k * mp.mpf(c) / mp.mpf(repr(t))
+        if upper:
+            return mp.gammainc(a, x, mp.inf, regularized=True)
         return mp.gammainc(a, 0, x, regularized=True)
 
 
 def gamma_sizes(d):
     out = []
     for t in d.points:
-        lo = gamma_cdf(d, d.c1, t) if d.c1 is not None else 0
-        hi = 1 - gamma_cdf(d, d.c2, t) if d.c2 is not None else 0
+        lo = gamma_tail(d, d.c1, t) if d.c1 is not None else 0
+        hi = gamma_tail(d, d.c2, t, upper=True) if d.c2 is not None else 0
         out.append(1 - hi - lo if d.kind == "equivalence" else lo + hi)
     return out
 
@@ -109,3 +112,24 @@ def test_gamma_fast_path_large_shape():
     d = design("gamma", "lower", n=10000000, alpha=1e-7, value=2, dispersion=1, verify=False)
     p = lower_series(1e7, d.c1 / 2)  # x = k c / theta
     assert abs(p - 1e-7) <= REL * 1e-7, p
+
+
+def test_gamma_tiny_cutoff_verified():
+    # shape n k = 0.14 at alpha 4.5e-40: c1 = 1.3e-283, still a normal double; the size
+    # hardly moves with c1 (kappa 0.14), so c1 is compared to law_error / kappa (ccheck)
+    for kind in ("lower", "point"):
+        d = design("gamma", kind, n=2, alpha=4.5e-40, value=0.0016, dispersion=0.07)
+        assert d.verified and 0 < d.c1 < 1e-280
+        for s in gamma_sizes(d):
+            assert abs(s - d.alpha) <= REL * d.alpha, (kind, s)
+
+
+def test_gamma_cutoff_below_doubles_declined():
+    # at alpha 4.5e-49 the cutoff is about 1e-347: declined in one line, on both paths
+    with mp.workdps(40):  # mpmath: P(Y <= 2.2e-308) at the value already exceeds alpha
+        x = mp.mpf("0.07") * mp.mpf(2.2250738585072014e-308) / mp.mpf("0.0016")
+        assert mp.gammainc(mp.mpf("0.14"), 0, x, regularized=True) > mp.mpf("4.5e-49")
+    for verify in (True, False):
+        with pytest.raises(DesignError, match="smallest normal double"):
+            design("gamma", "lower", n=2, alpha=4.5e-49, value=0.0016, dispersion=0.07,
+                   verify=verify)

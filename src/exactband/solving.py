@@ -11,6 +11,7 @@ the audit and ``decide --table``.
 from __future__ import annotations
 
 import math
+import sys
 
 import mpmath as mp
 import numpy as np
@@ -115,6 +116,13 @@ def continuous_fast(p: Problem) -> tuple:
     except (FloatingPointError, ValueError, OverflowError) as e:
         raise DesignError(f"the float solver failed on {label(p)}: {e}", field="alpha",
                           value=p.alpha) from None
+    tiny = [c for c in (sol.c1, sol.c2) if c is not None and abs(c) < sys.float_info.min]
+    if law.lower == 0.0 and tiny:  # a scale family's cutoff at 0 or among the subnormals
+        raise DesignError(
+            f"invalid alpha = {p.alpha}: a cutoff of {label(p)} lies below 2.2e-308, the "
+            "smallest normal double, where it cannot hold its size; use a larger alpha, or "
+            "state the mean in a smaller unit", field="alpha", value=p.alpha,
+            allowed="a design whose cutoffs are normal doubles")
     if not ccheck.representable(sol.conditioning):
         raise DesignError(
             f"invalid alpha = {p.alpha}: the cutoffs of {label(p)} written as 17-digit numbers "

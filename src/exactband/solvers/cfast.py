@@ -55,6 +55,7 @@ class ContinuousSolution:
     c2: float | None
     sizes: tuple
     conditioning: float  # relative change of the size per relative change of the cutoffs
+    cut_conditioning: tuple = (None, None)  # the same for c1 alone and for c2 alone
 
 
 def _f(x) -> float:
@@ -261,6 +262,12 @@ def expectation(law, kind, c1, c2, theta):
     return out + (law.sf(c2, t) if kind.uses_c2 else 0.0)
 
 
+def cut_conditioning(law, c1, c2, alpha, points) -> tuple:
+    """(kappa of c1, kappa of c2): ``conditioning`` of each cutoff alone (None if absent)."""
+    return tuple(None if c is None else conditioning(law, c, None, alpha, points)
+                 for c in (c1, c2))
+
+
 def conditioning(law, c1, c2, alpha, points) -> float:
     """max over the constraint points of sum_i f(c_i) (|c_i| + floor_i) / alpha: the relative
     change of the size per relative change of the cutoffs (floor_i = sd of Y for a
@@ -303,4 +310,5 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     else:
         c1 = q_high(law, float_complement(alpha), lo) if alpha > 0.5 else q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
-    return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points))
+    return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points),
+                              cut_conditioning(law, c1, c2, alpha, points))
