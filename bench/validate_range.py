@@ -212,20 +212,27 @@ def declass(msg: str) -> str:
 
 
 def run_one(job) -> dict:
+    out = _run_one(job)
+    out["cpu"] = time.process_time() - out.pop("cpu0")
+    return out
+
+
+def _run_one(job) -> dict:
     family, kind, kw = job
+    cpu0 = time.process_time()
     t0 = time.perf_counter()
     try:
         d = design(family, kind, verify=True, **api_kwargs(family, kw))
     except VerificationError as e:
         return dict(outcome="disagree", cls="VerificationError", msg=str(e),
-                    time=time.perf_counter() - t0)
+                    time=time.perf_counter() - t0, cpu0=cpu0)
     except ExactbandError as e:
         m = str(e)
         return dict(outcome="declined", cls=f"{type(e).__name__}: {declass(m)}", msg=m,
-                    time=time.perf_counter() - t0, lines=len(m.splitlines()))
+                    time=time.perf_counter() - t0, cpu0=cpu0, lines=len(m.splitlines()))
     except Exception as e:  # noqa: BLE001 - a bug: record it, keep going
         return dict(outcome="internal", cls=type(e).__name__, msg=f"{type(e).__name__}: {e}",
-                    time=time.perf_counter() - t0)
+                    time=time.perf_counter() - t0, cpu0=cpu0)
     dt = time.perf_counter() - t0
     bad = []
     for g in (d.gamma1, d.gamma2):
@@ -238,8 +245,8 @@ def run_one(job) -> dict:
     rule = (d.c1, d.gamma1, d.c2, d.gamma2)
     if bad:
         return dict(outcome="internal", cls="bad verified design", msg="; ".join(bad),
-                    time=dt, rule=repr(rule))
-    return dict(outcome="verified", cls="", msg="", time=dt, rule=repr(rule))
+                    time=dt, cpu0=cpu0, rule=repr(rule))
+    return dict(outcome="verified", cls="", msg="", time=dt, cpu0=cpu0, rule=repr(rule))
 
 
 def _worker(conn):
@@ -413,10 +420,15 @@ def report(recs, a, wall):
     print(f"{'total':31} " + " ".join(f"{c:9d}" for c in tot))
     ok = [r["time"] for r in recs if r["outcome"] == "verified"]
     dec = [r["time"] for r in recs if r["outcome"] == "declined"]
-    for name, xs in (("verified", ok), ("declined", dec)):
+    okc = [r["cpu"] for r in recs if r["outcome"] == "verified"]
+    decc = [r["cpu"] for r in recs if r["outcome"] == "declined"]
+    for name, xs in (("verified wall", ok), ("verified CPU", okc), ("declined wall", dec),
+                     ("declined CPU", decc)):
         if xs:
-            print(f"{name} wall time per design p50/p95/max: {pct(xs, 50) * 1e3:.1f} / "
+            print(f"{name} time per design p50/p95/max: {pct(xs, 50) * 1e3:.1f} / "
                   f"{pct(xs, 95) * 1e3:.1f} / {max(xs) * 1e3:.0f} ms")
+    print(f"load average at the end: {' '.join(f'{x:.1f}' for x in os.getloadavg())} "
+          "(wall times grow with the machine's load; CPU times do not)")
     classes = {}
     for r in recs:
         if r["outcome"] == "declined":
@@ -427,9 +439,11 @@ def report(recs, a, wall):
         print(f"  {len(rs):5d}  {c}" + (f"  [{multi} not one line]" if multi else ""))
     slow = sorted((r for r in recs if r["outcome"] in ("verified", "declined")
                    and r["time"] > SLOW), key=lambda r: -r["time"])
-    print(f"designs over {SLOW:g} s: {len(slow)}")
+    print(f"designs over {SLOW:g} s of wall time: {len(slow)} "
+          f"({sum(r.get('cpu', 0) > SLOW for r in slow)} over {SLOW:g} s of CPU)")
     for r in slow:
-        print(f"  {r['time']:6.1f} s {r['outcome']}: {r['cli']}")
+        print(f"  {r['time']:6.1f} s ({r.get('cpu', math.nan):.1f} s CPU) {r['outcome']}: "
+              f"{r['cli']}")
     fails = [r for r in recs if r["outcome"] in ("disagree", "internal", "timeout")]
     print(f"not verified, not declined: {len(fails)}")
     for r in sorted(fails, key=lambda r: (r["outcome"], r["cls"], r["family"], r["kind"])):

@@ -34,6 +34,7 @@ from .continuous import ContinuousFamily
 from .mptable import TableTooLarge
 
 MAX_SHAPE = 1e6  # largest n k the mpmath law evaluates (series convergence)
+NEAR_SD = 6.0  # GammaMp: above the mean by fewer sd, the upper tail is 1 - the series
 DEEP = 4.0  # standard deviations below the mean where GammaFloat integrates the lower tail
 _LAG_X, _LAG_W = np.polynomial.laguerre.laggauss(60)
 
@@ -149,7 +150,16 @@ MAX_TERMS = 10**6
 
 
 def _lower_series(a, x):
-    """P(a, x) = x^a e^-x / Gamma(a + 1) * sum_j x^j / ((a + 1) ... (a + j)), x < a + 1."""
+    """P(a, x) = x^a e^-x / Gamma(a + 1) * sum_j x^j / ((a + 1) ... (a + j)), x < a + 1.
+
+    The sum is the confluent hypergeometric 1F1(1; a + 1; x), summed by mpmath's hyp1f1
+    (fixed-point summation, about ten times faster than a loop of mpf operations); the
+    loop below is the fallback should it not converge."""
+    try:
+        s = mp.hyp1f1(1, a + 1, x, maxterms=MAX_TERMS)
+        return s * mp.exp(a * mp.log(x) - x - mp.loggamma(a + 1))
+    except mp.libmp.NoConvergence:
+        pass
     term = s = mp.mpf(1)
     for j in range(1, MAX_TERMS):
         term *= x / (a + j)
@@ -210,6 +220,13 @@ class GammaMp:
         if x < shape + 1:
             low = _lower_series(shape, x)
             return low, 1 - low
+        if x < shape + NEAR_SD * mp.sqrt(shape):
+            # near the mode the continued fraction takes ~ sqrt(shape) slow steps: the
+            # upper tail (> 1e-9 here) as the complement of the series, 12 digits more
+            with mp.workdps(mp.mp.dps + 12):
+                low = _lower_series(shape, x)
+                up = 1 - low
+            return +low, +up
         up = _upper_fraction(shape, x)
         return 1 - up, up
 
