@@ -9,15 +9,15 @@ same test when their cutoffs coincide.  The comparison:
   the fast solver's quantiles are polished to a few ulps and its root search stops at
   4 epsilons relative; the worst difference measured over the reference and property
   tests is about 1e-15.
-  A cutoff to which the size is insensitive (kappa_i = f(c_i) (|c_i| + floor) / alpha
-  below about 30, ``cfast.cut_conditioning``) is determined only to the float law's own
-  error divided by kappa_i: the fast solver puts c_i where its tail equals a target, and a
-  tail of size ~alpha computed in doubles carries a relative error up to
-  law_error(alpha) = 8 eps (8 + |ln alpha|) (the tail is the exponential of a log of
-  magnitude ~|ln alpha|, e.g. x^a = exp(a ln x) for a gamma of small shape, rounded to a few
-  ulps).  So cut_tol_i = max(CUT_TOL, law_error(alpha) / kappa_i).  Example: a gamma of
-  shape 0.14 at alpha = 4.5e-40 (kappa 0.14, cutoff 1.3e-283): measured 1.5e-13, allowed
-  1.3e-12.
+  A cutoff whose tail is insensitive to it (elasticity e_i = f(c_i) (|c_i| + floor) / T_i
+  below about 30, T_i the smaller tail at c_i; the largest over the points,
+  ``cfast.cut_conditioning``) is determined only to the float law's own error divided by
+  e_i: the fast solver puts c_i where a tail equals a target, and a tail T computed in
+  doubles carries a relative error up to law_error(T) = 8 eps (8 + |ln T|) (the tail is
+  the exponential of a log of magnitude ~|ln T|, e.g. x^a = exp(a ln x) for a gamma of
+  small shape, rounded to a few ulps).  So cut_tol_i = max(CUT_TOL, law_error(T_i) / e_i).
+  Example: a gamma of shape 0.14 at alpha = 4.5e-40 (e = 0.14, cutoff 1.3e-283): measured
+  1.5e-13, allowed 1.3e-12.
 * sizes: the fast cutoffs evaluated with the precise law at every constraint point
   lie within size_tol of alpha, derived from the cutoff tolerance: moving every
   cutoff by a relative cut_tol moves the size by at most kappa * cut_tol * alpha to
@@ -57,7 +57,7 @@ class ContinuousCheck:
     size_tol: float  # relative to alpha
     precision: int
     reason: str = ""
-    cut_tol: float = CUT_TOL  # the relative tolerance of the cutoff nearest its tolerance
+    cut_tol: float = CUT_TOL  # the relative tolerance of the cutoff that differs most
 
 
     def summary(self) -> str:
@@ -74,16 +74,17 @@ def size_tolerance(kappa: float, cut_tol: float = CUT_TOL) -> float:
     return min(SIZE_TOL, 1e-15 + kappa * cut_tol)
 
 
-def law_error(alpha: float) -> float:
-    """Bound on the float laws' relative error in a tail of size ~alpha (module text)."""
-    return 8.0 * 2.0 ** -52 * (8.0 + abs(math.log(alpha)))
+def law_error(tail: float) -> float:
+    """Bound on the float laws' relative error in a tail of that size (module text)."""
+    return 8.0 * 2.0 ** -52 * (8.0 + abs(math.log(tail)))
 
 
-def cut_tolerance(kappa_i, alpha: float) -> float:
-    """Relative tolerance of one cutoff whose own conditioning is kappa_i (module text)."""
-    if kappa_i is None or not kappa_i > 0:
+def cut_tolerance(elastic) -> float:
+    """Relative tolerance of one cutoff; ``elastic``: its (elasticity, tail) or None."""
+    if elastic is None or not elastic[0] > 0:
         return CUT_TOL
-    return max(CUT_TOL, law_error(alpha) / kappa_i)
+    e, tail = elastic
+    return max(CUT_TOL, law_error(tail) / e)
 
 
 def representable(kappa: float) -> bool:
@@ -102,10 +103,10 @@ def compare(fast, precise, fast_sizes, alpha, floor: float, precision: int,
 
 
 def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> ContinuousCheck:
-    worst_cut, worst_frac, worst_tol = 0.0, -1.0, CUT_TOL
+    worst_cut, worst_tol = 0.0, CUT_TOL
     reason = ""
     kappas = getattr(fast, "cut_conditioning", (None, None))
-    tols = [cut_tolerance(k, float(a)) for k in kappas]
+    tols = [cut_tolerance(k) for k in kappas]
     for name, cf, cp, ctol in (("c1", fast.c1, precise.c1, tols[0]),
                                ("c2", fast.c2, precise.c2, tols[1])):
         if (cf is None) != (cp is None):
@@ -114,9 +115,8 @@ def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> Continu
         if cf is None:
             continue
         d = float(abs(mp.mpf(cf) - cp) / (abs(cp) + floor))
-        worst_cut = max(worst_cut, d)
-        if d / ctol > worst_frac:
-            worst_frac, worst_tol = d / ctol, ctol
+        if d >= worst_cut:
+            worst_cut, worst_tol = d, ctol
         if d > ctol and not reason:
             reason = f"{name} differs: {cf!r} against {mp.nstr(cp, 20)} (relative {d:.3g})"
     fse = max(float(abs(s - a) / a) for s in fast_sizes)

@@ -55,7 +55,7 @@ class ContinuousSolution:
     c2: float | None
     sizes: tuple
     conditioning: float  # relative change of the size per relative change of the cutoffs
-    cut_conditioning: tuple = (None, None)  # the same for c1 alone and for c2 alone
+    cut_conditioning: tuple = (None, None)  # (elasticity, tail) of c1 and of c2
 
 
 def _f(x) -> float:
@@ -262,10 +262,25 @@ def expectation(law, kind, c1, c2, theta):
     return out + (law.sf(c2, t) if kind.uses_c2 else 0.0)
 
 
-def cut_conditioning(law, c1, c2, alpha, points) -> tuple:
-    """(kappa of c1, kappa of c2): ``conditioning`` of each cutoff alone (None if absent)."""
-    return tuple(None if c is None else conditioning(law, c, None, alpha, points)
-                 for c in (c1, c2))
+def cut_conditioning(law, c1, c2, points) -> tuple:
+    """For c1 and for c2 (None if absent or infinite): (e, T), the largest over the points
+    of e = f(c) (|c| + floor) / T, the relative change of the smaller tail T at c per
+    relative change of c (its elasticity), with that tail T."""
+    out = []
+    for c in (c1, c2):
+        best = None
+        if c is not None and math.isfinite(c):
+            for t in points:
+                tail = min(_f(law.cdf(c, t)), _f(law.sf(c, t)))
+                if not tail > 0:
+                    continue
+                floor = _f(law.sd(t)) if law.floor_scale else 0.0
+                with np.errstate(under="ignore", divide="ignore"):
+                    e = math.exp(_f(law.logpdf(c, t))) * (abs(c) + floor) / tail
+                if best is None or e > best[0]:
+                    best = (e, tail)
+        out.append(best)
+    return tuple(out)
 
 
 def conditioning(law, c1, c2, alpha, points) -> float:
@@ -311,4 +326,4 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
         c1 = q_high(law, float_complement(alpha), lo) if alpha > 0.5 else q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
     return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points),
-                              cut_conditioning(law, c1, c2, alpha, points))
+                              cut_conditioning(law, c1, c2, points))
