@@ -35,7 +35,6 @@ from __future__ import annotations
 import argparse
 import json
 import math
-import multiprocessing as mproc
 import os
 import re
 import shlex
@@ -43,7 +42,6 @@ import subprocess
 import sys
 import time
 from decimal import Decimal
-from multiprocessing.connection import wait
 from pathlib import Path
 
 import numpy as np
@@ -55,6 +53,7 @@ sys.path.insert(0, str(ROOT / "bench"))
 from exactband import design  # noqa: E402
 from exactband.errors import ExactbandError, VerificationError  # noqa: E402
 from exactband.params import make_problem  # noqa: E402
+from timeout_pool import Pool  # noqa: E402
 from validate_corners import KINDS, lu  # noqa: E402
 
 FAMILIES = ("poisson", "binomial", "negative-binomial", "normal", "gamma")
@@ -249,88 +248,6 @@ def _run_one(job) -> dict:
     return dict(outcome="verified", cls="", msg="", time=dt, cpu0=cpu0, rule=repr(rule))
 
 
-def _worker(conn):
-    while True:
-        try:
-            job = conn.recv()
-        except EOFError:
-            return
-        if job is None:
-            return
-        conn.send(run_one(job))
-
-
-class Pool:
-    """Worker processes fed one job at a time; a job past its timeout kills its worker."""
-
-    def __init__(self, workers: int, timeout: float):
-        self.ctx = mproc.get_context("fork")
-        self.timeout = timeout
-        self.slots = [self._start() for _ in range(workers)]
-
-    def _start(self):
-        parent, child = self.ctx.Pipe()
-        p = self.ctx.Process(target=_worker, args=(child,), daemon=True)
-        p.start()
-        child.close()
-        return {"proc": p, "conn": parent, "job": None, "t0": 0.0}
-
-    def run(self, jobs, progress=None):
-        results = [None] * len(jobs)
-        todo = list(range(len(jobs)))[::-1]
-        done = 0
-        while done < len(jobs):
-            for s in self.slots:
-                if s["job"] is None and todo:
-                    i = todo.pop()
-                    s["job"], s["t0"] = i, time.perf_counter()
-                    s["conn"].send(jobs[i])
-            busy = [s for s in self.slots if s["job"] is not None]
-            now = time.perf_counter()
-            left = min(self.timeout - (now - s["t0"]) for s in busy)
-            ready = wait([s["conn"] for s in busy], timeout=max(0.0, left))
-            now = time.perf_counter()
-            for k, s in enumerate(self.slots):
-                if s["job"] is None:
-                    continue
-                if s["conn"] in ready:
-                    try:
-                        results[s["job"]] = s["conn"].recv()
-                    except EOFError:  # the worker died (e.g. killed for memory)
-                        results[s["job"]] = dict(outcome="internal", cls="worker died",
-                                                 msg="worker process died",
-                                                 time=now - s["t0"])
-                        self._replace(k)
-                elif now - s["t0"] >= self.timeout:
-                    results[s["job"]] = dict(outcome="timeout", cls="timeout",
-                                             msg=f"over {self.timeout:g} s", time=now - s["t0"])
-                    self._replace(k)
-                else:
-                    continue
-                self.slots[k]["job"] = None
-                done += 1
-                if progress:
-                    progress(done, len(jobs))
-        return results
-
-    def _replace(self, k):
-        s = self.slots[k]
-        s["proc"].kill()
-        s["proc"].join()
-        s["conn"].close()
-        self.slots[k] = self._start()
-
-    def close(self):
-        for s in self.slots:
-            try:
-                s["conn"].send(None)
-            except OSError:
-                pass
-            s["proc"].join(5)
-            if s["proc"].is_alive():
-                s["proc"].kill()
-
-
 # -- the CLI check -------------------------------------------------------------------------
 def cli_check(family, kind, kw, timeout: float) -> dict:
     exe = ROOT / ".venv" / "bin" / "exactband"
@@ -383,7 +300,7 @@ def main(argv=None):
                   file=sys.stderr, flush=True)
 
     t0 = time.perf_counter()
-    pool = Pool(a.workers, a.timeout)
+    pool = Pool(a.workers, a.timeout, run_one)
     try:
         res = pool.run(jobs, progress)
     finally:

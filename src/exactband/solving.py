@@ -133,6 +133,24 @@ def continuous_fast(p: Problem) -> tuple:
     return sol.c1, None, sol.c2, None
 
 
+def _beyond(p: Problem, e: TableTooLarge) -> DesignError:
+    return DesignError(f"invalid n = {p.n}: the law of Y is beyond the high-precision "
+                       f"check ({e}); use a smaller n or the unverified fast path",
+                       field="n", value=p.n)
+
+
+def check_verifiable(p: Problem) -> None:
+    """Decline at once a continuous design whose law the precise solver does not take (a
+    gamma shape above its limit), before the fast solver spends any time on it."""
+    if p.family.discrete:
+        return
+    try:
+        with mp.workdps(20):
+            p.family.continuous_mp(p.n, p.dispersion)
+    except TableTooLarge as e:
+        raise _beyond(p, e) from None
+
+
 def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
     """The precise continuous solver, the cross-check of the rules (ccheck), the Design."""
     law = p.family.continuous_float(p.n, p.dispersion)
@@ -141,9 +159,7 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
         pd = cprecise.solve(p.family, p.kind, p.n, p.alpha, low=p.low, high=p.high,
                             value=p.value, dispersion=p.dispersion, precision=precision)
     except TableTooLarge as e:
-        raise DesignError(f"invalid n = {p.n}: the law of Y is beyond the high-precision "
-                          f"check ({e}); use a smaller n or the unverified fast path",
-                          field="n", value=p.n) from None
+        raise _beyond(p, e) from None
     sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, fast_sol.c1, fast_sol.c2,
                               p.points, precision)
     floor = float(law.sd(p.points[0])) if law.floor_scale else 0.0
