@@ -157,7 +157,8 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
     fast_sol = cfast.solve(law, p.kind, p.alpha, p.low, p.high, p.value)
     try:
         pd = cprecise.solve(p.family, p.kind, p.n, p.alpha, low=p.low, high=p.high,
-                            value=p.value, dispersion=p.dispersion, precision=precision)
+                            value=p.value, dispersion=p.dispersion, precision=precision,
+                            start=(fast_sol.c1, fast_sol.c2))
     except TableTooLarge as e:
         raise _beyond(p, e) from None
     sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, fast_sol.c1, fast_sol.c2,
