@@ -143,7 +143,9 @@ def test_batch_validation_agrees_with_make_problem(family, kind, n, alpha, low, 
 
 
 def test_too_spread_for_the_precise_solver_is_a_clear_line():
+    # a Poisson mean of 1e12 is read from its tails, but alpha = 0.5 puts the cutoff at
+    # the centre, where the continued fractions take ~sd terms: declined before the work
     with pytest.raises(DesignError, match="too spread out"):
-        exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.05)
-    fast = exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.05, verify=False)
-    assert fast.c2 > 1e12
+        exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.5)
+    fast = exactband.design("poisson", "upper", n=1e12, value=1.0, alpha=0.5, verify=False)
+    assert fast.c2 >= 1e12

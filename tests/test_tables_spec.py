@@ -71,7 +71,8 @@ BAD = [
     ("grid-large", toml(n="{from = 1, to = 30000, step = 1}"),
      ["invalid grid size = 30000", "--allow-large"]),
     # valid on paper, but beyond the high-precision solver's tables: found while verifying
-    ("beyond-precise", toml(n="[1e12]"), ["cannot be verified", "invalid n = 1000000000000.0"]),
+    ("beyond-precise", toml(n="[1e12]", alpha="[0.5]"),
+     ["cannot be verified", "invalid n = 1000000000000.0"]),
 ]
 
 

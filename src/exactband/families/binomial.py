@@ -124,6 +124,14 @@ class BinomialMp:
         f = frac(theta)  # p = a/b exactly, q = (b - a)/b
         self._a, self._c = f.numerator, f.denominator - f.numerator
 
+    def tails(self):
+        """Tails at single points (incomplete beta, families.mptails): for laws too wide to tabulate."""
+        from fractions import Fraction
+
+        from .mptails import BinomialTails
+
+        return BinomialTails(self.n, Fraction(self._a, self._a + self._c))
+
     def up_int(self, y):
         """pmf(y+1)/pmf(y) = (n - y) p / ((y + 1) q) exactly."""
         return (self.n - y) * self._a, (y + 1) * self._c

@@ -132,6 +132,14 @@ class PoissonMp:
         q = frac(n) * frac(theta)  # exact rational mean a/b
         self._a, self._b = q.numerator, q.denominator
 
+    def tails(self):
+        """Tails at single points (incomplete gamma, families.mptails): for laws too wide to tabulate."""
+        from fractions import Fraction
+
+        from .mptails import PoissonTails
+
+        return PoissonTails(Fraction(self._a, self._b))
+
     def up_int(self, y):
         """pmf(y+1)/pmf(y) = mu/(y+1) as an exact (numerator, denominator)."""
         return self._a, self._b * (y + 1)

@@ -19,6 +19,7 @@ import numpy as np
 
 from ..kinds import KINDS
 from ..mpnum import float_complements
+from . import window
 from .canonical import canonical_band, equivalence_from_band, refine_equivalence
 from .conditions import Derivative, Difference
 from .search import lower as _lower
@@ -119,6 +120,28 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
                          None if k is None else k[small])
             for o, r in zip(out, res):
                 o[small] = r
+        return tuple(out)
+    if kind == "equivalence" and np.any(~big):
+        # alpha <= 1/2: searched in the window's own terms (``window``), not as the
+        # complement band of size 1 - alpha, which cannot carry alpha's digits
+        out = [np.full(size, np.nan) for _ in range(4)]
+        small = ~big
+        lo_a, hi_a = np.asarray(low, float)[small], np.asarray(high, float)[small]
+        ks = None if k is None else k[small]
+        Pl, Ph = L.make(lo_a, n[small], ks), L.make(hi_a, n[small], ks)
+        dt = np.asarray(family.natural_delta(lo_a, hi_a, n[small], ks), dtype=float)
+        diff = Difference(L, Pl, Ph, dt)
+        a_s = alpha[small]
+        res = window.equivalence(L, Pl, Ph, diff, a_s, window.initial(L, Pl, Ph, a_s))
+        res = KINDS["equivalence"].canonical(*res)
+        res = refine_equivalence(L, Pl, diff, a_s, *res)
+        for o, r in zip(out, res):
+            o[small] = r
+        if np.any(big):
+            res = _solve(family, kind, n[big], alpha[big], np.asarray(low, float)[big],
+                         np.asarray(high, float)[big], None, None if k is None else k[big])
+            for o, r in zip(out, res):
+                o[big] = r
         return tuple(out)
     if kind in ("band", "equivalence"):
         lo = np.asarray(low, float)

@@ -75,9 +75,11 @@ _SIZE = [0]  # bytes held by the cache
 CACHE_BYTES = 64 * 2**20  # tables kept for reuse across designs (same law, other alpha/kind)
 
 
-def _table(family, theta, n, k, precision, alpha, moments=False):
+def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
     """Table whose truncated mass is below alpha * 10**-(precision + 12).
 
+    ``hint`` (kind, alpha, the other end) lets a law read from tails predict the
+    design's cost and decline it before any work (precise_tails.check_cost).
     Tables are kept in a bounded cache (least recently used first out): a grid
     of designs meets the same law at many alphas and kinds.  A cached table is
     reused when its precision is at least and its threshold at most what is
@@ -93,9 +95,11 @@ def _table(family, theta, n, k, precision, alpha, moments=False):
     for kk in ((key, True), (key, moments)):
         hit = _CACHE.get(kk)
         if hit is not None and hit._prec >= prec and hit.thr <= thr:
+            if isinstance(hit, precise_tails.TailTable):  # this design's cost, predicted again
+                precise_tails.check_cost(hit.tails, hint, prec)
             _CACHE.move_to_end(kk)
             return hit
-    T = precise_tails.table_for(family.mp_law(theta, n, k), thr, moments)
+    T = precise_tails.table_for(family.mp_law(theta, n, k), thr, moments, hint)
     old = _CACHE.pop((key, moments), None)
     _SIZE[0] += T.nbytes - (old.nbytes if old is not None else 0)
     _CACHE[(key, moments)] = T
@@ -284,7 +288,8 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
         A = dec(alpha)
         k = dispersion
         if kind in ("upper", "lower"):
-            T = _table(family, value, n, k, precision, alpha)
+            T = _table(family, value, n, k, precision, alpha,
+                       hint=precise_tails.CostHint(kind, float(alpha)))
             if kind == "upper":
                 c2 = T.first_sf_at_most(A)
                 g2 = (A - T.sf(c2)) / T.pmf(c2)
@@ -295,7 +300,8 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
             size = T.cdf(c1 - 1) + g1 * T.pmf(c1)
             return PreciseDesign(c1, g1, None, None, (size,), None, dps, T.truncated, (T,))
         if kind == "point":
-            T = _table(family, value, n, k, precision, alpha, moments=True)
+            T = _table(family, value, n, k, precision, alpha, moments=True,
+                       hint=precise_tails.CostHint(kind, float(alpha)))
             cond = _Moment(T, A)
             c1, g1, c2, g2 = _two_tailed(T, T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
@@ -303,8 +309,12 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
                                  T.truncated, (T,))
         if kind in ("band", "equivalence"):
             # each table holds its own law's bulk only (no masses between distant ends)
-            Tl = _table(family, low, n, k, precision, alpha)
-            Th = _table(family, high, n, k, precision, alpha)
+            def hint(other):
+                return precise_tails.CostHint(kind, float(alpha),
+                                              float(family.mp_law(other, n, k).mean))
+
+            Tl = _table(family, low, n, k, precision, alpha, hint=hint(high))
+            Th = _table(family, high, n, k, precision, alpha, hint=hint(low))
             s = A if kind == "band" else dec_complement(alpha)
             c1, g1, c2, g2 = _two_tailed(Tl, Th, _Band(Tl, s), s, tol)
             if kind == "band":

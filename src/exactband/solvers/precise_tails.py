@@ -25,12 +25,14 @@ Nothing here is shared with the fast solver.
 from __future__ import annotations
 
 import math
+from statistics import NormalDist
+from typing import NamedTuple
 
 import mpmath as mp
 from mpmath import libmp
 
-from ..families.mptable import MAX_TABLE_BYTES, MpTable, table_estimate
-from ..families.mptails import GUARD_BITS
+from ..families.mptable import MAX_TABLE, MAX_TABLE_BYTES, MpTable, TableTooLarge, table_estimate
+from ..families.mptails import GUARD_BITS, cf_terms_estimate
 
 _ZERO = mp.mpf(0)
 _ONE = mp.mpf(1)
@@ -334,12 +336,63 @@ class TailTable:
         return max(y, L + 1)
 
 
-def table_for(law, thr, moments: bool = False):
-    """MpTable of the law, or a TailTable when the table would exceed TAIL_TERMS terms.
+MAX_CF_TERMS = 300_000  # continued-fraction terms one design may be predicted to take
+_EVALS = {"upper": 10, "lower": 10}  # tail evaluations a design takes (measured; 30 if two-tailed)
 
-    A TailTable needs the family's single-point tails (``law.tails``) and their
-    word that they are cheap for this law (``suited``); otherwise the law is
-    tabulated (and declined beyond mptable's limits).
+
+class CostHint(NamedTuple):
+    """What the cost of a design depends on: its kind, alpha and the other end's mean."""
+
+    kind: str
+    alpha: float
+    other_mean: float | None = None
+
+
+def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int) -> tuple:
+    """(terms, z): continued-fraction terms a design is predicted to take on this law.
+
+    z is how near (in sd) to the law's mean its cutoffs may come: the alpha
+    quantile for one-sided designs, the min(alpha, 1/2) quantile for two-tailed
+    ones, and for equivalence the smaller of that and the rest of the distance
+    to the other end's mean (a narrow equivalence window sits at the centre).
+    Times the evaluations a design takes (10 one-sided, 30 two-tailed;
+    measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``.
+    """
+    a = min(max(hint.alpha, 1e-300), 1.0 - 1e-16)
+    if hint.kind in ("upper", "lower"):
+        z = abs(NormalDist().inv_cdf(a))
+    else:
+        z = -NormalDist().inv_cdf(min(a, 0.5))
+        if hint.kind == "equivalence" and hint.other_mean is not None:
+            z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
+    evals = _EVALS.get(hint.kind, 30)
+    return evals * cf_terms_estimate(sd, z, prec), z
+
+
+def check_cost(T, hint: CostHint | None, prec: int):
+    """Raise TableTooLarge (one line, naming the limit) for a design predicted too slow."""
+    if hint is None or T.suited:
+        return
+    terms, z = predicted_terms(hint, T.mean_f, T.sd_f, prec)
+    if terms > MAX_CF_TERMS:
+        raise TableTooLarge(
+            f"about {terms:,.0f} continued-fraction terms predicted for the tails of a law with "
+            f"standard deviation {T.sd_f:.3g} at cutoffs {abs(z):.2g} sd from its mean, "
+            f"limit {MAX_CF_TERMS:,}")
+
+
+def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
+    """MpTable of the law, or a TailTable when the law is too spread out for a table.
+
+    A law whose family gives single-point tails (``law.tails``) is read through a
+    TailTable past TAIL_TERMS terms when the family says the tails are cheap for
+    it from there on (``suited``: a negative binomial with r <= m), and otherwise
+    past the table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it
+    was declined before: Poisson, binomial and the Poisson-like negative
+    binomial.  Those are declined (TableTooLarge) when the design is predicted to
+    take more than MAX_CF_TERMS continued-fraction terms (``check_cost``).
+    Every law that fits the table limits is still tabulated, so its designs are
+    unchanged.
     """
     tails = getattr(law, "tails", None)
     if tails is not None:
@@ -347,6 +400,7 @@ def table_for(law, thr, moments: bool = False):
         terms, nbytes = table_estimate(sd, thr, mp.mp.prec)
         if terms > TAIL_TERMS or nbytes > MAX_TABLE_BYTES:
             T = tails()
-            if T.suited:
+            if T.suited or terms > MAX_TABLE or nbytes > MAX_TABLE_BYTES:
+                check_cost(T, hint, mp.mp.prec)
                 return TailTable(law, T, moments=True)
     return MpTable(law, thr, moments=moments)
