@@ -203,3 +203,20 @@ def test_predicted_too_slow_exits_2_from_the_cli():
     lines = r.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith("exactband: error:")
     assert "limit 300,000" in lines[0]
+
+
+def test_big_table_switches_to_tails_when_cheaper(monkeypatch):
+    # a Poisson mean of 5e8 fits the table limits (about 1.3e6 terms) but a design at
+    # alpha 1e-20 is far cheaper from the tails: same cutoffs, same 30-digit gammas and
+    # sizes as the table gives (both exact to the working precision)
+    kw = dict(n=1, value=5e8, alpha=1e-20)
+    precise.clear_cache()
+    by_tails = api.design("poisson", "upper", **kw)
+    assert any(isinstance(t, precise_tails.TailTable) for t in precise._CACHE.values())
+    monkeypatch.setattr(precise_tails, "SWITCH_TERMS", 10 ** 12)
+    precise.clear_cache()
+    by_table = api.design("poisson", "upper", **kw)
+    assert not any(isinstance(t, precise_tails.TailTable) for t in precise._CACHE.values())
+    precise.clear_cache()
+    assert (by_tails.c2, by_tails.gamma2_decimal, by_tails.sizes) == \
+        (by_table.c2, by_table.gamma2_decimal, by_table.sizes)

@@ -70,6 +70,14 @@ class CrossCheck:
     reason: str = ""
     phi_tol: float = PHI_TOL
     size_tol: float = 0.0  # 0: not recorded (older records); see SIZE_TOL
+    floor: float = 0.0  # the gamma's double-precision floor (floor_dg); 0: not recorded
+    same_cutoffs: bool = True  # the two designs have the same cutoffs (only gammas differ)
+
+    @property
+    def beyond_double(self) -> bool:
+        """A disagreement in the gammas alone where the floor of any double evaluation is
+        above PHI_CEIL (a different cutoff is a disagreement, never this)."""
+        return not self.agree and self.same_cutoffs and self.floor > PHI_CEIL
 
     def summary(self) -> str:
         state = "agree" if self.agree else "DISAGREE"
@@ -111,19 +119,23 @@ def input_sensitivity(law, c) -> float:
     return 1.0 + 2.0 * abs(float(c) - mean) * m_eff / var
 
 
-def floor_dg(kappa: float, sigma: float) -> float:
-    """Double-precision floor of a gamma's error: kappa u (16 + 4 sigma).
+def floor_dg(kappa: float, sigma: float, log_mass: float = 1.0) -> float:
+    """Double-precision floor of a gamma's error: kappa u (16 + 16 max(1, |log f|) + 4 sigma).
 
     kappa is the condition number of the gamma for relative errors of the
-    probabilities (dg = eps kappa); the floor is what any double evaluation
-    leaves: the inputs rounded to doubles (3 roundings each, moving the tails by
-    sigma times that), and a tail and a mass computed to a few units of roundoff.
+    probabilities (dg = eps kappa); the floor is what the fast path's double
+    evaluation leaves (docs/tolerances.md sections 7 and 8): the inputs rounded
+    to doubles (3 roundings each, moving the tails by sigma times that), a tail
+    and a tail/mass ratio to a few units of roundoff (16), and up to two masses
+    exp(log f) each with a relative error of at most 8 u max(1, |log f|) (the
+    rounding of log f itself is u |log f|: no double computation of exp(log f)
+    avoids it). log_mass is the largest |log pmf| at the cutoffs.
     """
-    return kappa * UNIT_ROUNDOFF * (16.0 + 4.0 * sigma)
+    return kappa * UNIT_ROUNDOFF * (16.0 + 16.0 * max(1.0, abs(log_mass)) + 4.0 * sigma)
 
 
-def tolerances(kind: str, alpha, precise) -> tuple:
-    """(phi_tol, size_tol) for one design from the fast path's error bound (module doc)."""
+def _tolerances(kind: str, alpha, precise) -> tuple:
+    """(phi_tol, size_tol, floor): tolerances and the gamma's double-precision floor."""
     T = precise.tables
     sd = max(float(mp.sqrt(t.law.variance)) for t in T)
     eps = law_eps(sd) + max(getattr(t.law, "float_extra_eps", 0.0) for t in T)
@@ -170,12 +182,19 @@ def tolerances(kind: str, alpha, precise) -> tuple:
             fmax = max(float(t.pmf(c1) + t.pmf(c2)) for t in T)
         cuts = [c for c in (c1, c2) if c is not None]
         sigma = max(input_sensitivity(t.law, c) for t in T for c in cuts)
+        masses = [t.pmf(c) for t in T for c in cuts]
+        log_mass = max((abs(float(mp.log(x))) for x in masses if x > 0), default=1.0)
     phi_tol = min(PHI_TOL, SAFETY * dg + GAMMA_CLIP)
-    floor = floor_dg(kappa, sigma)
+    floor = floor_dg(kappa, sigma, log_mass)
     if floor > PHI_TOL:  # no double computation reaches PHI_TOL (module doc)
         phi_tol = min(PHI_CEIL, floor)
     size_tol = min(SIZE_TOL * a, phi_tol * fmax + 1e-15 * a)
-    return phi_tol, size_tol
+    return phi_tol, size_tol, floor
+
+
+def tolerances(kind: str, alpha, precise) -> tuple:
+    """(phi_tol, size_tol) for one design from the fast path's error bound (module doc)."""
+    return _tolerances(kind, alpha, precise)[:2]
 
 
 def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossCheck:
@@ -196,10 +215,13 @@ def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossChec
         floor = float(A * mp.mpf(10) ** (-int(precision)))
         if perr <= floor:
             perr = floor
-    phi_tol, size_tol = tolerances(kind, alpha, precise)
+    phi_tol, size_tol, floor = _tolerances(kind, alpha, precise)
     ok = dist <= phi_tol and ferr <= size_tol
     reason = ""
     if not ok:
         reason = (f"max |phi difference| {dist:.3e} (tolerance {phi_tol:.1e}), "
                   f"fast-solver size error {ferr:.3e} (tolerance {size_tol:.1e})")
-    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol)
+    same = all((a is None and b is None) or (a is not None and b is not None
+                                               and float(a) == float(b))
+               for a, b in ((fast[0], pd[0]), (fast[2], pd[2])))
+    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol, floor, same)

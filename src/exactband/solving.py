@@ -177,6 +177,19 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
                   precision=precision, check=cc)
 
 
+def beyond_double(p: Problem, cc) -> DesignError:
+    """Decline of a design whose gamma double precision cannot check (crosscheck.floor_dg)."""
+    from .crosscheck import PHI_CEIL
+
+    return DesignError(
+        f"invalid alpha = {p.alpha}: {label(p)} cannot be verified in double precision: its "
+        f"gamma's floor there is {cc.floor:.2g} (condition number times roundoff), above the "
+        f"cross-check's ceiling {PHI_CEIL:g}, and the fast gamma differs by "
+        f"{cc.max_phi_diff:.2g}; use a larger alpha or a smaller spread, or the unverified "
+        "fast path", field="alpha", value=p.alpha,
+        allowed=f"a design whose gamma double precision resolves to {PHI_CEIL:g}")
+
+
 def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
     if not p.family.discrete:
@@ -190,6 +203,8 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
                           "n, a lower precision, or the unverified fast path", field="n",
                           value=p.n) from None
     cc = compare(p.kind.name, p.alpha, sol, pd, precision)
+    if cc.beyond_double:
+        raise beyond_double(p, cc)
     if not cc.agree:
         raise VerificationError(f"the two solvers disagree on {label(p)}: {cc.reason}")
     with mp.workdps(pd.dps):

@@ -14,12 +14,80 @@ import numpy as np
 from scipy import special as sp
 
 from ..mpnum import dec, frac
-from . import _saddle
+from . import _saddle, _tailratio
 from . import mptable as mt
 from .base import Family
 from .floatlaw import FloatLaw, as_float
 
 SUM_TOP = 6000  # largest support point summed term by term (huge size r)
+RATIO_MIN = 1e4  # far tails whose tail/mass ratio passes this are mass x ratio (_tailratio)
+
+
+def far_tail(c, r, m):
+    """(right, left): where P(Y > c)/pmf(c) (c > m), or P(Y < c)/pmf(c) (c < m), is at least
+    about RATIO_MIN, by the leading terms of _tailratio: (c + r)(m/r) / ((c - m) + 1 + m/r)
+    and c (r + m) / (r (m - c + 1)).
+
+    Both are at most m max(1 + m/r, 1/r) (the right one falls from m at c = m towards
+    m/r, the left one rises to m (1 + m/r) at c = m): laws below RATIO_MIN there
+    have no far tail, checked on the parameters alone."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        bound = np.max(m * np.maximum(1.0 + m / r, 1.0 / r), initial=0.0)
+        if bound < RATIO_MIN:
+            none = np.zeros(np.broadcast(c, r, m).shape, dtype=bool)
+            return none, none
+        right = (c > m) & ((c + r) * (m / r) >= RATIO_MIN * ((c - m) + 1.0 + m / r))
+        left = (c < m) & (c * (r + m) >= RATIO_MIN * r * ((m - c) + 1.0))
+    return right, left
+
+
+RESIDUAL_MIN = 2.0 ** 20  # means below this have no far tail whose gamma their rounding moves
+
+
+def mean_residual(theta, n, m):
+    """(n x the decimal theta) - m for the double m = n * theta (0 below RESIDUAL_MIN).
+
+    A far tail's gamma moves with d log tail / d log m ~ z sqrt(r) times m's
+    rounding (1e-2 in gamma at kappa ~ 2e10, z sqrt(r) ~ 9e3): the far forms of
+    _tailratio take the deviation y - m as (y - m) - residual, the mean the
+    user wrote (docs/tolerances.md section 8).
+    """
+    import decimal
+
+    from ..mpnum import exact
+
+    m = np.asarray(m, dtype=float)
+    out = np.zeros(m.shape)
+    big = np.abs(m) >= RESIDUAL_MIN
+    if np.any(big):
+        th = np.broadcast_to(np.asarray(theta, dtype=float), m.shape)
+        nn = np.broadcast_to(np.asarray(n, dtype=float), m.shape)
+        with decimal.localcontext() as ctx:
+            ctx.prec = 200  # every product and difference below is exact
+            for i in zip(*np.nonzero(big)):
+                e = exact(float(nn[i])) * exact(float(th[i])) - decimal.Decimal(float(m[i]))
+                out[i] = float(e)
+    return out
+
+
+def _saddle_logpmf(yy, r, m, qc, at0):
+    """log pmf in saddle-point form (section 1 of docs/tolerances.md), y >= 0."""
+    # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y (y > 0) in saddle-point form, with
+    # y itself (never (y + r) - r) and the deviations d = r (y - m)/(r + m) formed
+    # without cancellation (derivation: docs/tolerances.md section 1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        y1 = np.where(yy > 0, yy, 1.0)
+        d = r * (y1 - m) / (r + m)
+        pos = (_saddle.stirlerr(y1 + r) - _saddle.stirlerr(r + 0.0 * y1)
+               - _saddle.stirlerr(y1)
+               - _saddle.bd0(r + 0.0 * y1, r * (r + y1) / (r + m), -d)
+               - _saddle.bd0(y1, (y1 + r) * qc, d)
+               - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
+    return np.where(yy == 0, at0, pos)
+
+
+def _residual(P):
+    return P[2] if len(P) > 2 else 0.0
 
 
 class NegBinomialLaw(FloatLaw):
@@ -35,7 +103,8 @@ class NegBinomialLaw(FloatLaw):
     def make(theta, n, k):
         r = as_float(n) * as_float(k)
         m = as_float(n) * as_float(theta)
-        return (r + 0.0 * m, m + 0.0 * r)
+        r, m = r + 0.0 * m, m + 0.0 * r
+        return (r, m, mean_residual(theta, n, m))
 
     @staticmethod
     def t(P):
@@ -43,7 +112,7 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def with_t(P, t):
-        return (P[0], t)
+        return (P[0], t)  # a mean between the inputs: no decimal behind it
 
     @staticmethod
     def supmax(P):
@@ -51,18 +120,18 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def mode(P):
-        r, mean = P
+        r, mean = P[0], P[1]
         return np.where(r > 1.0, np.floor((r - 1.0) * mean / r), 0.0)
 
     @staticmethod
     def moments(P):
-        r, m = P
+        r, m = P[0], P[1]
         var = m + m * m / r
         return m, var, (r + 2.0 * m) / np.sqrt(r * m * (r + m))
 
     @classmethod
     def _tails(cls, c, P):
-        r, m = P
+        r, m = P[0], P[1]
         q = r / (r + m)
         qc = m / (r + m)  # 1 - q, computed without cancellation
         a = c + 1.0
@@ -83,6 +152,33 @@ class NegBinomialLaw(FloatLaw):
             below = y[None, :] <= cs[:, None]
             cdf.ravel()[j] = np.where(below, f, 0.0).sum(axis=1)
             sf.ravel()[j] = np.where(below, 0.0, f).sum(axis=1)
+        lo = np.broadcast_to(_residual(P), r_.shape)
+        return cls._far_tails(cdf, sf, r_, m_, c_, summed, lo)
+
+    @classmethod
+    def _far_tails(cls, cdf, sf, r, m, c, summed, lo):
+        """Far tails as mass x (tail/mass ratio) where that ratio is large.
+
+        There a gamma = (alpha - tail)/mass has a condition number ~ the ratio
+        (1e9 at a size r ~ 4e8, mean ~ 3e14, alpha ~ 1e-65) and the incomplete
+        beta's relative error (up to ~7e-11) would reach it; the ratio of
+        ``_tailratio`` keeps a few units of roundoff (docs/tolerances.md section 8).
+        """
+        far_r, far_l = far_tail(c, r, m)
+        far_r &= ~summed
+        far_l &= ~summed
+        if not (np.any(far_r) or np.any(far_l)):
+            return cdf, sf
+        right = far_r & _tailratio.right_usable(c, r, m)
+        left = far_l & _tailratio.left_usable(c, r, m)
+        cdf, sf = (np.array(np.broadcast_to(x, r.shape), dtype=float) for x in (cdf, sf))
+        for mask, out, ratio, add in ((right, sf, _tailratio.right_ratio, 0.0),
+                                      (left, cdf, _tailratio.left_ratio, 1.0)):
+            if np.any(mask):
+                j = np.nonzero(mask.ravel())[0]
+                rs, ms, cs, ls = r.ravel()[j], m.ravel()[j], c.ravel()[j], lo.ravel()[j]
+                f = np.exp(cls.logpmf(cs, (rs, ms, ls)))
+                out.ravel()[j] = f * (add + ratio(cs, rs, ms, ls))
         return cdf, sf
 
     @classmethod
@@ -100,23 +196,24 @@ class NegBinomialLaw(FloatLaw):
     @staticmethod
     def logpmf(y, P):
         y = as_float(y)
-        r, m = P
+        r, m = P[0], P[1]
         ok = y >= 0
         yy = np.where(ok, y, 0.0)
         qc = m / (r + m)
         at0 = -r * np.log1p(m / r)
-        # pmf(y) = r/(r+y) * C(y+r, r) q^r (1-q)^y (y > 0) in saddle-point form, with
-        # y itself (never (y + r) - r) and the deviations d = r (y - m)/(r + m) formed
-        # without cancellation (derivation: docs/tolerances.md section 1)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            y1 = np.where(yy > 0, yy, 1.0)
-            d = r * (y1 - m) / (r + m)
-            pos = (_saddle.stirlerr(y1 + r) - _saddle.stirlerr(r + 0.0 * y1)
-                   - _saddle.stirlerr(y1)
-                   - _saddle.bd0(r + 0.0 * y1, r * (r + y1) / (r + m), -d)
-                   - _saddle.bd0(y1, (y1 + r) * qc, d)
-                   - 0.5 * np.log(2.0 * np.pi * y1) - 0.5 * np.log1p(y1 / r))
-        out = np.where(yy == 0, at0, pos)
+        far = np.logical_or(*far_tail(yy, r, m)) & (yy > 0)
+        if np.all(far):  # every point in a far tail: only the far form is needed
+            out = _tailratio.far_logpmf(yy, r, m, _residual(P))
+        else:
+            out = _saddle_logpmf(yy, r, m, qc, at0)
+        # far tails (a large tail/mass ratio, where a gamma's condition number is about
+        # that ratio): the deviance terms from relative deviations (_tailratio.far_logpmf)
+        if np.any(far) and not np.all(far):
+            yb, rb, mb, lb = np.broadcast_arrays(yy, r, m, _residual(P))
+            j = np.nonzero(far.ravel())[0]
+            out = np.array(np.broadcast_to(out, yb.shape), dtype=float)
+            out.ravel()[j] = _tailratio.far_logpmf(yb.ravel()[j], rb.ravel()[j], mb.ravel()[j],
+                                                   lb.ravel()[j])
         # a huge size r (y + r rounds to r): the Poisson mass times the exact correction
         #   log pmf = log Pois(y; m) + r (x - log1p x) - y log1p x + sum_{i<y} log1p(i/r),
         # x = m/r; the series of the last sum is exact to (y^2/r)^3 relative
@@ -133,24 +230,24 @@ class NegBinomialLaw(FloatLaw):
 
     @staticmethod
     def weight(c, P):
-        r, m = P
+        r, m = P[0], P[1]
         return (r + as_float(c)) / (r + m)
 
     @staticmethod
     def dlogw(c, P):
-        r, m = P
+        r, m = P[0], P[1]
         c = as_float(c)
         # c/m - (r + c + 1)/(r + m), without the cancellation of r against r + m
         return c / m - 1.0 - (c + 1.0 - m) / (r + m)
 
     @staticmethod
     def dlogpmf(y, P):
-        r, m = P
+        r, m = P[0], P[1]
         return r * (as_float(y) - m) / (m * (r + m))
 
     @staticmethod
     def logratio(y, P, dt):
-        r, m = P
+        r, m = P[0], P[1]
         y = as_float(y)
         return -r * np.log1p(dt / (r + m)) + y * np.log1p(dt * r / (m * (r + m + dt)))
 

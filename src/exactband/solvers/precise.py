@@ -25,6 +25,7 @@ from dataclasses import dataclass, field
 
 import mpmath as mp
 
+from ..families.mptable import table_estimate
 from ..kinds import KINDS
 from ..mpnum import dec, dec_complement
 from . import precise_tails
@@ -96,6 +97,9 @@ def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
         hit = _CACHE.get(kk)
         if hit is not None and hit._prec >= prec and hit.thr <= thr:
             if isinstance(hit, precise_tails.TailTable):  # this design's cost, predicted again
+                if not hit.beyond and not precise_tails.prefers_tails(
+                        hit.tails, table_estimate(hit.tails.sd_f, thr, prec)[0], hint, prec):
+                    continue  # a table is cheaper for this design (or the only way)
                 precise_tails.check_cost(hit.tails, hint, prec)
             _CACHE.move_to_end(kk)
             return hit

@@ -109,8 +109,9 @@ class _Seg:
 class TailTable:
     """MpTable's questions answered from anchors (module doc); no truncation."""
 
-    def __init__(self, law, tails, moments: bool = False):
+    def __init__(self, law, tails, moments: bool = False, beyond: bool = True):
         self.law = law
+        self.beyond = beyond  # False: the law fits a table; read so because it was cheaper
         self.tails = tails
         self.moments = moments
         self._prec = mp.mp.prec
@@ -337,6 +338,7 @@ class TailTable:
 
 
 MAX_CF_TERMS = 300_000  # continued-fraction terms one design may be predicted to take
+SWITCH_TERMS = 200_000  # table terms past which a cheaper design is read from the tails
 _EVALS = {"upper": 10, "lower": 10}  # tail evaluations a design takes (measured; 30 if two-tailed)
 
 
@@ -366,7 +368,8 @@ def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int) -> tuple:
         if hint.kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
-    return evals * cf_terms_estimate(sd, z, prec), z
+    # the fractions run at the working precision + GUARD_BITS + 10 (mptails.tails)
+    return evals * cf_terms_estimate(sd, z, prec + GUARD_BITS + 10), z
 
 
 def check_cost(T, hint: CostHint | None, prec: int):
@@ -381,18 +384,33 @@ def check_cost(T, hint: CostHint | None, prec: int):
             f"limit {MAX_CF_TERMS:,}")
 
 
+def prefers_tails(T, terms: int, hint: CostHint | None, prec: int) -> bool:
+    """A law within the table limits is read from its tails when that is the cheaper way.
+
+    Only past SWITCH_TERMS table terms (laws that small keep their tables, so
+    their designs are computed as before), when the design is known (``hint``)
+    and its predicted fraction terms, at about twice a table term's cost each,
+    stay under the table's length and under MAX_CF_TERMS.  Both ways give the
+    same numbers to the working precision (docs/tolerances.md section 6).
+    """
+    if hint is None or T.suited or terms <= SWITCH_TERMS:
+        return False
+    cf, _ = predicted_terms(hint, T.mean_f, T.sd_f, prec)
+    return cf <= MAX_CF_TERMS and 2 * cf < terms
+
+
 def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
     """MpTable of the law, or a TailTable when the law is too spread out for a table.
 
     A law whose family gives single-point tails (``law.tails``) is read through a
     TailTable past TAIL_TERMS terms when the family says the tails are cheap for
-    it from there on (``suited``: a negative binomial with r <= m), and otherwise
-    past the table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it
-    was declined before: Poisson, binomial and the Poisson-like negative
-    binomial.  Those are declined (TableTooLarge) when the design is predicted to
-    take more than MAX_CF_TERMS continued-fraction terms (``check_cost``).
-    Every law that fits the table limits is still tabulated, so its designs are
-    unchanged.
+    it from there on (``suited``: a negative binomial with r <= m), past the
+    table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it was
+    declined before (Poisson, binomial and the Poisson-like negative binomial),
+    and past SWITCH_TERMS terms when the design's fractions are predicted to be
+    cheaper than the table (``prefers_tails``).  Beyond the table limits a design
+    predicted to take more than MAX_CF_TERMS continued-fraction terms is declined
+    (TableTooLarge, ``check_cost``).
     """
     tails = getattr(law, "tails", None)
     if tails is not None:
@@ -402,5 +420,7 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
             T = tails()
             if T.suited or terms > MAX_TABLE or nbytes > MAX_TABLE_BYTES:
                 check_cost(T, hint, mp.mp.prec)
-                return TailTable(law, T, moments=True)
+                return TailTable(law, T, moments=True, beyond=True)
+            if prefers_tails(T, terms, hint, mp.mp.prec):
+                return TailTable(law, T, moments=True, beyond=False)
     return MpTable(law, thr, moments=moments)
