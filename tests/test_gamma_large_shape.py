@@ -125,3 +125,15 @@ def test_start_changes_nothing(kind, pts):
                 assert (c is None) == (ref is None)
                 if ref is not None:
                     assert abs(c / ref - 1) < mp.mpf("1e-40")
+
+
+def test_shape_limit_tightens_with_precision():
+    """At 50 digits every shape up to MAX_SHAPE is within the work limit; at 1000 digits a
+    shape of 1e6 is declined before any tail is evaluated, one line naming the limit."""
+    from exactband.errors import DesignError
+
+    assert g.largest_shape(int(115 * 3.33)) == g.MAX_SHAPE  # 50 digits + guard + 50 extra
+    with pytest.raises(DesignError, match="term-bits per incomplete gamma value, limit") as e:
+        design("gamma", "band", n=1000000, alpha="0.05", low="1", high="1.0001",
+               dispersion="1", precision=1000)
+    assert "\n" not in str(e.value)

@@ -39,6 +39,11 @@ from .continuous import ContinuousFamily
 from .mptable import TableTooLarge
 
 MAX_SHAPE = 1e6  # largest n k the mpmath law evaluates (series convergence)
+# term-bits of one incomplete gamma sum near the mode: terms sqrt(2 A (prec + 4) ln 2) times
+# their prec + 40 bits.  A design costs ~1.5 s of CPU at the limit (bench/bench_slow.py); the
+# default 50 digits (at most ~100 working digits) stays below it up to MAX_SHAPE, so the limit
+# only lowers the largest shape at a raised precision (about 2e5 at 200 digits, 2e3 at 1000)
+MAX_WORK = 1e7
 DEEP = 4.0  # standard deviations below the mean where GammaFloat integrates the lower tail
 _LAG_X, _LAG_W = np.polynomial.laguerre.laggauss(60)
 
@@ -242,6 +247,16 @@ def _upper_fraction(a, x):
     raise TableTooLarge("the incomplete gamma continued fraction did not converge")
 
 
+def sum_work(shape: float, prec: int) -> float:
+    """Term-bits of one fixed-point incomplete gamma sum near the mode at ``prec`` bits."""
+    return math.sqrt(2.0 * shape * (prec + 4) * math.log(2.0)) * (prec + 40)
+
+
+def largest_shape(prec: int) -> float:
+    """The largest shape whose sums stay within MAX_WORK at ``prec`` bits (and MAX_SHAPE)."""
+    return min(MAX_SHAPE, (MAX_WORK / (prec + 40)) ** 2 / (2.0 * (prec + 4) * math.log(2.0)))
+
+
 class GammaMp:
     """mpmath law of the total (call inside the caller's mp.workdps)."""
 
@@ -253,6 +268,13 @@ class GammaMp:
         if self.A > MAX_SHAPE:
             raise TableTooLarge(f"shape n k = {mp.nstr(self.A, 6)} is above {MAX_SHAPE:g}, "
                                 "the largest the high-precision incomplete gamma function takes")
+        need = sum_work(float(self.A), mp.mp.prec)
+        if need > MAX_WORK:
+            raise TableTooLarge(
+                f"shape n k = {mp.nstr(self.A, 6)} at {mp.mp.dps} working digits needs about "
+                f"{need:.2g} term-bits per incomplete gamma value, limit {MAX_WORK:.0e} (shape "
+                f"up to about {largest_shape(mp.mp.prec):.2g} at these digits; a lower "
+                "precision allows more)")
 
     def mean(self, theta):
         return self.A * theta / self.k

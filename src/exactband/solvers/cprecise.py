@@ -158,6 +158,14 @@ START_WIDTHS = (1e-12, 1e-8, 1e-4)  # half-widths of the brackets tried around a
 
 
 def _around(fn, start, scale, lower):
+    """``_near`` with any failure of the search near the start sent to the full search."""
+    try:
+        return _near(fn, start, scale, lower)
+    except PreciseFailure:
+        return None
+
+
+def _near(fn, start, scale, lower):
     """(a, b, fn(a), fn(b)) with a < b around ``start`` where the monotone fn changes sign,
     or None (then the caller searches its full bracket).
 
