@@ -24,6 +24,9 @@ from .families.mptable import TableTooLarge
 from .params import Problem
 from .rule import Rule
 from .solvers import cfast, cprecise, fast, precise
+from .solvers.search import BIG
+
+BIG_TEXT = f"{BIG:.0e}".replace("e+", "e")  # 1e15
 
 MIN_PRECISION, MAX_PRECISION = 20, 1000
 DEFAULT_PRECISION = 50  # significant digits of the verifying mpmath solver
@@ -63,8 +66,49 @@ def label(p: Problem) -> str:
     return f"{p.family.name} {p.kind.name} (n={p.n}, alpha={p.alpha}, {hyp}{disp})"
 
 
+def check_reach(p: Problem) -> None:
+    """Decline (one line) a design whose cutoff would pass the searched range.
+
+    The fast solver searches cutoffs up to ``search.BIG`` (1e15, where doubles
+    still hold every integer with room for the laws' arithmetic).  A law with an
+    unbounded support (Poisson, negative binomial) whose tail beyond BIG at the
+    largest theta is not small against alpha (above alpha/4 for the two-tailed
+    and upper kinds: the upper tail there takes at least about half of alpha;
+    for the lower kind, P(Y <= BIG) at most alpha) has its cutoff beyond BIG:
+    predicted from the float law's tail at BIG before any search.
+    """
+    if not p.family.discrete:
+        return
+    L = p.family.float_law
+    k = None if p.dispersion is None else np.array([float(p.dispersion)])
+    top = max(float(t) for t in p.points)
+    P = L.make(np.array([top]), np.array([float(p.n)]), k)
+    if np.all(np.isfinite(L.supmax(P))):
+        return
+    big = np.array([BIG])
+    a = float(p.alpha)
+    if not p.kind.uses_c2:  # rejects below c1 only: its cutoff is beyond BIG if all of Y is
+        below = float(L.cdf(big, P)[0])
+        if not below <= a:  # (a NaN leaves the search to report)
+            return
+        what = f"P(Y <= {BIG_TEXT}) = {below:.3g} at theta = {top:g} is not above alpha"
+    else:
+        beyond = float(L.sf(big, P)[0])
+        if not beyond > a / 4:
+            return
+        what = f"P(Y > {BIG_TEXT}) = {beyond:.3g} at theta = {top:g} is above alpha/4"
+    raise DesignError(
+        f"invalid n = {p.n}: the cutoff of {label(p)} would pass {BIG_TEXT}, the largest the "
+        f"solvers search ({what}); use a smaller n or theta", field="n", value=p.n,
+        allowed=f"a design whose cutoffs stay below {BIG_TEXT}")
+
+
 def fast_solve(problems: list) -> list:
-    """Run the fast solver over problems (grouped by family and kind); tuples per problem."""
+    """Run the fast solver over problems (grouped by family and kind); tuples per problem.
+
+    Each problem is first checked to have its cutoffs within reach (``check_reach``)."""
+    for p in problems:
+        check_reach(p)
     out = [None] * len(problems)
     groups: dict = {}
     for i, p in enumerate(problems):

@@ -100,6 +100,9 @@ def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
                 if not hit.beyond and not precise_tails.prefers_tails(
                         hit.tails, table_estimate(hit.tails.sd_f, thr, prec)[0], hint, prec):
                     continue  # a table is cheaper for this design (or the only way)
+                if precise_tails.over_cost(hit.tails, hint, prec) and precise_tails.fits_table(
+                        hit.tails.sd_f, thr, prec):
+                    continue  # too slow from tails for this design, and a table fits
                 precise_tails.check_cost(hit.tails, hint, prec)
             _CACHE.move_to_end(kk)
             return hit

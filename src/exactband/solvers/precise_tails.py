@@ -44,6 +44,9 @@ MAX_SEG = 1 << 18  # masses per segment (bounds the floors' error, docs/toleranc
 CHECK_BITS = 16  # a certified tail agrees with a fresh anchor to 2**-(prec + CHECK_BITS)
 
 
+ALPHA_MIN_BITS = 333  # the smallest alpha allowed, 1e-100, is above 2**-333
+
+
 class TailCheckFailure(ArithmeticError):
     """A tail read from a segment disagrees with a fresh evaluation (never silent)."""
 
@@ -209,10 +212,17 @@ class TailTable:
 
     @property
     def hi(self):
-        """A point beyond which the right tail is below 2**-(prec + 100) (for open brackets)."""
+        """A point beyond which the right tail is below 2**-(prec + 100) times the
+        smallest alpha (for open brackets).
+
+        Relative to alpha, not to 1: at alpha = 4.74e-99 a tail of 2**-(prec + 100)
+        (~1e-96 at 65 digits) is still above alpha, and a bracket closed there
+        put the right cutoff of a point design short of its solution.
+        """
         if self._hi is None:
             with mp.workprec(self._prec):
-                self._hi = self.first_sf_at_most(mp.ldexp(_ONE, -(self._prec + 100)))
+                self._hi = self.first_sf_at_most(
+                    mp.ldexp(_ONE, -(self._prec + 100 + ALPHA_MIN_BITS)))
         return self._hi
 
     def certify(self, points):
@@ -350,37 +360,57 @@ class CostHint(NamedTuple):
     other_mean: float | None = None
 
 
-def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int) -> tuple:
+def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int,
+                    cf_sd: float | None = None) -> tuple:
     """(terms, z): continued-fraction terms a design is predicted to take on this law.
 
     z is how near (in sd) to the law's mean its cutoffs may come: the alpha
     quantile for one-sided designs, the min(alpha, 1/2) quantile for two-tailed
-    ones, and for equivalence the smaller of that and the rest of the distance
-    to the other end's mean (a narrow equivalence window sits at the centre).
+    ones (min(alpha, 1 - alpha) for equivalence), and for equivalence the
+    smaller of that and the rest of the distance to the other end's mean (a
+    narrow equivalence window sits at the centre).
     Times the evaluations a design takes (10 one-sided, 30 two-tailed;
-    measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``.
+    measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``, whose centre
+    cost is set by ``cf_sd`` (the law's ``cf_sd``: 50 r^(1/3) for a negative
+    binomial whose spread comes from its dispersion; sd by default).
     """
     a = min(max(hint.alpha, 1e-300), 1.0 - 1e-16)
     if hint.kind in ("upper", "lower"):
         z = abs(NormalDist().inv_cdf(a))
     else:
-        z = -NormalDist().inv_cdf(min(a, 0.5))
+        # an equivalence design of size a > 1/2 is the band of size 1 - a: its
+        # cutoffs lie the 1 - a quantile out, not at the centre
+        z = -NormalDist().inv_cdf(min(a, 1.0 - a) if hint.kind == "equivalence" else min(a, 0.5))
         if hint.kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
     # the fractions run at the working precision + GUARD_BITS + 10 (mptails.tails)
-    return evals * cf_terms_estimate(sd, z, prec + GUARD_BITS + 10), z
+    return evals * cf_terms_estimate(sd if cf_sd is None else cf_sd, z,
+                                     prec + GUARD_BITS + 10), z
+
+
+def over_cost(T, hint: CostHint | None, prec: int) -> bool:
+    """The design is predicted to take more than MAX_CF_TERMS fraction terms on T."""
+    return hint is not None and predicted_terms(hint, T.mean_f, T.sd_f, prec,
+                                                T.cf_sd)[0] > MAX_CF_TERMS
+
+
+def fits_table(sd: float, thr, prec: int) -> bool:
+    """The law's table stays within MAX_TABLE terms and MAX_TABLE_BYTES."""
+    terms, nbytes = table_estimate(sd, thr, prec)
+    return terms <= MAX_TABLE and nbytes <= MAX_TABLE_BYTES
 
 
 def check_cost(T, hint: CostHint | None, prec: int):
     """Raise TableTooLarge (one line, naming the limit) for a design predicted too slow."""
-    if hint is None or T.suited:
+    if hint is None:
         return
-    terms, z = predicted_terms(hint, T.mean_f, T.sd_f, prec)
+    terms, z = predicted_terms(hint, T.mean_f, T.sd_f, prec, T.cf_sd)
     if terms > MAX_CF_TERMS:
         raise TableTooLarge(
             f"about {terms:,.0f} continued-fraction terms predicted for the tails of a law with "
-            f"standard deviation {T.sd_f:.3g} at cutoffs {abs(z):.2g} sd from its mean, "
+            f"standard deviation {T.sd_f:.3g}{'' if T.cf_sd is None else f' (size r = {T.r_f:.3g})'}"
+            f" at cutoffs {abs(z):.2g} sd from its mean, "
             f"limit {MAX_CF_TERMS:,}")
 
 
@@ -408,9 +438,9 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
     table limits (mptable.MAX_TABLE terms, MAX_TABLE_BYTES), where it was
     declined before (Poisson, binomial and the Poisson-like negative binomial),
     and past SWITCH_TERMS terms when the design's fractions are predicted to be
-    cheaper than the table (``prefers_tails``).  Beyond the table limits a design
-    predicted to take more than MAX_CF_TERMS continued-fraction terms is declined
-    (TableTooLarge, ``check_cost``).
+    cheaper than the table (``prefers_tails``).  A design predicted to take more
+    than MAX_CF_TERMS continued-fraction terms is tabulated when the table fits,
+    and declined beyond the table limits (TableTooLarge, ``check_cost``).
     """
     tails = getattr(law, "tails", None)
     if tails is not None:
@@ -418,7 +448,10 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
         terms, nbytes = table_estimate(sd, thr, mp.mp.prec)
         if terms > TAIL_TERMS or nbytes > MAX_TABLE_BYTES:
             T = tails()
-            if T.suited or terms > MAX_TABLE or nbytes > MAX_TABLE_BYTES:
+            fits = terms <= MAX_TABLE and nbytes <= MAX_TABLE_BYTES
+            # a suited law whose fractions would be slow at this design's cutoffs (a
+            # size r above ~1e7, cutoffs near the centre) keeps its table when it fits
+            if (T.suited or not fits) and not (fits and over_cost(T, hint, mp.mp.prec)):
                 check_cost(T, hint, mp.mp.prec)
                 return TailTable(law, T, moments=True, beyond=True)
             if prefers_tails(T, terms, hint, mp.mp.prec):
