@@ -1,4 +1,4 @@
-# exactband: make install | demo | test | bench
+# exactband: make install | demo | test | bench | validate
 # `make install` is idempotent: it (re)creates .venv at the repository root only
 # when pyproject.toml changed since the last install.
 
@@ -9,7 +9,7 @@ VENV   := .venv
 PY     := $(VENV)/bin/python
 STAMP  := $(VENV)/.installed
 
-.PHONY: install demo test bench clean
+.PHONY: install demo test bench validate clean
 
 install: $(STAMP)
 
@@ -28,6 +28,11 @@ test: install
 
 bench: install
 	$(PY) bench/run.py
+
+# random designs over the whole documented range (minutes; not part of `make test`)
+VALIDATE_COUNT ?= 2000
+validate: install
+	$(PY) bench/validate_range.py --count $(VALIDATE_COUNT) --workers 2
 
 clean:
 	rm -rf $(VENV) build dist src/*.egg-info .pytest_cache .hypothesis .ruff_cache

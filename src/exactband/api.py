@@ -20,6 +20,7 @@ from .solving import (
     MAX_PRECISION,
     MIN_PRECISION,
     check_precision,
+    check_verifiable,
     fast_solve,
     from_fast,
     label,
@@ -71,6 +72,8 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
                      dispersion=dispersion)
     precision = precision_alias(precision, digits)
     d = check_precision(DEFAULT_PRECISION if precision is None else precision)
+    if verify:
+        check_verifiable(p)
     sol = fast_solve([p])[0]
     if not verify:
         return from_fast(p, sol)

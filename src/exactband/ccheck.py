@@ -9,12 +9,21 @@ same test when their cutoffs coincide.  The comparison:
   the fast solver's quantiles are polished to a few ulps and its root search stops at
   4 epsilons relative; the worst difference measured over the reference and property
   tests is about 1e-15.
+  A cutoff whose tail is insensitive to it (elasticity e_i = f(c_i) (|c_i| + floor) / T_i
+  below about 30, T_i the smaller tail at c_i; the largest over the points,
+  ``cfast.cut_conditioning``) is determined only to the float law's own error divided by
+  e_i: the fast solver puts c_i where a tail equals a target, and a tail T computed in
+  doubles carries a relative error up to law_error(T) = 8 eps (8 + |ln T|) (the tail is
+  the exponential of a log of magnitude ~|ln T|, e.g. x^a = exp(a ln x) for a gamma of
+  small shape, rounded to a few ulps).  So cut_tol_i = max(CUT_TOL, law_error(T_i) / e_i).
+  Example: a gamma of shape 0.14 at alpha = 4.5e-40 (e = 0.14, cutoff 1.3e-283): measured
+  1.5e-13, allowed 1.3e-12.
 * sizes: the fast cutoffs evaluated with the precise law at every constraint point
   lie within size_tol of alpha, derived from the cutoff tolerance: moving every
-  cutoff by a relative CUT_TOL moves the size by at most kappa * CUT_TOL * alpha to
+  cutoff by a relative cut_tol moves the size by at most kappa * cut_tol * alpha to
   first order, where kappa = sum_i f(c_i) (|c_i| + floor) / alpha (``cfast.conditioning``).
-  size_tol = alpha * min(SIZE_TOL, 1e-15 + kappa * CUT_TOL), capped at 1e-9 relative so
-  that a real mistake cannot hide.
+  size_tol = alpha * min(SIZE_TOL, 1e-15 + kappa * max_i cut_tol_i), capped at 1e-9
+  relative so that a real mistake cannot hide.
 * the precise rule's own sizes within alpha * 10^-precision.
 
 A design whose kappa exceeds KAPPA_MAX cannot be printed as double-precision
@@ -48,20 +57,34 @@ class ContinuousCheck:
     size_tol: float  # relative to alpha
     precision: int
     reason: str = ""
+    cut_tol: float = CUT_TOL  # the relative tolerance of the cutoff that differs most
 
 
     def summary(self) -> str:
         state = "agree" if self.agree else "DISAGREE"
         return (f"solvers {state}: max relative cutoff difference = {self.cut_diff:.2e} "
-                f"(tolerance {CUT_TOL:.1e}); probability between the two rules' cutoffs "
+                f"(tolerance {self.cut_tol:.1e}); probability between the two rules' cutoffs "
                 f"{self.max_phi_diff:.2e}; fast-solver size error {self.fast_size_error:.2e} "
                 f"x alpha (tolerance {self.size_tol:.1e}); precise size error "
                 f"{self.precise_size_error:.1e} x alpha")
 
 
-def size_tolerance(kappa: float) -> float:
+def size_tolerance(kappa: float, cut_tol: float = CUT_TOL) -> float:
     """Tolerance on the fast rule's sizes, relative to alpha (see the module text)."""
-    return min(SIZE_TOL, 1e-15 + kappa * CUT_TOL)
+    return min(SIZE_TOL, 1e-15 + kappa * cut_tol)
+
+
+def law_error(tail: float) -> float:
+    """Bound on the float laws' relative error in a tail of that size (module text)."""
+    return 8.0 * 2.0 ** -52 * (8.0 + abs(math.log(tail)))
+
+
+def cut_tolerance(elastic) -> float:
+    """Relative tolerance of one cutoff; ``elastic``: its (elasticity, tail) or None."""
+    if elastic is None or not elastic[0] > 0:
+        return CUT_TOL
+    e, tail = elastic
+    return max(CUT_TOL, law_error(tail) / e)
 
 
 def representable(kappa: float) -> bool:
@@ -80,24 +103,29 @@ def compare(fast, precise, fast_sizes, alpha, floor: float, precision: int,
 
 
 def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> ContinuousCheck:
-    worst_cut = 0.0
+    worst_cut, worst_tol = 0.0, CUT_TOL
     reason = ""
-    for name, cf, cp in (("c1", fast.c1, precise.c1), ("c2", fast.c2, precise.c2)):
+    kappas = getattr(fast, "cut_conditioning", (None, None))
+    tols = [cut_tolerance(k) for k in kappas]
+    for name, cf, cp, ctol in (("c1", fast.c1, precise.c1, tols[0]),
+                               ("c2", fast.c2, precise.c2, tols[1])):
         if (cf is None) != (cp is None):
             return ContinuousCheck(False, math.inf, math.inf, math.inf, math.inf, 0.0,
                                    precision, f"{name} present in one rule only")
         if cf is None:
             continue
         d = float(abs(mp.mpf(cf) - cp) / (abs(cp) + floor))
-        worst_cut = max(worst_cut, d)
-        if d > CUT_TOL and not reason:
+        if d >= worst_cut:
+            worst_cut, worst_tol = d, ctol
+        if d > ctol and not reason:
             reason = f"{name} differs: {cf!r} against {mp.nstr(cp, 20)} (relative {d:.3g})"
     fse = max(float(abs(s - a) / a) for s in fast_sizes)
     pse = max(float(abs(s - a) / a) for s in precise.sizes)
-    tol = size_tolerance(fast.conditioning)
+    used = [t for t, c in zip(tols, (fast.c1, fast.c2)) if c is not None]
+    tol = size_tolerance(fast.conditioning, max(used, default=CUT_TOL))
     if not reason and fse > tol:
         reason = f"the fast rule's size is off by {fse:.3g} relative (tolerance {tol:.3g})"
     if not reason and pse > 10.0 ** -precision:
         reason = f"the precise rule's size is off by {pse:.3g} relative"
     return ContinuousCheck(not reason, worst_cut, float(between), fse, pse, tol, precision,
-                           reason)
+                           reason, worst_tol)

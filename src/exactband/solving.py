@@ -11,6 +11,7 @@ the audit and ``decide --table``.
 from __future__ import annotations
 
 import math
+import sys
 
 import mpmath as mp
 import numpy as np
@@ -159,6 +160,13 @@ def continuous_fast(p: Problem) -> tuple:
     except (FloatingPointError, ValueError, OverflowError) as e:
         raise DesignError(f"the float solver failed on {label(p)}: {e}", field="alpha",
                           value=p.alpha) from None
+    tiny = [c for c in (sol.c1, sol.c2) if c is not None and abs(c) < sys.float_info.min]
+    if law.lower == 0.0 and tiny:  # a scale family's cutoff at 0 or among the subnormals
+        raise DesignError(
+            f"invalid alpha = {p.alpha}: a cutoff of {label(p)} lies below 2.2e-308, the "
+            "smallest normal double, where it cannot hold its size; use a larger alpha, or "
+            "state the mean in a smaller unit", field="alpha", value=p.alpha,
+            allowed="a design whose cutoffs are normal doubles")
     if not ccheck.representable(sol.conditioning):
         raise DesignError(
             f"invalid alpha = {p.alpha}: the cutoffs of {label(p)} written as 17-digit numbers "
@@ -167,6 +175,24 @@ def continuous_fast(p: Problem) -> tuple:
             "nearer the values (e.g. as a difference from a reference value)", field="alpha",
             value=p.alpha, allowed="a design whose cutoffs hold its size to 1e-9")
     return sol.c1, None, sol.c2, None
+
+
+def _beyond(p: Problem, e: TableTooLarge) -> DesignError:
+    return DesignError(f"invalid n = {p.n}: the law of Y is beyond the high-precision "
+                       f"check ({e}); use a smaller n or the unverified fast path",
+                       field="n", value=p.n)
+
+
+def check_verifiable(p: Problem) -> None:
+    """Decline at once a continuous design whose law the precise solver does not take (a
+    gamma shape above its limit), before the fast solver spends any time on it."""
+    if p.family.discrete:
+        return
+    try:
+        with mp.workdps(20):
+            p.family.continuous_mp(p.n, p.dispersion)
+    except TableTooLarge as e:
+        raise _beyond(p, e) from None
 
 
 def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
@@ -178,9 +204,7 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
                             value=p.value, dispersion=p.dispersion, precision=precision,
                             start=(fast_sol.c1, fast_sol.c2))
     except TableTooLarge as e:
-        raise DesignError(f"invalid n = {p.n}: the law of Y is beyond the high-precision "
-                          f"check ({e}); use a smaller n or the unverified fast path",
-                          field="n", value=p.n) from None
+        raise _beyond(p, e) from None
     sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, fast_sol.c1, fast_sol.c2,
                               p.points, precision)
     floor = float(law.sd(p.points[0])) if law.floor_scale else 0.0

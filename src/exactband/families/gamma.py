@@ -44,6 +44,8 @@ MAX_SHAPE = 1e6  # largest n k the mpmath law evaluates (series convergence)
 # default 50 digits (at most ~100 working digits) stays below it up to MAX_SHAPE, so the limit
 # only lowers the largest shape at a raised precision (about 2e5 at 200 digits, 2e3 at 1000)
 MAX_WORK = 1e7
+DEEP = 4.0  # standard deviations below the mean where GammaFloat integrates the lower tail
+_LAG_X, _LAG_W = np.polynomial.laguerre.laggauss(60)
 
 
 class GammaFloat:
@@ -70,8 +72,45 @@ class GammaFloat:
     def _x(self, c, theta):
         return self.k * np.asarray(c, dtype=float) / np.asarray(theta, dtype=float)
 
+    def _lower(self, x):
+        """P(A, x) = scipy's gammainc, except in the deep lower tail of a large shape.
+
+        There (x more than DEEP standard deviations below A, A > 200) scipy 1.17 sums the
+        power series with at most 2000 terms, which is not enough once A passes about
+        4e5: measured against the mpmath series, relative errors 2.5e-7 at A = 7e5, 3e-2
+        at 1e7, 0.35 at 1e8 (5 sd below).  ``_deep_lower`` integrates the density instead.
+        """
+        x = np.asarray(x, dtype=float)
+        out = np.asarray(sp.gammainc(self.A, x), dtype=float)
+        if self.A > 200.0:
+            deep = (x > 0) & (self.A - 1.0 - x > DEEP * math.sqrt(self.A))
+            if np.any(deep):
+                out = np.array(out, copy=True)
+                with np.errstate(under="ignore"):
+                    out[deep] = np.exp(self._log_deep(x[deep]))
+        return out
+
+    def _log_deep(self, x):
+        """log P(A, x) for 0 < x < A - 1 by Gauss-Laguerre quadrature of the density.
+
+        With g = log of the Gamma(A, 1) density and s = g'(x) = (A - 1)/x - 1 > 0,
+        P = (e^g(x) / s) * integral_0^sx e^-w exp(g(x - w/s) - g(x) + w) dw; the last
+        factor is smooth, concave in the exponent, 1 at w = 0 with zero slope, so the
+        quadrature converges fast (the log densities come from bd0, without cancellation).
+        """
+        A = self.A
+        s = (A - 1.0) / x - 1.0
+        t = x[:, None] - _LAG_X[None, :] / s[:, None]
+        ok = t > 0
+        tt = np.where(ok, t, 1.0)
+        gx = -np.log(x) + self._log_h(x)  # log A and the norm cancel in the difference
+        gt = -np.log(tt) + self._log_h(tt.ravel()).reshape(tt.shape)
+        with np.errstate(under="ignore"):
+            e = np.where(ok, np.exp(gt - gx[:, None] + _LAG_X[None, :]), 0.0)
+        return math.log(A) + gx - np.log(s) + np.log(e @ _LAG_W)
+
     def cdf(self, c, theta):
-        return sp.gammainc(self.A, np.maximum(self._x(c, theta), 0.0))
+        return self._lower(np.maximum(self._x(c, theta), 0.0))
 
     def sf(self, c, theta):
         return sp.gammaincc(self.A, np.maximum(self._x(c, theta), 0.0))

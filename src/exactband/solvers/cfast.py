@@ -55,6 +55,7 @@ class ContinuousSolution:
     c2: float | None
     sizes: tuple
     conditioning: float  # relative change of the size per relative change of the cutoffs
+    cut_conditioning: tuple = (None, None)  # (elasticity, tail) of c1 and of c2
 
 
 def _f(x) -> float:
@@ -171,7 +172,7 @@ def _two_tail(law, alpha: float, lo: float, hi: float):
         s = a + _f(law.sf(c2, lo))
         return _clip(math.log(s) - math.log(alpha)) if s > 0 else -_BIG
 
-    r = _root(cond, 0.0, 1.0, 0.0 if slim else LOG_NOISE)
+    r = _root(cond, 0.0, 1.0, 0.0 if slim else lambda r: _noise(law, *cuts(r)[1:], alpha, lo, hi))
     _, c1, c2 = cuts(r)
     return c1, c2
 
@@ -199,7 +200,7 @@ def _window(law, alpha: float, lo: float, hi: float):
             return -_BIG
         return _clip(math.log(pl) - math.log(ph)) if ph > 0 else _BIG
 
-    p = _root(cond, alpha, 1.0, 0.0 if slim else LOG_NOISE)
+    p = _root(cond, alpha, 1.0, 0.0 if slim else lambda p: _noise(law, *cuts(p), alpha, lo, hi))
     return cuts(p)
 
 
@@ -226,13 +227,23 @@ def _refine_end(law, c1: float, c2: float, alpha: float, theta: float) -> float:
     return c2
 
 
-def _root(fn, lo: float, hi: float, noise: float = 0.0) -> float:
+def _noise(law, c1, c2, alpha, lo, hi) -> float:
+    """What rounding alone can put in a log-ratio side condition at cutoffs (c1, c2): the
+    ratio's own rounding (LOG_NOISE) plus half an ulp of each cutoff, which moves a size of
+    alpha by conditioning * 2**-53 relative (2 ulps allowed at each of the two points)."""
+    kappa = conditioning(law, c1, c2, alpha, (lo, hi))
+    return LOG_NOISE + 4.0 * np.finfo(float).eps * kappa if math.isfinite(kappa) else LOG_NOISE
+
+
+def _root(fn, lo: float, hi: float, noise=0.0) -> float:
     """Root of an increasing fn on [lo, hi]; an end where fn is within ``noise`` of 0 (on
-    the wrong side by rounding) is the root."""
+    the wrong side by rounding) is the root.  ``noise``: a number, or a function of the end."""
     flo, fhi = fn(lo), fn(hi)
-    if flo == 0.0 or (flo > 0 and flo <= noise):
+    nlo = noise(lo) if callable(noise) else noise
+    if flo == 0.0 or (flo > 0 and flo <= nlo):
         return lo
-    if fhi == 0.0 or (fhi < 0 and -fhi <= noise):
+    nhi = noise(hi) if callable(noise) else noise
+    if fhi == 0.0 or (fhi < 0 and -fhi <= nhi):
         return hi
     if flo > 0 or fhi < 0:
         raise FloatingPointError("side condition does not change sign over its bracket")
@@ -249,6 +260,27 @@ def expectation(law, kind, c1, c2, theta):
         return np.vectorize(lambda x: interval(law, c1, c2, float(x)), otypes=[float])(t)
     out = law.cdf(c1, t) if kind.uses_c1 else 0.0
     return out + (law.sf(c2, t) if kind.uses_c2 else 0.0)
+
+
+def cut_conditioning(law, c1, c2, points) -> tuple:
+    """For c1 and for c2 (None if absent or infinite): (e, T), the largest over the points
+    of e = f(c) (|c| + floor) / T, the relative change of the smaller tail T at c per
+    relative change of c (its elasticity), with that tail T."""
+    out = []
+    for c in (c1, c2):
+        best = None
+        if c is not None and math.isfinite(c):
+            for t in points:
+                tail = min(_f(law.cdf(c, t)), _f(law.sf(c, t)))
+                if not tail > 0:
+                    continue
+                floor = _f(law.sd(t)) if law.floor_scale else 0.0
+                with np.errstate(under="ignore", divide="ignore"):
+                    e = math.exp(_f(law.logpdf(c, t))) * (abs(c) + floor) / tail
+                if best is None or e > best[0]:
+                    best = (e, tail)
+        out.append(best)
+    return tuple(out)
 
 
 def conditioning(law, c1, c2, alpha, points) -> float:
@@ -274,7 +306,13 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     points = kind.points(low, high, value)
     lo, hi = points[0], points[-1]
     c1 = c2 = None
-    if kind.rejects_inside:
+    # alpha > 1/2: 1 - alpha is formed exactly from alpha's decimal (1.0 - alpha would carry
+    # alpha's rounding, relative 1e-16 / (1 - alpha)), and the rule is found from it
+    if kind.rejects_inside and alpha > 0.5:
+        # a window of mass alpha at both points is accepting two tails of mass 1 - alpha at
+        # both: the two-tailed search on the complement keeps the small tails' digits
+        c1, c2 = _two_tail(law, float_complement(alpha), lo, hi)
+    elif kind.rejects_inside:
         c1, c2 = _window(law, alpha, lo, hi)
     elif kind.two_tailed and alpha > 0.5:
         # rejecting outside [c1, c2] with size alpha at both points is accepting a window
@@ -283,8 +321,9 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
     elif kind.two_tailed:
         c1, c2 = _two_tail(law, alpha, lo, hi)
     elif kind.uses_c2:
-        c2 = q_high(law, alpha, lo)
+        c2 = q_low(law, float_complement(alpha), lo) if alpha > 0.5 else q_high(law, alpha, lo)
     else:
-        c1 = q_low(law, alpha, lo)
+        c1 = q_high(law, float_complement(alpha), lo) if alpha > 0.5 else q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
-    return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points))
+    return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points),
+                              cut_conditioning(law, c1, c2, points))

@@ -75,6 +75,12 @@ def working_dps(precision: int, kind, alpha, sd_ratio=1.0, width=None) -> int:
     return int(precision) + GUARD_DIGITS + extra
 
 
+def _floor(lo, tol):
+    """The absolute floor of a relative stopping test: none on a bracket inside (0, inf),
+    where a cutoff may be tiny (a gamma total at a tiny alpha and a small shape)."""
+    return 0 if lo > 0 else tol
+
+
 def _newton_in(fn, lo, hi, tol, x0=None):
     """Root of an increasing fn (value, derivative) in [lo, hi]: Newton steps from x0 (or
     the middle), bisection when a step leaves the bracket or does not halve the last one."""
@@ -89,12 +95,13 @@ def _newton_in(fn, lo, hi, tol, x0=None):
         else:
             hi = x
         nx = x - v / d if d != 0 and mp.isfinite(v) else None
-        if nx is not None and lo <= nx <= hi and abs(nx - x) <= tol * (abs(x) + tol):
+        if nx is not None and lo <= nx <= hi and abs(nx - x) <= tol * (abs(x) + _floor(lo, tol)):
             return nx
         if nx is None or not lo < nx < hi or abs(nx - x) > abs(last) / 2:
-            nx = (lo + hi) / 2
+            # a bracket over many decades on (0, inf) (a tiny gamma cutoff) is halved in log
+            nx = mp.sqrt(lo * hi) if lo > 0 and hi > 4 * lo else (lo + hi) / 2
         last = nx - x
-        if hi - lo <= tol * (abs(nx) + tol):
+        if hi - lo <= tol * (abs(nx) + _floor(lo, tol)):
             return nx
         x = nx
     raise PreciseFailure("inner search did not converge")
@@ -127,11 +134,11 @@ def _illinois(fn, lo, hi, tol, noise=0, ends=None):
         x = (lo * fhi - hi * flo) / (fhi - flo)
         if not lo < x < hi:
             x = (lo + hi) / 2
-        if prev is not None and abs(x - prev) <= tol * (abs(x) + tol):
+        if prev is not None and abs(x - prev) <= tol * (abs(x) + _floor(lo, tol)):
             return x
         prev = x
         fx = fn(x)
-        if abs(fx) <= noise or abs(hi - lo) <= tol * (abs(x) + tol):
+        if abs(fx) <= noise or abs(hi - lo) <= tol * (abs(x) + _floor(lo, tol)):
             return x
         if (fx > 0) == (fhi > 0):
             hi, fhi = x, fx
@@ -374,7 +381,10 @@ def _window(law, alpha, lo, hi, tol, start=(None, None)):
     if near is not None:
         c1 = _illinois(outer, near[0], near[1], tol, noise, near[2:])
     else:
-        left = _below(law, hi, alpha * mp.mpf(10) ** -(mp.mp.dps // 2))
+        # below both laws' bulk: there the window ending where its mass at high is alpha
+        # holds more than alpha at low (low's law lies to the left), however far apart
+        tiny = alpha * mp.mpf(10) ** -(mp.mp.dps // 2)
+        left = min(_below(law, hi, tiny), _below(law, lo, tiny))
         right = _quantile_high(law, hi, alpha, tol)  # beyond it the window at high holds < alpha
         c1 = _illinois(outer, left, right, tol, noise)
     return c1, c2_of(c1)
