@@ -243,3 +243,20 @@ def test_verified_path_on_random_small_alpha_windows(family):
         except ExactbandError as e:  # pragma: no cover - the failure being tested
             pytest.fail(f"{family} {kw}: {e}")
         assert d.verified and d.check.agree
+
+
+MIDDLING_ALPHA = [
+    # equivalence at a middling alpha, where the window search did not converge (exit 70,
+    # or a fast path of seconds through its fallbacks; bench/bench_spread.py and the whole-
+    # range draw): the complement band's search keeps them (solvers/fast.WINDOW_ALPHA)
+    ("negative-binomial", 7, 18091.3404725, 18296.2621691972, 0.21087655302112374,
+     0.1037603530721162, "scipy"),
+    ("negative-binomial", 87, 10602.6429348, 10602.644487696, 0.04962832847008387,
+     0.36295054710072155, "scipy"),
+    ("poisson", 2, 3e7, 30000099.0, 0.4899, None, "gammainc"),
+]
+
+
+@pytest.mark.parametrize("family,n,low,high,alpha,k,ref", MIDDLING_ALPHA)
+def test_middling_alpha_keeps_the_complement_search(family, n, low, high, alpha, k, ref):
+    test_small_alpha_wide_window_verifies(family, n, low, high, alpha, k, ref)

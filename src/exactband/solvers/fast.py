@@ -31,6 +31,7 @@ from .twotailed import SolverFailure, initial_split, two_tailed
 
 __all__ = ["SolverFailure", "solve"]
 
+WINDOW_ALPHA = 1e-4  # equivalence designs of a smaller alpha take the window search (window.py)
 _MIRROR = {"upper": "lower", "lower": "upper"}
 
 
@@ -124,11 +125,13 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
             for o, r in zip(out, res):
                 o[small] = r
         return tuple(out)
-    if kind == "equivalence" and np.any(~big):
-        # alpha <= 1/2: searched in the window's own terms (``window``), not as the
-        # complement band of size 1 - alpha, which cannot carry alpha's digits
+    small = alpha < WINDOW_ALPHA
+    if kind == "equivalence" and np.any(small):
+        # a small alpha: searched in the window's own terms (``window``), not as the
+        # complement band of size 1 - alpha, which cannot carry alpha's digits; a
+        # larger alpha keeps the complement band's search, which converges on the
+        # spread-out laws the window search can miss (bench/bench_spread.py)
         out = [np.full(size, np.nan) for _ in range(4)]
-        small = ~big
         lo_a, hi_a = np.asarray(low, float)[small], np.asarray(high, float)[small]
         ks = None if k is None else k[small]
         Pl, Ph = L.make(lo_a, n[small], ks), L.make(hi_a, n[small], ks)
@@ -144,11 +147,12 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
         res = refine_equivalence(L, Pl, diff, a_s, *res)
         for o, r in zip(out, res):
             o[small] = r
-        if np.any(big):
-            res = _solve(family, kind, n[big], alpha[big], np.asarray(low, float)[big],
-                         np.asarray(high, float)[big], None, None if k is None else k[big])
+        rest = ~small
+        if np.any(rest):
+            res = _solve(family, kind, n[rest], alpha[rest], np.asarray(low, float)[rest],
+                         np.asarray(high, float)[rest], None, None if k is None else k[rest])
             for o, r in zip(out, res):
-                o[big] = r
+                o[rest] = r
         return tuple(out)
     if kind in ("band", "equivalence"):
         lo = np.asarray(low, float)

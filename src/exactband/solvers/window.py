@@ -208,7 +208,8 @@ def equivalence(L, Pl, Ph, diff, alpha, A0):
         qhi = np.where(up, st["qhi"], Q)
         qhi = np.where(up & (st["side"] == 1.0), 0.5 * qhi, qhi)  # Illinois
         qlo = np.where(~up & (st["side"] == -1.0), 0.5 * qlo, qlo)
-        An = S1 + h1 * pf1  # the root of the current linear piece
+        with np.errstate(invalid="ignore", over="ignore"):  # inf * 0: not finite, not taken
+            An = S1 + h1 * pf1  # the root of the current linear piece
         newton = (np.abs(Q) < 0.5 * st["qprev"]) & np.isfinite(An) & (An > alo) & (An < ahi)
         with np.errstate(divide="ignore", invalid="ignore"):
             t = qlo / (qlo - qhi)
