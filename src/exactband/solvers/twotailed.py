@@ -80,6 +80,13 @@ def _window_sums(L, P, second, c1, c2, rows):
     return j, mass, dsum
 
 
+def store_done(out, idx, done, c1, g1, c2, g2) -> None:
+    """Write the finished rows (cutoffs, gammas clipped to [0, 1]) into ``out`` at ``idx``."""
+    k = idx[done]
+    out[0][k], out[2][k] = c1[done], c2[done]
+    out[1][k] = np.clip(g1[done], 0.0, 1.0)
+    out[3][k] = np.clip(g2[done], 0.0, 1.0)
+
 def two_tailed(L, Pl, Pr, second, s, a0, b=None):
     """Band-form test of size s (left tail at Pl, right tail at Pr) with condition `second`.
 
@@ -157,10 +164,7 @@ def two_tailed(L, Pl, Pr, second, s, a0, b=None):
         done = ((c1 < c2) & np.isfinite(g1n) & np.isfinite(g2n)
                 & (g1n >= lo_ok) & (g1n <= hi_ok) & (g2n >= lo_ok) & (g2n <= hi_ok))
         if np.any(done):
-            k = st["idx"][done]
-            out[0][k], out[2][k] = c1[done], c2[done]
-            out[1][k] = np.clip(g1n[done], 0.0, 1.0)
-            out[3][k] = np.clip(g2n[done], 0.0, 1.0)
+            store_done(out, st["idx"], done, c1, g1n, c2, g2n)
         keep = ~done
         if not np.any(keep):
             break

@@ -35,7 +35,7 @@ from scipy.special import ndtr, ndtri
 
 from .conditions import GL_MAX_SPREAD
 from .search import BIG, first_true, sub
-from .twotailed import GAMMA_TOL, WINDOW_SUM, SolverFailure
+from .twotailed import GAMMA_TOL, WINDOW_SUM, SolverFailure, store_done
 
 _MAX_ITER = 200
 
@@ -192,10 +192,7 @@ def equivalence(L, Pl, Ph, diff, alpha, A0):
             h1[jj], h2[jj], c1o[jj], c2o[jj] = b1[ok], b2[ok], k1[ok], k2[ok]
             done[jj] = True
         if np.any(done):
-            k = st["idx"][done]
-            out[0][k], out[2][k] = c1o[done], c2o[done]
-            out[1][k] = np.clip(h1[done], 0.0, 1.0)
-            out[3][k] = np.clip(h2[done], 0.0, 1.0)
+            store_done(out, st["idx"], done, c1o, h1, c2o, h2)
         keep = ~done
         if not np.any(keep):
             break
