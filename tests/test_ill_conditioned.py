@@ -16,6 +16,7 @@ import pytest
 
 from exactband import api
 from exactband.crosscheck import PHI_CEIL, PHI_TOL, compare
+from exactband.errors import DesignError
 from exactband.solvers import precise
 
 NB = "negative-binomial"
@@ -134,3 +135,19 @@ def test_huge_size_lower_design_verifies():
     assert d.verified and d.check.agree and d.check.max_phi_diff <= PHI_TOL
     assert 0.0 <= d.gamma1 < 1.0
     assert abs(mp_lower_size(d, kw["value"]) / mp.mpf(repr(kw["alpha"])) - 1) < 1e-9
+
+
+def test_size_beyond_double_is_declined_and_a_wrong_cutoff_is_not():
+    # p = 0.311 is not a double; rounding it moves a tail of size 1.5e-68 by ~1e-9 of
+    # itself (d log S / d log p ~ 1e7 there), so the fast rule's size cannot be held to
+    # 1e-9 x alpha: declined in one line, never called a disagreement or verified
+    kw = dict(n=320000000000, value=0.311, alpha=1.54e-68)
+    with pytest.raises(DesignError, match="size can only be held to .* x alpha"):
+        api.design("binomial", "upper", verify=True, **kw)
+    p = api.make_problem("binomial", "upper", **kw)
+    sol = api.fast_solve([p])[0]
+    pd = precise.solve(p.family, "upper", p.n, p.alpha, value=p.value)
+    cc = compare("upper", p.alpha, sol, pd, 50)
+    assert cc.beyond_double and cc.max_phi_diff <= cc.phi_tol
+    wrong = compare("upper", p.alpha, (sol[0], sol[1], sol[2] + 1, sol[3]), pd, 50)
+    assert not wrong.agree and not wrong.beyond_double

@@ -72,12 +72,18 @@ class CrossCheck:
     size_tol: float = 0.0  # 0: not recorded (older records); see SIZE_TOL
     floor: float = 0.0  # the gamma's double-precision floor (floor_dg); 0: not recorded
     same_cutoffs: bool = True  # the two designs have the same cutoffs (only gammas differ)
+    size_floor: float = 0.0  # the size error (relative to alpha) the gamma's floor leaves
 
     @property
     def beyond_double(self) -> bool:
         """A disagreement in the gammas alone where the floor of any double evaluation is
-        above PHI_CEIL (a different cutoff is a disagreement, never this)."""
-        return not self.agree and self.same_cutoffs and self.floor > PHI_CEIL
+        above PHI_CEIL, or in the size alone (phi within its tolerance) where the size
+        error that floor leaves the fast rule is above SIZE_TOL (a different cutoff is a
+        disagreement, never this)."""
+        if self.agree or not self.same_cutoffs:
+            return False
+        return self.floor > PHI_CEIL or (self.max_phi_diff <= self.phi_tol
+                                         and self.size_floor > SIZE_TOL)
 
     def summary(self) -> str:
         state = "agree" if self.agree else "DISAGREE"
@@ -261,7 +267,10 @@ def _tolerances(kind: str, alpha, precise) -> tuple:
     if floor > PHI_TOL:  # no double computation reaches PHI_TOL (module doc)
         phi_tol = min(PHI_CEIL, floor)
     size_tol = min(SIZE_TOL * a, phi_tol * fmax + 1e-15 * a)
-    return phi_tol, size_tol, floor
+    # the size error the gamma's floor leaves the fast rule, relative to alpha: above
+    # SIZE_TOL no double computation can meet the size check (CrossCheck.beyond_double)
+    size_floor = floor * fmax / a if a > 0 else 0.0
+    return phi_tol, size_tol, floor, size_floor
 
 
 def tolerances(kind: str, alpha, precise) -> tuple:
@@ -287,7 +296,7 @@ def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossChec
         floor = float(A * mp.mpf(10) ** (-int(precision)))
         if perr <= floor:
             perr = floor
-    phi_tol, size_tol, floor = _tolerances(kind, alpha, precise)
+    phi_tol, size_tol, floor, size_floor = _tolerances(kind, alpha, precise)
     ok = dist <= phi_tol and ferr <= size_tol
     reason = ""
     if not ok:
@@ -296,4 +305,5 @@ def compare(kind: str, alpha, fast: tuple, precise, precision: int) -> CrossChec
     same = all((a is None and b is None) or (a is not None and b is not None
                                                and float(a) == float(b))
                for a, b in ((fast[0], pd[0]), (fast[2], pd[2])))
-    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol, floor, same)
+    return CrossCheck(ok, dist, ferr, perr, precision, reason, phi_tol, size_tol, floor, same,
+                      size_floor)

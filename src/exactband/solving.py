@@ -223,14 +223,20 @@ def continuous_verify(p: Problem, sol: tuple, precision: int) -> Design:
 
 def beyond_double(p: Problem, cc) -> DesignError:
     """Decline of a design whose gamma double precision cannot check (crosscheck.floor_dg)."""
-    from .crosscheck import PHI_CEIL
+    from .crosscheck import PHI_CEIL, SIZE_TOL
 
+    if cc.floor > PHI_CEIL:
+        what = (f"its gamma's floor there is {cc.floor:.2g} (condition number times roundoff), "
+                f"above the cross-check's ceiling {PHI_CEIL:g}, and the fast gamma differs by "
+                f"{cc.max_phi_diff:.2g}")
+    else:
+        what = (f"the fast rule's size can only be held to {cc.size_floor:.2g} x alpha there "
+                f"(its gamma's floor times the mass at the cutoffs), above the check's "
+                f"{SIZE_TOL:g} x alpha")
     return DesignError(
-        f"invalid alpha = {p.alpha}: {label(p)} cannot be verified in double precision: its "
-        f"gamma's floor there is {cc.floor:.2g} (condition number times roundoff), above the "
-        f"cross-check's ceiling {PHI_CEIL:g}, and the fast gamma differs by "
-        f"{cc.max_phi_diff:.2g}; use a larger alpha or a smaller spread, or the unverified "
-        "fast path", field="alpha", value=p.alpha,
+        f"invalid alpha = {p.alpha}: {label(p)} cannot be verified in double precision: "
+        f"{what}; use a larger alpha or a smaller spread, or the unverified fast path",
+        field="alpha", value=p.alpha,
         allowed=f"a design whose gamma double precision resolves to {PHI_CEIL:g}")
 
 
