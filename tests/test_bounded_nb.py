@@ -112,3 +112,13 @@ def test_slow_tails_fall_back_to_a_table_that_fits():
         d = api.design(NB, "point", alpha=alpha, verify=True, **kw)
         assert d.verified and d.check.agree
         assert {type(T).__name__ for T in precise._CACHE.values()} == {kind}
+
+
+def test_astronomical_size_certifies_at_the_working_precision():
+    # size r = n k ~ 6e28 (Poisson-like, read from its tails): the fresh-anchor check agreed
+    # to ~6e-71 against a bound of 2^-(219+16) = 1.8e-71 and failed (exit 70; found by the
+    # whole-range draw, bench/validate_range.py); it now holds the tails to the working
+    # precision 2^-219 (~1e-66), 15 digits beyond the printed 50
+    d = api.design("negative-binomial", "lower", n=600000000000, alpha=0.073, value=2.1e-4,
+                   dispersion=1.02e17)
+    assert d.verified and d.check.agree and 0.0 <= d.gamma1 < 1.0
