@@ -66,49 +66,46 @@ def label(p: Problem) -> str:
     return f"{p.family.name} {p.kind.name} (n={p.n}, alpha={p.alpha}, {hyp}{disp})"
 
 
-def check_reach(p: Problem) -> None:
+def check_reach(ps: list) -> None:
     """Decline (one line) a design whose cutoff would pass the searched range.
 
-    The fast solver searches cutoffs up to ``search.BIG`` (1e15, where doubles
-    still hold every integer with room for the laws' arithmetic).  A law with an
+    ``ps``: problems of one discrete family and kind (one vectorised call).  The
+    fast solver searches cutoffs up to ``search.BIG`` (1e15, where doubles still
+    hold every integer with room for the laws' arithmetic).  A law with an
     unbounded support (Poisson, negative binomial) whose tail beyond BIG at the
     largest theta is not small against alpha (above alpha/4 for the two-tailed
     and upper kinds: the upper tail there takes at least about half of alpha;
     for the lower kind, P(Y <= BIG) at most alpha) has its cutoff beyond BIG:
     predicted from the float law's tail at BIG before any search.
     """
-    if not p.family.discrete:
-        return
-    L = p.family.float_law
-    k = None if p.dispersion is None else np.array([float(p.dispersion)])
-    top = max(float(t) for t in p.points)
-    P = L.make(np.array([top]), np.array([float(p.n)]), k)
+    L = ps[0].family.float_law
+    top = np.array([max(float(t) for t in p.points) for p in ps])
+    n = np.array([float(p.n) for p in ps])
+    k = None if ps[0].dispersion is None else np.array([float(p.dispersion) for p in ps])
+    P = L.make(top, n, k)
     if np.all(np.isfinite(L.supmax(P))):
         return
-    big = np.array([BIG])
-    a = float(p.alpha)
-    if not p.kind.uses_c2:  # rejects below c1 only: its cutoff is beyond BIG if all of Y is
-        below = float(L.cdf(big, P)[0])
-        if not below <= a:  # (a NaN leaves the search to report)
-            return
-        what = f"P(Y <= {BIG_TEXT}) = {below:.3g} at theta = {top:g} is not above alpha"
-    else:
-        beyond = float(L.sf(big, P)[0])
-        if not beyond > a / 4:
-            return
-        what = f"P(Y > {BIG_TEXT}) = {beyond:.3g} at theta = {top:g} is above alpha/4"
-    raise DesignError(
-        f"invalid n = {p.n}: the cutoff of {label(p)} would pass {BIG_TEXT}, the largest the "
-        f"solvers search ({what}); use a smaller n or theta", field="n", value=p.n,
-        allowed=f"a design whose cutoffs stay below {BIG_TEXT}")
+    big = np.full(len(ps), BIG)
+    a = np.array([float(p.alpha) for p in ps])
+    lower = not ps[0].kind.uses_c2  # rejects below c1 only: beyond BIG if all of Y is
+    with np.errstate(all="ignore"):
+        tail = L.cdf(big, P) if lower else L.sf(big, P)
+        bad = (tail <= a) if lower else (tail > a / 4)  # (a NaN leaves the search to report)
+    for j in np.flatnonzero(bad):
+        p = ps[j]
+        what = (f"P(Y <= {BIG_TEXT}) = {tail[j]:.3g} at theta = {top[j]:g} is not above alpha"
+                if lower else
+                f"P(Y > {BIG_TEXT}) = {tail[j]:.3g} at theta = {top[j]:g} is above alpha/4")
+        raise DesignError(
+            f"invalid n = {p.n}: the cutoff of {label(p)} would pass {BIG_TEXT}, the largest "
+            f"the solvers search ({what}); use a smaller n or theta", field="n", value=p.n,
+            allowed=f"a design whose cutoffs stay below {BIG_TEXT}")
 
 
 def fast_solve(problems: list) -> list:
     """Run the fast solver over problems (grouped by family and kind); tuples per problem.
 
-    Each problem is first checked to have its cutoffs within reach (``check_reach``)."""
-    for p in problems:
-        check_reach(p)
+    Each group is first checked to have its cutoffs within reach (``check_reach``)."""
     out = [None] * len(problems)
     groups: dict = {}
     for i, p in enumerate(problems):
@@ -120,6 +117,7 @@ def fast_solve(problems: list) -> list:
             for i, p in zip(idx, ps):
                 out[i] = continuous_fast(p)
             continue
+        check_reach(ps)
 
         def col(name):
             vals = [getattr(p, name) for p in ps]
@@ -229,15 +227,16 @@ def beyond_double(p: Problem, cc) -> DesignError:
         what = (f"its gamma's floor there is {cc.floor:.2g} (condition number times roundoff), "
                 f"above the cross-check's ceiling {PHI_CEIL:g}, and the fast gamma differs by "
                 f"{cc.max_phi_diff:.2g}")
+        allowed = f"a design whose gamma double precision resolves to {PHI_CEIL:g}"
     else:
         what = (f"the fast rule's size can only be held to {cc.size_floor:.2g} x alpha there "
                 f"(its gamma's floor times the mass at the cutoffs), above the check's "
                 f"{SIZE_TOL:g} x alpha")
+        allowed = f"a design whose size double precision holds to {SIZE_TOL:g} x alpha"
     return DesignError(
         f"invalid alpha = {p.alpha}: {label(p)} cannot be verified in double precision: "
         f"{what}; use a larger alpha or a smaller spread, or the unverified fast path",
-        field="alpha", value=p.alpha,
-        allowed=f"a design whose gamma double precision resolves to {PHI_CEIL:g}")
+        field="alpha", value=p.alpha, allowed=allowed)
 
 
 def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
