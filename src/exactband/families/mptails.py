@@ -40,6 +40,26 @@ class TailFailure(ArithmeticError):
     """The continued fraction did not converge within MAX_TERMS terms."""
 
 
+def _beta_step(a: Fraction, b: Fraction, x: Fraction):
+    """n -> (N_n, D_n), the partial numerator d_n = N_n / D_n of DLMF 8.17.22 in integers:
+    d_{2m+1} = -(a+m)(a+b+m) x / ((a+2m)(a+2m+1)), d_{2m} = m (b-m) x / ((a+2m-1)(a+2m))."""
+    an, ad = a.numerator, a.denominator
+    bn, bd = b.numerator, b.denominator
+    xn, xd = x.numerator, x.denominator
+    abd = ad * bd
+    abn = an * bd + bn * ad  # a + b = abn / abd
+
+    def step(n):
+        m = n >> 1
+        if n & 1:
+            return (-(an + m * ad) * (abn + m * abd) * xn * ad,
+                    abd * xd * (an + 2 * m * ad) * (an + (2 * m + 1) * ad))
+        return (m * (bn - m * bd) * xn * ad * ad,
+                bd * xd * (an + (2 * m - 1) * ad) * (an + 2 * m * ad))
+
+    return step
+
+
 def beta_cf(a: Fraction, b: Fraction, x: Fraction, prec: int):
     """(value, terms) of 1/(1+ d1/(1+ d2/(1+ ...))) of DLMF 8.17.22 at prec bits.
 
@@ -52,24 +72,14 @@ def beta_cf(a: Fraction, b: Fraction, x: Fraction, prec: int):
     shift).  Stops when two successive convergents agree to 2**-(prec + 8)
     relative, twice in a row.
     """
-    an, ad = a.numerator, a.denominator
-    bn, bd = b.numerator, b.denominator
-    xn, xd = x.numerator, x.denominator
-    abd = ad * bd
-    abn = an * bd + bn * ad  # a + b = abn / abd
+    step = _beta_step(a, b, x)
     top = prec + 96
     tol = prec + 8
     A0, A1 = 0, 1  # A_0, A_1 (a_1 = 1, b_n = 1)
     B0, B1 = 1, 1
     calm = 0
     for n in range(1, MAX_TERMS):
-        m = n >> 1
-        if n & 1:  # d_{2m+1} = -(a+m)(a+b+m) x / ((a+2m)(a+2m+1))
-            N = -(an + m * ad) * (abn + m * abd) * xn * ad
-            D = abd * xd * (an + 2 * m * ad) * (an + (2 * m + 1) * ad)
-        else:  # d_{2m} = m (b-m) x / ((a+2m-1)(a+2m))
-            N = m * (bn - m * bd) * xn * ad * ad
-            D = bd * xd * (an + (2 * m - 1) * ad) * (an + 2 * m * ad)
+        N, D = step(n)
         A0, A1 = D * A1, D * A1 + N * A0
         B0, B1 = D * B1, D * B1 + N * B0
         sh = max(abs(A1).bit_length(), abs(B1).bit_length()) - top
@@ -139,21 +149,7 @@ def beta_cf_blocked(a: Fraction, b: Fraction, x: Fraction, prec: int):
     Poisson-like negative binomial); ``beta_cf`` itself stays as it is for the
     negative binomial with r <= m, whose designs it already computes.
     """
-    an, ad = a.numerator, a.denominator
-    bn, bd = b.numerator, b.denominator
-    xn, xd = x.numerator, x.denominator
-    abd = ad * bd
-    abn = an * bd + bn * ad
-
-    def step(n):
-        m = n >> 1
-        if n & 1:
-            return (-(an + m * ad) * (abn + m * abd) * xn * ad,
-                    abd * xd * (an + 2 * m * ad) * (an + (2 * m + 1) * ad))
-        return (m * (bn - m * bd) * xn * ad * ad,
-                bd * xd * (an + (2 * m - 1) * ad) * (an + 2 * m * ad))
-
-    return _cf(step, prec)
+    return _cf(_beta_step(a, b, x), prec)
 
 
 def gamma_upper_cf(a: int, x: Fraction, prec: int):
