@@ -149,3 +149,37 @@ def test_dcdf_is_the_derivative_of_the_cdf():
         by_sf = -(L.sf(c, up) - L.sf(c, dn)) / (2 * h)  # same derivative, small-tail form
         num = np.where(L.sf(c, P) < 0.5, by_sf, by_cdf)
         np.testing.assert_allclose(L.dcdf(c, P), num, rtol=1e-5, atol=1e-12)
+
+
+def test_binomial_few_count_tail_at_large_n(rng):
+    # The tail of the few smallest counts of the small side at a large n
+    # (P(Y <= c) for p <= 1/2, P(Y > c) for p > 1/2, c or n - c - 1 below 39), where
+    # scipy's betaincc lost ~2.5e-20 n relative (5e-11 at n = 2e9).  Reference: the
+    # masses summed in mpmath at 40 digits from (1 - x)^n, x the small one of p, 1 - p
+    # of the same double p.  Bound: law_eps (2e-14) plus the mass's rounding of log pmf
+    # (8 u max(1, |log pmf|), docs/tolerances.md sections 1 and 7).
+    L = BIN.float_law
+    u = 2.0 ** -53
+    worst = 0.0
+    with mp.workdps(40):
+        for _ in range(150):
+            n = float(np.floor(10 ** rng.uniform(4, 12)))
+            j = int(rng.integers(0, 39))
+            x = (j * 10 ** rng.uniform(-0.3, 1) + 0.1) / n
+            high = bool(rng.integers(0, 2))
+            p = 1.0 - x if high else x
+            X = 1 - mp.mpf(p) if high else mp.mpf(p)
+            term = mp.exp(int(n) * mp.log1p(-X))
+            total = term
+            for k in range(1, j + 1):
+                term = term * (int(n) - k + 1) / k * X / (1 - X)
+                total += term
+            P = L.make(np.array([p]), np.array([n]), None)
+            if high:
+                got = L.sf(np.array([n - j - 1.0]), P)[0]
+            else:
+                got = L.cdf(np.array([float(j)]), P)[0]
+            bound = 2e-14 + 8 * u * max(1.0, abs(float(mp.log(term))))
+            err = float(rel(mp.mpf(float(got)), total))
+            worst = max(worst, err / bound)
+    assert worst <= 1.0, worst

@@ -99,6 +99,16 @@ def test_binomial_band_near_one_is_mirror_of_near_zero():
     assert d.gamma1 == pytest.approx(m.gamma2, abs=1e-12)
 
 
+def test_binomial_narrow_equivalence_near_one_at_huge_n():
+    # source: the whole-range draw (bench/validate_range.py, seed 7): the fast lower tail
+    # (scipy's betaincc at a huge n, few counts) was off by 4e-11 relative, phi by 1.9e-11
+    # against a tolerance of 8.9e-12 (exit 1); sizes re-summed with scipy.stats
+    d = api.design("binomial", "equivalence", n=1600000000, alpha=0.99999999,
+                   low=0.999999965, high=0.999999965000000262)
+    check_verified(d, mirrored=True)
+    assert d.check.max_phi_diff <= 0.01 * d.check.phi_tol
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]
