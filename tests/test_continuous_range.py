@@ -84,6 +84,10 @@ CASES = [  # (family, kind, inputs): each failed on main (exit 1 or 70)
     # rounding (declined as "the float solver failed")
     ("normal", "band", dict(n=31680, alpha=0.9999999999948, low=-19.72, high=134.28,
                             dispersion=4.7)),
+    # a band 5,000 sd wide far from 0 at alpha near 1: c2 ~ 1.1e7 carries its rounding
+    # into c1 (~ -4.6e4) through the side conditions (exit 1 at 1.45e-14 > 64 eps)
+    ("normal", "band", dict(n=200, alpha=0.999567, low=-53250, high=10946750,
+                            dispersion=29990)),
 ]
 
 
@@ -133,3 +137,40 @@ def test_gamma_cutoff_below_doubles_declined():
         with pytest.raises(DesignError, match="smallest normal double"):
             design("gamma", "lower", n=2, alpha=4.5e-49, value=0.0016, dispersion=0.07,
                    verify=verify)
+
+
+def test_partner_rounding_tolerance_still_catches_a_moved_cutoff():
+    # the coupled tolerance (ccheck.coupled: a cutoff carries its partner's rounding, here
+    # 226 x) must not let a cutoff moved by 1e-9 of itself pass; c1 checked against the
+    # closed form low + sd z_alpha (mpmath.erfinv at 40 digits; the far tail at c2 beyond
+    # 5,000 sd is below 1e-1000)
+    from exactband import ccheck
+    from exactband.params import make_problem
+    from exactband.solvers import cfast, cprecise
+
+    p = make_problem("normal", "band", n=200, alpha=0.999567, low=-53250, high=10946750,
+                     dispersion=29990)
+    with mp.workdps(40):
+        sd = mp.mpf(29990) / mp.sqrt(200)
+        exact_c1 = -53250 + sd * mp.sqrt(2) * mp.erfinv(2 * mp.mpf("0.999567") - 1)
+    d = design("normal", "band", verify=True, n=200, alpha=0.999567, low=-53250,
+               high=10946750, dispersion=29990)
+    assert abs(d.c1 - float(exact_c1)) <= 1e-15 * abs(float(exact_c1))
+    law = p.family.continuous_float(p.n, p.dispersion)
+    fast = cfast.solve(law, p.kind, p.alpha, p.low, p.high)
+    tols = ccheck.coupled([ccheck.CUT_TOL] * 2, fast.cut_weights)
+    assert ccheck.CUT_TOL < tols[0] < 1e-12 and tols[1] == ccheck.CUT_TOL
+    moved = cfast.ContinuousSolution(fast.c1 * (1 + 1e-9), fast.c2, fast.sizes,
+                                     fast.conditioning, fast.cut_conditioning,
+                                     fast.cut_weights)
+    pd = cprecise.solve(p.family, p.kind, p.n, p.alpha, low=p.low, high=p.high,
+                        dispersion=p.dispersion, precision=15)
+    floor = float(law.sd(p.points[0]))
+
+    def check(sol):
+        sizes = cprecise.sizes_of(p.family, p.kind, p.n, p.dispersion, sol.c1, sol.c2,
+                                  p.points, 15)
+        return ccheck.compare(sol, pd, sizes, p.alpha, floor, 15)
+
+    assert check(fast).agree
+    assert not check(moved).agree

@@ -18,6 +18,14 @@ same test when their cutoffs coincide.  The comparison:
   small shape, rounded to a few ulps).  So cut_tol_i = max(CUT_TOL, law_error(T_i) / e_i).
   Example: a gamma of shape 0.14 at alpha = 4.5e-40 (e = 0.14, cutoff 1.3e-283): measured
   1.5e-13, allowed 1.3e-12.
+* two cutoffs are solved together, so each carries the other's rounding: a double c_j
+  is off by up to half an ulp (u |c_j|), which moves its size by u w_j (w = f(c) (|c| +
+  floor), the largest over the points), and the side conditions move c_i to balance it
+  by u w_j / w_i relative.  cfast's root stop allows two ulps at each point, so the
+  tolerance of c_i is at least COUPLING u w_j / w_i, COUPLING = 4, at most COUPLE_CAP
+  (1e-9: a cutoff whose partner's rounding moves it by more is a disagreement).
+  Example: a normal band of width 5,000 sd far from 0 at alpha = 0.999567 (c2 ~ 1.1e7,
+  c1 ~ -4.6e4, w2 / w1 = 226): measured 1.45e-14 (65 u), allowed 1.0e-13.
 * sizes: the fast cutoffs evaluated with the precise law at every constraint point
   lie within size_tol of alpha, derived from the cutoff tolerance: moving every
   cutoff by a relative cut_tol moves the size by at most kappa * cut_tol * alpha to
@@ -41,6 +49,8 @@ import mpmath as mp
 from .mpnum import dec
 
 CUT_TOL = 64 * 2.0 ** -52
+COUPLING = 4.0  # ulps of the partner cutoff a cutoff may carry (module text)
+COUPLE_CAP = 1e-9  # largest relative cutoff tolerance the coupling may give
 SIZE_TOL = 1e-9
 KAPPA_MAX = 1e7
 
@@ -87,6 +97,16 @@ def cut_tolerance(elastic) -> float:
     return max(CUT_TOL, law_error(tail) / e)
 
 
+def coupled(tols: list, weights) -> list:
+    """Each cutoff's tolerance raised to the rounding its partner passes it (module text)."""
+    w = list(weights) if weights is not None else [None, None]
+    if len(tols) != 2 or not all(x is not None and x > 0 for x in w):
+        return tols
+    u = 2.0 ** -53
+    return [max(tols[0], min(COUPLE_CAP, COUPLING * u * w[1] / w[0])),
+            max(tols[1], min(COUPLE_CAP, COUPLING * u * w[0] / w[1]))]
+
+
 def representable(kappa: float) -> bool:
     """Whether double-precision cutoffs can hold the size to SIZE_TOL."""
     return kappa <= KAPPA_MAX
@@ -106,7 +126,7 @@ def _compare(fast, precise, fast_sizes, a, floor, precision, between) -> Continu
     worst_cut, worst_tol = 0.0, CUT_TOL
     reason = ""
     kappas = getattr(fast, "cut_conditioning", (None, None))
-    tols = [cut_tolerance(k) for k in kappas]
+    tols = coupled([cut_tolerance(k) for k in kappas], getattr(fast, "cut_weights", None))
     for name, cf, cp, ctol in (("c1", fast.c1, precise.c1, tols[0]),
                                ("c2", fast.c2, precise.c2, tols[1])):
         if (cf is None) != (cp is None):

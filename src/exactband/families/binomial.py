@@ -14,7 +14,6 @@ from . import mptable as mt
 from .base import Family
 from .floatlaw import FloatLaw, as_float, exact_mean_width, x_minus_log1p
 
-
 FEW_SUM = 39  # scipy's betaincc(a, b, x) is off for a <= 39 at a large b: sum these
 FEW_MIN_N = 1e4  # below this n that error (2.5e-20 n) is under the unit roundoff
 BETAINCC_LOSS = 2.5e-20  # its relative error per unit of n there (measured against mpmath)

@@ -56,6 +56,7 @@ class ContinuousSolution:
     sizes: tuple
     conditioning: float  # relative change of the size per relative change of the cutoffs
     cut_conditioning: tuple = (None, None)  # (elasticity, tail) of c1 and of c2
+    cut_weights: tuple = (None, None)  # max over the points of f(c) (|c| + floor), c1 and c2
 
 
 def _f(x) -> float:
@@ -283,6 +284,22 @@ def cut_conditioning(law, c1, c2, points) -> tuple:
     return tuple(out)
 
 
+def cut_weights(law, c1, c2, points) -> tuple:
+    """For c1 and for c2 (None if absent or infinite): the largest over the points of
+    f(c) (|c| + floor), the change of a size per relative change of that cutoff."""
+    out = []
+    for c in (c1, c2):
+        best = None
+        if c is not None and math.isfinite(c):
+            for t in points:
+                floor = _f(law.sd(t)) if law.floor_scale else 0.0
+                with np.errstate(under="ignore", divide="ignore"):
+                    w = math.exp(_f(law.logpdf(c, t))) * (abs(c) + floor)
+                best = w if best is None else max(best, w)
+        out.append(best)
+    return tuple(out)
+
+
 def conditioning(law, c1, c2, alpha, points) -> float:
     """max over the constraint points of sum_i f(c_i) (|c_i| + floor_i) / alpha: the relative
     change of the size per relative change of the cutoffs (floor_i = sd of Y for a
@@ -326,4 +343,5 @@ def solve(law, kind, alpha: float, low=None, high=None, value=None) -> Continuou
         c1 = q_high(law, float_complement(alpha), lo) if alpha > 0.5 else q_low(law, alpha, lo)
     sizes = tuple(_f(expectation(law, kind, c1, c2, t)) for t in points)
     return ContinuousSolution(c1, c2, sizes, conditioning(law, c1, c2, alpha, points),
-                              cut_conditioning(law, c1, c2, points))
+                              cut_conditioning(law, c1, c2, points),
+                              cut_weights(law, c1, c2, points))
