@@ -183,3 +183,30 @@ def test_binomial_few_count_tail_at_large_n(rng):
             err = float(rel(mp.mpf(float(got)), total))
             worst = max(worst, err / bound)
     assert worst <= 1.0, worst
+
+
+@pytest.mark.parametrize("r", [2.0, 7.0, 20.0, 39.0])
+def test_negbinomial_integer_size_tails_at_a_large_mean(r, rng):
+    # An integer size r <= 39 at a large mean: scipy's incomplete beta with a small
+    # integer first parameter lost up to ~2e-8 relative (r = 20, mean 1e9); the tails now
+    # come from the binomial identity P(Y > c) = P(Bin(c + r, q) <= r - 1).  Reference:
+    # mpmath.betainc (regularised incomplete beta I_q(r, c + 1)) at 30 digits.  Bound:
+    # law_eps at sd <= 100 (2e-14) plus the mass's rounding of log pmf (8 u max(1,
+    # |log pmf|), docs/tolerances.md sections 1 and 7), i.e. no growth with the spread.
+    L = NB.float_law
+    u = 2.0 ** -53
+    worst = 0.0
+    with mp.workdps(30):
+        for _ in range(6):
+            m = float(10 ** rng.uniform(5, 10))
+            c = float(stats.nbinom(r, r / (r + m)).ppf(rng.uniform(0.001, 0.999)))
+            R, M = mp.mpf(r), mp.mpf(m)
+            Q = R / (R + M)
+            ref_cdf = mp.betainc(R, c + 1, 0, Q, regularized=True)
+            ref_sf = mp.betainc(R, c + 1, Q, 1, regularized=True)
+            cdf, sf = L._tails(np.array([c]), (np.array([r]), np.array([m])))
+            lf = abs(float(L.logpmf(np.array([c]), (np.array([r]), np.array([m])))[0]))
+            bound = 2e-14 + 8 * u * max(1.0, lf)
+            worst = max(worst, float(rel(mp.mpf(float(cdf[0])), ref_cdf)) / bound,
+                        float(rel(mp.mpf(float(sf[0])), ref_sf)) / bound)
+    assert worst <= 1.0, worst

@@ -109,6 +109,23 @@ def test_binomial_narrow_equivalence_near_one_at_huge_n():
     assert d.check.max_phi_diff <= 0.01 * d.check.phi_tol
 
 
+def test_negbinomial_integer_size_narrow_equivalence():
+    # source: the whole-range draw (bench/validate_range.py, seed 2): size r = 20 at a mean
+    # of 2.1e7, where scipy's incomplete beta lost ~2e-11 relative; phi differed by
+    # 1.08e-6 (tolerance 1e-6, exit 1).  Sizes re-summed with scipy.stats.nbinom
+    # (cdf, pmf) to 1e-9 relative; the fast rule now within 1% of the tolerance
+    d = api.design("negative-binomial", "equivalence", n=20, alpha=0.6411, low=1.05e6,
+                   high=1050000.07, dispersion=1)
+    assert d.verified and 0 <= d.gamma1 < 1 and 0 <= d.gamma2 < 1
+    for theta in (1.05e6, 1050000.07):
+        m = 20 * theta
+        law = stats.nbinom(20, 20 / (20 + m))
+        size = (law.cdf(d.c2 - 1) - law.cdf(d.c1) + d.gamma1 * law.pmf(d.c1)
+                + d.gamma2 * law.pmf(d.c2))
+        assert abs(size - 0.6411) <= 1e-9 * 0.6411
+    assert d.check.max_phi_diff <= 0.01 * d.check.phi_tol
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]

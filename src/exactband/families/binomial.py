@@ -12,30 +12,11 @@ from ..mpnum import dec, dec_complement, frac
 from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import FloatLaw, as_float, exact_mean_width, x_minus_log1p
+from .floatlaw import FloatLaw, as_float, binomial_head, exact_mean_width, x_minus_log1p
 
 FEW_SUM = 39  # scipy's betaincc(a, b, x) is off for a <= 39 at a large b: sum these
 FEW_MIN_N = 1e4  # below this n that error (2.5e-20 n) is under the unit roundoff
 BETAINCC_LOSS = 2.5e-20  # its relative error per unit of n there (measured against mpmath)
-
-
-def _few_sum(j, n, x, y, log_mass):
-    """P(X <= j) for X ~ Binomial(n, x), y = 1 - x, 0 <= j < FEW_SUM (arrays of one shape),
-    log_mass = log pmf(j).
-
-    pmf(j) times 1 + r_j (1 + r_(j-1) (1 + ... (1 + r_1))), r_k = pmf(k-1)/pmf(k)
-    = k y / ((n - k + 1) x), evaluated from the inside out: all terms are positive,
-    so each level adds at most ~4 units of roundoff (<= 4 j u relative, 2e-14 at
-    j = 47, on top of the mass's own error).
-    """
-    w = y / x
-    acc = np.ones_like(x)
-    top = int(np.max(j, initial=0.0))
-    for k in range(1, top + 1):
-        on = k <= j
-        r = (k / (n - k + 1.0)) * w
-        acc = np.where(on, 1.0 + r * acc, acc)
-    return np.exp(log_mass) * acc
 
 
 def _few_better(j, n, log_mass):
@@ -82,7 +63,7 @@ class BinomialLaw(FloatLaw):
         """(cdf, sf) at integer c, 0 <= c < n, using the small one of p, q as x.
 
         The tail of the few smallest counts of the small side (P(Y <= c) for p <= 1/2,
-        P(Y > c) above) at a large n is a sum of masses (``_few_sum``): scipy's
+        P(Y > c) above) at a large n is a sum of masses (``floatlaw.binomial_head``): scipy's
         complemented incomplete beta betaincc(a, b, x) with a <= 39 and a huge b
         loses about 2.5e-20 b relative (5e-11 at n = 2.1e9; docs/tolerances.md
         section 1), the sum a few units of roundoff per term.
@@ -98,7 +79,7 @@ class BinomialLaw(FloatLaw):
             n, p, q, j, lowp = np.broadcast_arrays(n, p, q, j, lowp)
             x, y = np.where(lowp, p, q)[few], np.where(lowp, q, p)[few]
             lm = _saddle.log_binom_raw(j[few], n[few], x, y)
-            small = _few_sum(j[few], n[few], x, y, lm)
+            small = binomial_head(j[few], n[few], x, y, lm)
             use = _few_better(j[few], n[few], lm)
             cdf, sf = cdf.copy(), sf.copy()
             cdf[few] = np.where(lowp[few] & use, small, cdf[few])

@@ -127,3 +127,49 @@ def exact_mean_width(n, lo, hi):
         rest.append(float(x - w))
         width.append(float(N * (frac(b) - A)))
     return np.array(whole), np.array(rest), np.array(width)
+
+
+def binomial_head(j, n, x, y, log_mass):
+    """P(X <= j) for X ~ Binomial(n, x), y = 1 - x, j a small count (arrays of one shape),
+    log_mass = log pmf(j).
+
+    pmf(j) times 1 + r_j (1 + r_(j-1) (1 + ... (1 + r_1))), r_k = pmf(k-1)/pmf(k)
+    = k y / ((n - k + 1) x), evaluated from the inside out: all terms are positive,
+    so each level adds at most ~4 units of roundoff (<= 4 j u relative on top of the
+    mass's own error).  Used where scipy's incomplete beta with a small integer first
+    parameter and a huge second one loses digits (binomial.py, negbinomial.py).
+    """
+    w = y / x
+    acc = np.ones_like(x)
+    top = int(np.max(j, initial=0.0))
+    for k in range(1, top + 1):
+        on = k <= j
+        r = (k / (n - k + 1.0)) * w
+        acc = np.where(on, 1.0 + r * acc, acc)
+    return np.exp(log_mass) * acc
+
+
+HEAD_MAX_TERMS = 2000  # binomial_rest: the most terms summed (a mean below j + 1)
+
+
+def binomial_rest(j, n, x, y, log_mass):
+    """P(X >= j) for X ~ Binomial(n, x), y = 1 - x, where n x < j + 1 (the terms past j
+    fall: pmf(k+1)/pmf(k) = (n - k) x / ((k + 1) y) < 1); log_mass = log pmf(j).
+
+    Summed upward until a term is below 2^-60 of the sum, at most HEAD_MAX_TERMS
+    terms; each term carries ~3 units of roundoff per step from j (the terms that
+    matter are within a few sqrt(j) of j).  Returns NaN where the sum did not
+    settle (the caller keeps its other value there).
+    """
+    w = x / y
+    acc = np.ones_like(x)
+    term = np.ones_like(x)
+    settled = np.zeros(x.shape, dtype=bool)
+    for i in range(HEAD_MAX_TERMS):
+        k = j + i
+        term = term * (np.maximum(n - k, 0.0) / (k + 1.0)) * w
+        acc = np.where(settled, acc, acc + term)
+        settled |= term <= acc * 2.0 ** -60
+        if np.all(settled):
+            break
+    return np.where(settled, np.exp(log_mass) * acc, np.nan)
