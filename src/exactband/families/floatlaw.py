@@ -142,10 +142,11 @@ def binomial_head(j, n, x, y, log_mass):
     w = y / x
     acc = np.ones_like(x)
     top = int(np.max(j, initial=0.0))
-    for k in range(1, top + 1):
-        on = k <= j
-        r = (k / (n - k + 1.0)) * w
-        acc = np.where(on, 1.0 + r * acc, acc)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        for k in range(1, top + 1):
+            on = k <= j  # rows past their own j (where n - k + 1 may be 0) keep acc
+            r = (k / (n - k + 1.0)) * w
+            acc = np.where(on, 1.0 + r * acc, acc)
     return np.exp(log_mass) * acc
 
 
@@ -165,11 +166,12 @@ def binomial_rest(j, n, x, y, log_mass):
     acc = np.ones_like(x)
     term = np.ones_like(x)
     settled = np.zeros(x.shape, dtype=bool)
-    for i in range(HEAD_MAX_TERMS):
-        k = j + i
-        term = term * (np.maximum(n - k, 0.0) / (k + 1.0)) * w
-        acc = np.where(settled, acc, acc + term)
-        settled |= term <= acc * 2.0 ** -60
-        if np.all(settled):
-            break
-    return np.where(settled, np.exp(log_mass) * acc, np.nan)
+    with np.errstate(over="ignore", invalid="ignore"):
+        for i in range(HEAD_MAX_TERMS):
+            k = j + i
+            term = term * (np.maximum(n - k, 0.0) / (k + 1.0)) * w
+            acc = np.where(settled, acc, acc + term)
+            settled |= term <= acc * 2.0 ** -60
+            if np.all(settled):
+                break
+        return np.where(settled, np.exp(log_mass) * acc, np.nan)

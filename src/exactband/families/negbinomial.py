@@ -118,12 +118,15 @@ def _whole_size_tails(cdf, sf, r, m, c, rows):
     q, qc = rs / (rs + ms), ms / (rs + ms)
     lh = _saddle.log_binom_raw(rs - 1.0, n_, q, qc)
     head = binomial_head(rs - 1.0, n_, q, qc, lh)
-    rest = binomial_rest(rs, n_, q, qc, _saddle.log_binom_raw(rs, n_, q, qc))
-    left = np.where(head >= 0.5, rest, 1.0 - head)
     # the sums where they are the more accurate: scipy's loss (~1e-18 c, measured against
     # mpmath.betainc for r = 2..39, means 10 to 1e9) above the sums' u (2 max(1, |log
     # pmf|) + 4 r); deep in a tail at a moderate c, scipy's value is the better one
     use = WHOLE_LOSS * cs > 2.0 ** -53 * (2.0 * np.maximum(1.0, np.abs(lh)) + 4.0 * rs)
+    left = 1.0 - head
+    up = use & (head >= 0.5)  # P(Y <= c) the smaller tail: summed upward
+    if np.any(up):
+        left[up] = binomial_rest(rs[up], n_[up], q[up], qc[up],
+                                 _saddle.log_binom_raw(rs[up], n_[up], q[up], qc[up]))
     sf.ravel()[j] = np.where(use, head, sf.ravel()[j])
     cdf.ravel()[j] = np.where(use & np.isfinite(left), left, cdf.ravel()[j])
     return cdf, sf
