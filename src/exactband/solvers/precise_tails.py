@@ -366,22 +366,28 @@ def predicted_terms(hint: CostHint, mean: float, sd: float, prec: int,
 
     z is how near (in sd) to the law's mean its cutoffs may come: the alpha
     quantile for one-sided designs, the min(alpha, 1/2) quantile for two-tailed
-    ones (min(alpha, 1 - alpha) for equivalence), and for equivalence the
-    smaller of that and the rest of the distance to the other end's mean (a
-    narrow equivalence window sits at the centre).
+    ones, and for equivalence the smaller of that and the rest of the distance
+    to the other end's mean (a narrow equivalence window sits at the centre).
+    A band or equivalence design of size alpha > 1/2 is predicted as its
+    complement: the other kind at size 1 - alpha.
     Times the evaluations a design takes (10 one-sided, 30 two-tailed;
     measured 6-9 and 13-29) times ``mptails.cf_terms_estimate``, whose centre
     cost is set by ``cf_sd`` (the law's ``cf_sd``: 50 r^(1/3) for a negative
     binomial whose spread comes from its dispersion; sd by default).
     """
     a = min(max(hint.alpha, 1e-300), 1.0 - 1e-16)
-    if hint.kind in ("upper", "lower"):
+    kind = hint.kind
+    if kind in ("band", "equivalence") and a > 0.5:
+        # size a > 1/2 is the complement of the other kind's design of size 1 - a: an
+        # equivalence window holding almost all the mass has its cutoffs the 1 - a
+        # quantile out; a band's acceptance window of mass 1 - a sits at the centre of a
+        # narrow band, the 1 - a quantile inside each end of a wide one
+        kind, a = ("equivalence" if kind == "band" else "band"), 1.0 - a
+    if kind in ("upper", "lower"):
         z = abs(NormalDist().inv_cdf(a))
     else:
-        # an equivalence design of size a > 1/2 is the band of size 1 - a: its
-        # cutoffs lie the 1 - a quantile out, not at the centre
-        z = -NormalDist().inv_cdf(min(a, 1.0 - a) if hint.kind == "equivalence" else min(a, 0.5))
-        if hint.kind == "equivalence" and hint.other_mean is not None:
+        z = -NormalDist().inv_cdf(min(a, 0.5))
+        if kind == "equivalence" and hint.other_mean is not None:
             z = max(0.0, min(z, abs(hint.other_mean - mean) / sd - z))
     evals = _EVALS.get(hint.kind, 30)
     # the fractions run at the working precision + GUARD_BITS + 10 (mptails.tails)
