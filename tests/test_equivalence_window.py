@@ -190,6 +190,32 @@ def test_former_no_convergence_beyond_the_tables_verifies():
     assert d.verified and d.check.agree and (d.c1, d.c2) == (fast_d.c1, fast_d.c2)
 
 
+def test_long_window_at_a_large_mean_converges_in_the_window_search():
+    """A narrow equivalence band at a negative-binomial mean of 8.7e11 (size 24.6):
+    the window search's difference quotient over its 51,309 points was two nearly
+    equal slopes (gammas of +-100 on the right cutoffs), it ran its 200 rounds without
+    converging (5 s) and the complement search then found the design.  With the
+    log-ratio line's form (lineform) the window search itself converges; the design is
+    the one the precise solver gives (same cutoffs, phi within the cross-check)."""
+    from exactband.params import make_problem
+    from exactband.solvers import window
+    from exactband.solvers.conditions import Difference
+    from exactband.solvers.lineform import Line
+
+    kw = dict(n=30, low=2.9e10, high=29000190000.0, alpha=1.163e-7, dispersion=0.82)
+    p = make_problem("negative-binomial", "equivalence", **kw)
+    fam, L = p.family, p.family.float_law
+    n, k = np.array([30.0]), np.array([0.82])
+    lo, hi, a = np.array([kw["low"]]), np.array([kw["high"]]), np.array([kw["alpha"]])
+    Pl, Ph = L.make(lo, n, k), L.make(hi, n, k)
+    diff = Difference(L, Pl, Ph, np.asarray(fam.natural_delta(lo, hi, n, k), float),
+                      Line(fam, lo, hi, n, k))
+    c1, g1, c2, g2 = window.equivalence(L, Pl, Ph, diff, a, window.initial(L, Pl, Ph, a))
+    d = api.design("negative-binomial", "equivalence", verify=True, **kw)
+    assert (c1[0], c2[0]) == (d.c1, d.c2)
+    assert abs(g1[0] - d.gamma1) < 1e-6 and abs(g2[0] - d.gamma2) < 1e-6
+
+
 def _draw(rng, family, count):
     """Seeded wide- and narrow-window equivalence problems at alpha 1e-12..1e-6."""
     rows = []

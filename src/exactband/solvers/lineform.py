@@ -189,14 +189,16 @@ def _window(L, P, sl, x1, c1, c2, j, summed, inner=False):
     return mass, r2
 
 
-def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_):
+def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_, g=None):
     """Gammas of equivalence designs (reject inside c1..c2) of rows ``short | long_``.
 
     The same two conditions written for phi itself (sum f_low phi = alpha and
     sum f_low u phi = 0), with the inner terms summed apart from the cutoffs:
     h1 f1 + h2 f2 = alpha - mid, u1 f1 h1 + u2 f2 h2 = -R_mid, so a gamma of size
     ~alpha / f keeps its relative digits (1 - the complement's gamma would keep only
-    absolute ones).  Returns the rows and both gammas.
+    absolute ones).  Returns the rows and both gammas; with ``g`` = (g1, g2), the
+    current gammas of all rows, also the second condition's residual at them times
+    s_ (E_high phi - E_low phi, as ``line_system``'s).
     """
     j = np.nonzero(short | long_)[0]
     sl, y0, d = line.at(j)
@@ -214,6 +216,9 @@ def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_):
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         h1 = (r1 * u2 + rmid) / (f1 * (u2 - u1))
         h2 = (-rmid - u1 * r1) / (f2 * (u2 - u1))
+        if g is not None:
+            q = (u1 * f1 * g[0][j] + u2 * f2 * g[1][j] + rmid) * sl
+            return j, h1, h2, q
     return j, h1, h2
 
 

@@ -34,6 +34,7 @@ import numpy as np
 from scipy.special import ndtr, ndtri
 
 from .conditions import GL_MAX_SPREAD
+from .lineform import equivalence_gammas, line_rows
 from .search import BIG, first_true, sub
 from .twotailed import GAMMA_TOL, WINDOW_SUM, SolverFailure, store_done
 
@@ -105,8 +106,16 @@ def interior(L, diff, c1, c2):
     return mid, dmid
 
 
-def _piece(L, diff, alpha, c1, c2):
-    """Gammas solving the window system on cutoffs c1 < c2, and the pieces' terms."""
+def _piece(L, diff, alpha, c1, c2, g=None):
+    """Gammas solving the window system on cutoffs c1 < c2, and the pieces' terms.
+
+    A window at a large mean over which the log ratio changes little (``line_rows``)
+    takes the log-ratio line's form (``lineform.equivalence_gammas``): there the
+    interior's difference quotient is a difference of two nearly equal tails' slopes
+    (gammas of +-100 on the right cutoffs of a negative binomial of mean 8.7e11, and
+    no convergence).  With ``g`` (current gammas), also the second condition's
+    residual of those rows, divided by dt as the search's Q (NaN elsewhere).
+    """
     Pl = diff.Pl
     f1, f2 = L.pmf(c1, Pl), L.pmf(c2, Pl)
     d1, d2 = diff.dpmf(c1, f1), diff.dpmf(c2, f2)
@@ -116,7 +125,18 @@ def _piece(L, diff, alpha, c1, c2):
         det = f1 * d2 - f2 * d1
         h1 = (r1 * d2 - f2 * r2) / det
         h2 = (f1 * r2 - d1 * r1) / det
-    return h1, h2, f1, d1, d2, dmid
+    q_line = np.full(c1.shape, np.nan)
+    short, long_ = line_rows(diff, L, Pl, c1, c2, alpha < 0.5, WINDOW_SUM)
+    if np.any(short | long_):
+        res = equivalence_gammas(L, Pl, diff.line, c1, c2, alpha, short, long_,
+                                 g=None if g is None else (np.broadcast_to(g[0], c1.shape),
+                                                           np.broadcast_to(g[1], c1.shape)))
+        h1, h2 = h1.copy(), h2.copy()
+        h1[res[0]], h2[res[0]] = res[1], res[2]
+        if g is not None:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                q_line[res[0]] = res[3] / diff.dt[res[0]]
+    return h1, h2, f1, d1, d2, dmid, q_line
 
 
 def _in_range(h1, h2):
@@ -179,7 +199,7 @@ def equivalence(L, Pl, Ph, diff, alpha, A0):
         # a window inside one point (c2 == c1): try the pieces on both sides of it
         meet = c2 <= c1
         p2 = np.where(meet, c1 + 1.0, c2)
-        h1, h2, pf1, d1, d2, dmid = _piece(L, diff, a_, c1, p2)
+        h1, h2, pf1, d1, d2, dmid, q_line = _piece(L, diff, a_, c1, p2, (g1, g2))
         done = _in_range(h1, h2) & (p2 <= top)
         c1o, c2o = c1.copy(), p2.copy()
         alt = meet & ~done & (c1 >= 1.0)
@@ -198,6 +218,7 @@ def equivalence(L, Pl, Ph, diff, alpha, A0):
             break
         # residual of the state: (E_high phi - E_low phi) / dt, E_high phi = alpha
         Q = np.where(meet, (g1 + g2 - 1.0) * d1, g1 * d1 + g2 * d2 + dmid)
+        Q = np.where(~meet & np.isfinite(q_line), q_line, Q)
         up = Q > 0  # the root lies at a larger A
         alo = np.where(up, A, st["alo"])
         ahi = np.where(up, st["ahi"], A)
