@@ -125,3 +125,26 @@ def test_tail_table_agrees_with_the_full_table():
             t = mp.mpf(t)
             assert tails.first_cdf_above(t) == full.first_cdf_above(t)
             assert tails.first_sf_at_most(t) == full.first_sf_at_most(t)
+
+
+def test_cost_of_a_design_above_one_half_is_its_complements():
+    # a band of size a > 1/2 accepts a window of mass 1 - a: on a band 190 sd wide that
+    # window runs from the 1 - a quantile inside one end to the same inside the other,
+    # so the cutoffs lie ~4.4 sd from each mean (not at the centre, as predicted before:
+    # the law was tabulated, 2.5 s); an equivalence window of mass a > 1/2 ends the
+    # 1 - a quantile out whatever the other end's mean (a narrow band near alpha 1 was
+    # predicted at the centre: 4 s).  Normal quantiles: statistics.NormalDist (stdlib).
+    from statistics import NormalDist
+
+    mean, sd = 1.98e9, 3.0e4
+    z = -NormalDist().inv_cdf(1 - 0.99999349)
+    _, zb = precise_tails.predicted_terms(
+        precise_tails.CostHint("band", 0.99999349, mean + 190 * sd), mean, sd, 200)
+    assert zb == pytest.approx(z, rel=1e-9)
+    _, zn = precise_tails.predicted_terms(  # a narrow band: the window at the centre
+        precise_tails.CostHint("band", 0.99999349, mean + 0.5 * sd), mean, sd, 200)
+    assert zn == 0.0
+    ze = -NormalDist().inv_cdf(1 - 0.99999999989)
+    _, zq = precise_tails.predicted_terms(
+        precise_tails.CostHint("equivalence", 0.99999999989, mean + 1.7), mean, sd, 200)
+    assert zq == pytest.approx(ze, rel=1e-9)
