@@ -126,6 +126,19 @@ def test_negbinomial_integer_size_narrow_equivalence():
     assert d.check.max_phi_diff <= 0.01 * d.check.phi_tol
 
 
+def test_point_accepting_one_point_at_an_integer_mean():
+    # source: the whole-range draw (bench/validate_range.py, seed 4): the acceptance mass
+    # 2.7e-11 is far below one point's mass at the integer mean 2.28e8, so the design
+    # accepts at the mean alone; the precise search's tie there, a rounded difference
+    # of moments, fell on the wrong side (PreciseFailure "gamma 1.0 outside [0, 1]", exit
+    # 70).  Sizes re-summed with scipy.stats.poisson; the pmf of a Poisson at its integer
+    # mean mu equals that at mu - 1 (common practice), so accepting at mu alone is the
+    # symmetric choice E[(Y - mu)(1 - phi)] = 0
+    d = api.design("poisson", "point", n=2000000, value=114, alpha=0.99999999997342)
+    check_verified(d)
+    assert d.c1 == d.c2 == 228000000 and d.gamma2 == 0.0
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]

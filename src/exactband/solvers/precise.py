@@ -215,6 +215,8 @@ def _two_tailed(Tl, Tr, cond, s, tol):
 
     def q_left(j):  # second condition at the breakpoint "left tail = {Y < j}"
         k, g2 = right_for(j, _ZERO)
+        if k == j:  # the test accepts at j only: the closed form (``flat``), whose tie
+            return cond.flat(j, g2)  # at an integer mean is exact, not a rounded difference
         return cond.residual(j, _ZERO, k, g2)
 
     j_top = Tl.first_cdf_above(s)  # largest j with P(Y < j) <= s at the first point
