@@ -139,6 +139,29 @@ def test_point_accepting_one_point_at_an_integer_mean():
     assert d.c1 == d.c2 == 228000000 and d.gamma2 == 0.0
 
 
+def test_point_long_acceptance_window_at_a_huge_mean():
+    # source: the whole-range draw (bench/validate_range.py, seed 3): alpha near 1 at a
+    # negative-binomial mean of 8.8e11 accepts a window of 5,235 points; the fast
+    # search took its derivative condition from two tails' derivatives that cancel, and
+    # put the window 56 points off the mean (phi difference 1, exit 1).  It now takes
+    # the point's line (sum f (y - mean) phi = 0, lineform.PointLine).  The acceptance
+    # mass 1 - size re-summed with scipy.stats.nbinom.pmf over the window, against
+    # 1 - alpha to 1e-6 relative (scipy's own accuracy there), and the window centred
+    # on the mean (symmetric: the masses change by 3e-9 relative across it)
+    kw = dict(n=11, alpha=0.9999998029, value=8e10, dispersion=627.2)
+    sol = api.fast_solve([make_problem("negative-binomial", "point", **kw)])[0]
+    d = api.design("negative-binomial", "point", **kw)
+    assert (sol[0], sol[2]) == (d.c1, d.c2)
+    assert d.c1 + d.c2 == 2 * 880000000000
+    r = 11 * 627.2
+    law = stats.nbinom(r, r / (r + 8.8e11))
+    ys = np.arange(d.c1, d.c2 + 1)
+    keep = np.ones(ys.size)
+    keep[0], keep[-1] = 1 - d.gamma1, 1 - d.gamma2
+    rest = float(np.sum(keep * law.pmf(ys)))
+    assert abs(rest - float_complement(0.9999998029)) <= 1e-6 * float_complement(0.9999998029)
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]

@@ -22,13 +22,23 @@ GL_MAX_SPREAD = 4.0  # quadrature used while |d log(-dF/dt)/dt| * dt <= this
 
 
 class Derivative:
-    """d/dt E_t phi = 0 at one point (point design)."""
+    """d/dt E_t phi = 0 at one point (point design).
 
-    def __init__(self, L, P):
-        self.L, self.P = L, P
+    ``line``: the point's line (``lineform.PointLine``: slope 0 at the mean) or None."""
+
+    def __init__(self, L, P, line=None):
+        self.L, self.P, self.line = L, P, line
 
     def subset(self, j):
-        return Derivative(self.L, sub(self.P, j))
+        return Derivative(self.L, sub(self.P, j),
+                          None if self.line is None else self.line.subset(j))
+
+    def line_scale(self, j):
+        """The line form's residual sum f (y - mean) phi times this is this condition's
+        (d log f / dt is linear in y: this is its change per unit of y)."""
+        Pj = sub(self.P, j)
+        m = self.L.moments(Pj)[0]
+        return self.L.dlogpmf(m + 1.0, Pj) - self.L.dlogpmf(m, Pj)
 
     def dpmf(self, c, f):
         return f * self.L.dlogpmf(c, self.P)
@@ -49,6 +59,11 @@ class Difference:
     def subset(self, j):
         line = None if self.line is None else self.line.subset(j)
         return Difference(self.L, sub(self.Pl, j), sub(self.Ph, j), self.dt[j], line)
+
+    def line_scale(self, j):
+        """The line form's residual sum f_low u phi times this is this condition's
+        (f_high - f_low = f_low s_ u)."""
+        return self.line.at(j)[0] / self.dt[j]
 
     def dpmf(self, c, f):
         lr = self.L.logratio(c, self.Pl, self.dt)

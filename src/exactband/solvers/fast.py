@@ -23,7 +23,7 @@ from ..mpnum import float_complements
 from . import window
 from .canonical import canonical_band, equivalence_from_band, refine_equivalence
 from .conditions import Derivative, Difference
-from .lineform import Line
+from .lineform import Line, PointLine
 from .search import lower as _lower
 from .search import sub
 from .search import upper as _upper
@@ -105,7 +105,11 @@ def _solve(family, kind: str, n, alpha, low=None, high=None, value=None, dispers
     if kind == "point":
         P = L.make(np.asarray(value, float), n, k)
         a0 = initial_split(L, P, None, alpha)
-        res = two_tailed(L, P, P, Derivative(L, P), alpha, a0, b=ac)
+        # a long acceptance window at a large mean (alpha > 1/2) takes the point's line
+        # (lineform.PointLine): its derivative condition is sum f (y - mean) phi = 0
+        own = type(family).log_ratio_line is not Family.log_ratio_line
+        pline = PointLine(n, np.asarray(value, float)) if own else None
+        res = two_tailed(L, P, P, Derivative(L, P, pline), alpha, a0, b=ac)
         return canonical_band(*res)
     if kind == "band" and np.any(big):
         # a band of size alpha near 1 is 1 - (equivalence design of size 1 - alpha):

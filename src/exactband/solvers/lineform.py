@@ -78,6 +78,37 @@ class Line:
         return self.cols[0, j], self.cols[1, j], self.cols[2, j]
 
 
+def _u(sl, x):
+    """u = expm1(s_ x) / s_, and its limit x where s_ = 0 (the point design's line)."""
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        return np.where(sl > 0, np.expm1(sl * x) / np.where(sl > 0, sl, 1.0), x)
+
+
+class PointLine:
+    """The point design's line: slope 0 and y* the mean n theta from the decimals, so
+    that u(y) = y - mean and sum f u phi = 0 is its derivative condition (the band's
+    line as the band closes).  ``long_only``: its short windows keep the summed form."""
+
+    long_only = True
+
+    def __init__(self, n, value, cols=None):
+        self.n, self.value = n, value
+        self.cols = cols if cols is not None else np.full((2, np.shape(n)[0]), np.nan)
+
+    def subset(self, j):
+        return PointLine(self.n[j], self.value[j], self.cols[:, j])
+
+    def at(self, j):
+        """(0, y0, d) for rows j, the mean n theta = y0 + d (``exact_mean_width``)."""
+        from ..families.floatlaw import exact_mean_width
+
+        todo = j[np.isnan(self.cols[0, j])]
+        if todo.size:
+            whole, rest, _ = exact_mean_width(self.n[todo], self.value[todo], self.value[todo])
+            self.cols[0, todo], self.cols[1, todo] = whole, rest
+        return np.zeros(np.size(j)), self.cols[0, j], self.cols[1, j]
+
+
 def _slope(L, y, P):
     """d log f / dy at the half-integer y + 1/2, as log f(y + 1) - log f(y)."""
     return L.logpmf(y + 1.0, P) - L.logpmf(y, P)
@@ -102,6 +133,8 @@ def line_rows(second, L, P, c1, c2, big, window_sum):
         on[j] = sl * (c2[j] - c1[j] + 1.0) <= LINE_SPAN
     short = on & (c2 - c1 <= window_sum)
     long_ = on & ~short
+    if getattr(second.line, "long_only", False):
+        short = np.zeros_like(short)
     if np.any(long_):
         j = np.nonzero(long_)[0]
         Pj = sub(P, j)
@@ -121,7 +154,7 @@ def _summed(L, P, sl, x1, c1, c2, j, inner=False):
     start = np.cumsum(width) - width
     off = (np.arange(row.size) - start[row]).astype(float) + skip  # y - c1
     fy = L.pmf(a[row] + off, sub(P, j[row]))
-    u = np.expm1(sl[row] * (off - x1[row])) / sl[row]
+    u = _u(sl[row], off - x1[row])
     mass = np.bincount(row, weights=fy, minlength=j.size)
     r2 = np.bincount(row, weights=fy * u, minlength=j.size)
     return mass, r2
@@ -141,14 +174,14 @@ def _integrated(L, P, sl, x1, c1, c2, j):
     h = (W + 1.0) / K  # panel length on [-1/2, W + 1/2]
     x = -0.5 + (panel + _NODES[node]) * h[row]
     fx = L.pmf(a[row] + x, sub(Pj, row))
-    ux = np.expm1(sl[row] * (x - x1[row])) / sl[row]
+    ux = _u(sl[row], x - x1[row])
     wt = _WEIGHTS[node] * h[row]
     mass = np.bincount(row, weights=wt * fx, minlength=j.size)
     r2 = np.bincount(row, weights=wt * fx * ux, minlength=j.size)
     # h'(x) = f (l' u + u'), l' = d log f / dy, u' = exp(s_ (x - x1)), at both ends
     fa, fb = L.pmf(a - 0.5, Pj), L.pmf(c2[j] + 0.5, Pj)
     xa, xb = -0.5 - x1, W + 0.5 - x1
-    ua, ub = np.expm1(sl * xa) / sl, np.expm1(sl * xb) / sl
+    ua, ub = _u(sl, xa), _u(sl, xb)
     mass -= (fb * hi_s - fa * lo_s) / 24.0
     r2 -= (fb * (hi_s * ub + np.exp(sl * xb)) - fa * (lo_s * ua + np.exp(sl * xa))) / 24.0
     return mass, r2
@@ -158,21 +191,23 @@ def line_system(L, P, line, c1, c2, b, f1, f2, g1, g2, short, long_):
     """Gammas of the windows of rows ``short | long_`` from the line form (module doc).
 
     Returns the rows, both gammas, and the second condition's residual at the current
-    gammas (g1, g2) times s_: the ``conditions.Difference`` residual times dt, the same
-    sign (f_high - f_low = f_low s_ u), so that the search's bracket keeps one scale.
+    gammas (g1, g2), sum f u phi; the caller scales it to its own condition
+    (``line_scale``: s_ / dt for a band, as f_high - f_low = f_low s_ u; for a point
+    the change of d log f / dt per unit of y), the same sign, so that the search's
+    bracket keeps one scale.
     """
     j = np.nonzero(short | long_)[0]
     sl, y0, d = line.at(j)
     x1 = (y0 - c1[j]) + d  # y* - c1: an exact whole-number difference plus the rest
     mass, r2 = _window(L, P, sl, x1, c1, c2, j, short[j])
-    u1 = np.expm1(-sl * x1) / sl
-    u2 = np.expm1(sl * ((c2[j] - c1[j]) - x1)) / sl
+    u1 = _u(sl, -x1)
+    u2 = _u(sl, (c2[j] - c1[j]) - x1)
     r1 = mass - b[j]
     F1, F2 = f1[j], f2[j]
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         h1 = (r1 * u2 - r2) / (F1 * (u2 - u1))
         h2 = (r2 - u1 * r1) / (F2 * (u2 - u1))
-        q = (u1 * F1 * g1[j] + u2 * F2 * g2[j] - r2) * sl
+        q = u1 * F1 * g1[j] + u2 * F2 * g2[j] - r2
     return j, h1, h2, q
 
 
@@ -197,14 +232,14 @@ def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_, g=None):
     h1 f1 + h2 f2 = alpha - mid, u1 f1 h1 + u2 f2 h2 = -R_mid, so a gamma of size
     ~alpha / f keeps its relative digits (1 - the complement's gamma would keep only
     absolute ones).  Returns the rows and both gammas; with ``g`` = (g1, g2), the
-    current gammas of all rows, also the second condition's residual at them times
-    s_ (E_high phi - E_low phi, as ``line_system``'s).
+    current gammas of all rows, also the second condition's residual at them (as
+    ``line_system``'s, unscaled).
     """
     j = np.nonzero(short | long_)[0]
     sl, y0, d = line.at(j)
     x1 = (y0 - c1[j]) + d
-    u1 = np.expm1(-sl * x1) / sl
-    u2 = np.expm1(sl * ((c2[j] - c1[j]) - x1)) / sl
+    u1 = _u(sl, -x1)
+    u2 = _u(sl, (c2[j] - c1[j]) - x1)
     f1, f2 = L.pmf(c1[j], sub(P, j)), L.pmf(c2[j], sub(P, j))
     s_rows = short[j]
     mid, rmid = _window(L, P, sl, x1, c1, c2, j, s_rows, inner=True)
@@ -217,7 +252,7 @@ def equivalence_gammas(L, P, line, c1, c2, alpha, short, long_, g=None):
         h1 = (r1 * u2 + rmid) / (f1 * (u2 - u1))
         h2 = (-rmid - u1 * r1) / (f2 * (u2 - u1))
         if g is not None:
-            q = (u1 * f1 * g[0][j] + u2 * f2 * g[1][j] + rmid) * sl
+            q = u1 * f1 * g[0][j] + u2 * f2 * g[1][j] + rmid
             return j, h1, h2, q
     return j, h1, h2
 
@@ -232,7 +267,7 @@ def _from_left(L, P, line, b, c, span):
     off = (np.arange(row.size) - start[row]).astype(float)  # y - c
     y = c[row] + off
     fy = L.pmf(y, sub(P, row))
-    uy = np.expm1(sl[row] * ((y - y0[row]) - d[row])) / sl[row]
+    uy = _u(sl[row], (y - y0[row]) - d[row])
     cum = np.cumsum(fy)
     base = np.concatenate(([0.0], cum))[start]
     within = cum - base[row]  # mass from c to y inclusive

@@ -160,7 +160,7 @@ def two_tailed(L, Pl, Pr, second, s, a0, b=None):
             Q = g1 * d1 + g2 * d2 - R2
         if lines is not None:
             j, h1, h2, q = lines
-            g1n[j], g2n[j], Q[j] = h1, h2, q / second.dt[j]
+            g1n[j], g2n[j], Q[j] = h1, h2, q * second.line_scale(j)
         done = ((c1 < c2) & np.isfinite(g1n) & np.isfinite(g2n)
                 & (g1n >= lo_ok) & (g1n <= hi_ok) & (g2n >= lo_ok) & (g2n <= hi_ok))
         if np.any(done):

@@ -135,7 +135,7 @@ def _piece(L, diff, alpha, c1, c2, g=None):
         h1[res[0]], h2[res[0]] = res[1], res[2]
         if g is not None:
             with np.errstate(divide="ignore", invalid="ignore"):
-                q_line[res[0]] = res[3] / diff.dt[res[0]]
+                q_line[res[0]] = res[3] * diff.line_scale(res[0])
     return h1, h2, f1, d1, d2, dmid, q_line
 
 
