@@ -148,3 +148,25 @@ def test_cost_of_a_design_above_one_half_is_its_complements():
     _, zq = precise_tails.predicted_terms(
         precise_tails.CostHint("equivalence", 0.99999999989, mean + 1.7), mean, sd, 200)
     assert zq == pytest.approx(ze, rel=1e-9)
+
+
+@pytest.mark.parametrize("n, p, alpha", [(2, "0.5", "0.75"), (1, "0.5", "0.5000001"),
+                                         (7, "0.3", "0.9"), (40, "0.55", "0.999"),
+                                         (3, "0.5", "0.875")])
+def test_one_sided_cutoffs_above_one_half_by_their_definition(n, p, alpha):
+    # upper: min{c : P(Y > c) <= alpha}; lower: min{c : P(Y <= c) > alpha} (the
+    # definitions, common practice), here by exact rational sums of the binomial masses
+    # (fractions.Fraction); the precise solver finds them for alpha > 1/2 from the small
+    # tail and 1 - alpha, ties (P(Y <= c) = 1 - alpha exactly: n = 2, 3 at p = 1/2)
+    # included
+    P, A = Fraction(p), Fraction(alpha)
+    from math import comb
+
+    pmf = [comb(n, y) * P ** y * (1 - P) ** (n - y) for y in range(n + 1)]
+    cdf = [sum(pmf[: y + 1]) for y in range(n + 1)]
+    up = min(c for c in range(n + 1) if 1 - cdf[c] <= A)
+    lo = min(c for c in range(n + 1) if cdf[c] > A)
+    fam = get_family("binomial")
+    du = precise.solve(fam, "upper", n, float(alpha), value=float(p))
+    dl = precise.solve(fam, "lower", n, float(alpha), value=float(p))
+    assert (du.c2, dl.c1) == (up, lo)

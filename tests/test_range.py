@@ -173,6 +173,8 @@ def test_fast_path_reads_the_decimal():
 @pytest.mark.parametrize("family, kind, kw", [
     ("poisson", "upper", dict(n=10, value=2, alpha=0.999999999)),
     ("binomial", "lower", dict(n=50, value=0.3, alpha=0.999999999999)),
+    # read from its tails (n p q = 5.9e7): its cutoff is placed from the small tail
+    ("binomial", "upper", dict(n=10520000000, value=0.9944, alpha=0.999999999997)),
     ("poisson", "band", dict(n=50, low=2, high=2.5, alpha=0.999999999)),
     ("binomial", "equivalence", dict(n=591, low=0.74743132646, high=0.87371566323,
                                      alpha=0.9999999977290759)),

@@ -300,11 +300,11 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
             T = _table(family, value, n, k, precision, alpha,
                        hint=precise_tails.CostHint(kind, float(alpha)))
             if kind == "upper":
-                c2 = T.first_sf_at_most(A)
+                c2 = _upper_cut(T, A, alpha)
                 g2 = (A - T.sf(c2)) / T.pmf(c2)
                 size = T.sf(c2) + g2 * T.pmf(c2)
                 return PreciseDesign(None, None, c2, g2, (size,), None, dps, T.truncated, (T,))
-            c1 = T.first_cdf_above(A)
+            c1 = _lower_cut(T, A, alpha)
             g1 = (A - T.cdf(c1 - 1)) / T.pmf(c1)
             size = T.cdf(c1 - 1) + g1 * T.pmf(c1)
             return PreciseDesign(c1, g1, None, None, (size,), None, dps, T.truncated, (T,))
@@ -335,6 +335,27 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
             return PreciseDesign(c1, g1, c2, g2, sizes, None, dps, Tl.truncated + Th.truncated,
                                  (Tl, Th))
     raise ValueError(f"unknown kind {kind!r}")
+
+
+def _upper_cut(T, A, alpha):
+    """min{c : P(Y > c) <= alpha}.  For alpha > 1/2 found from the small tail, as
+    min{c : P(Y <= c) >= 1 - alpha} (1 - alpha exact from the decimal): a law read from
+    its tails (TailTable) placed an upper tail near 1 by walking masses (2 s at a
+    binomial n of 1e10, alpha 1 - 3e-12), its lower tail in milliseconds."""
+    if not A > 0.5:
+        return T.first_sf_at_most(A)
+    B = dec_complement(alpha)
+    c = T.first_cdf_above(B)
+    return c - 1 if c > 0 and T.cdf(c - 1) == B else c
+
+
+def _lower_cut(T, A, alpha):
+    """min{c : P(Y <= c) > alpha}; for alpha > 1/2 as min{c : P(Y > c) < 1 - alpha}."""
+    if not A > 0.5:
+        return T.first_cdf_above(A)
+    B = dec_complement(alpha)
+    c = T.first_sf_at_most(B)
+    return c + 1 if T.sf(c) == B else c
 
 
 def _complement(c1, g1, c2, g2):
