@@ -126,17 +126,22 @@ def test_negbinomial_integer_size_narrow_equivalence():
     assert d.check.max_phi_diff <= 0.01 * d.check.phi_tol
 
 
-def test_point_accepting_one_point_at_an_integer_mean():
-    # source: the whole-range draw (bench/validate_range.py, seed 4): the acceptance mass
-    # 2.7e-11 is far below one point's mass at the integer mean 2.28e8, so the design
-    # accepts at the mean alone; the precise search's tie there, a rounded difference
-    # of moments, fell on the wrong side (PreciseFailure "gamma 1.0 outside [0, 1]", exit
-    # 70).  Sizes re-summed with scipy.stats.poisson; the pmf of a Poisson at its integer
-    # mean mu equals that at mu - 1 (common practice), so accepting at mu alone is the
-    # symmetric choice E[(Y - mu)(1 - phi)] = 0
-    d = api.design("poisson", "point", n=2000000, value=114, alpha=0.99999999997342)
+@pytest.mark.parametrize("family, kw, mean", [
+    ("poisson", dict(n=2000000, value=114, alpha=0.99999999997342), 228000000),
+    ("poisson", dict(n=1.77e11, value=1e-3, alpha=0.99999841), 177000000),
+    ("poisson", dict(n=2.1e7, value=0.03359, alpha=0.999999999658), 705390),
+    ("binomial", dict(n=70000000, value=0.5469, alpha=0.999999996), 38283000),
+])
+def test_point_accepting_one_point_at_an_integer_mean(family, kw, mean):
+    # source: the whole-range draw (bench/validate_range.py, seeds 2, 3, 4, 7): the
+    # acceptance mass 1 - alpha is below one point's mass at an integer mean n theta, so
+    # the design accepts at the mean alone (E[(Y - mean)(1 - phi)] = 0 holds with 1 - phi
+    # on the mean only); the precise search's tie there, a rounded difference of
+    # moments or a mean rounded to binary, fell on either side (PreciseFailure "gamma
+    # 1.0 outside [0, 1]", exit 70).  Sizes re-summed with scipy.stats
+    d = api.design(family, "point", **kw)
     check_verified(d)
-    assert d.c1 == d.c2 == 228000000 and d.gamma2 == 0.0
+    assert d.c1 == d.c2 == mean and d.gamma2 == 0.0
 
 
 def test_point_long_acceptance_window_at_a_huge_mean():

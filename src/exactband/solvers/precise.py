@@ -27,7 +27,7 @@ import mpmath as mp
 
 from ..families.mptable import table_estimate
 from ..kinds import KINDS
-from ..mpnum import dec, dec_complement
+from ..mpnum import dec, dec_complement, frac
 from . import precise_tails
 
 _ZERO = mp.mpf(0)
@@ -144,9 +144,10 @@ class _Band:
 class _Moment:
     """s E[Y] - E[Y phi] at the point (second condition of the point design)."""
 
-    def __init__(self, T, s):
+    def __init__(self, T, s, mean=None):
         self.T, self.s = T, s
         self.target = s * T.law.mean
+        self.mean = mean  # the mean n theta as an exact Fraction (``flat``), or None
 
     def residual(self, c1, g1, c2, g2):
         T = self.T
@@ -166,7 +167,10 @@ class _Moment:
         it would be a difference of numbers the size of the mean, whose rounding
         can give a tie at that breakpoint either sign.
         """
-        return (1 - self.s) * (c - self.T.law.mean)
+        if self.mean is None:
+            return (1 - self.s) * (c - self.T.law.mean)
+        d = c - self.mean  # exact: its sign, and a zero at an integer mean, are exact
+        return (1 - self.s) * (mp.mpf(d.numerator) / d.denominator)
 
 
 def _largest(pred, lo, hi):
@@ -311,7 +315,7 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
         if kind == "point":
             T = _table(family, value, n, k, precision, alpha, moments=True,
                        hint=precise_tails.CostHint(kind, float(alpha)))
-            cond = _Moment(T, A)
+            cond = _Moment(T, A, frac(n) * frac(value))
             c1, g1, c2, g2 = _two_tailed(T, T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
             return PreciseDesign(c1, g1, c2, g2, (size,), -cond.residual(c1, g1, c2, g2), dps,
