@@ -167,6 +167,24 @@ def test_point_long_acceptance_window_at_a_huge_mean():
     assert abs(rest - float_complement(0.9999998029)) <= 1e-6 * float_complement(0.9999998029)
 
 
+def test_band_above_one_half_at_a_huge_mean_starts_near_the_window():
+    # source: the whole-range draw (bench/validate_range.py, seed 6): the fast search's
+    # start for a window of size 1 - alpha took y* from the log ratio at y = 0 and 1 (a
+    # difference of two numbers ~ 24,000 that differ by 2e-7), 6 sd low; the start's left
+    # tail underflowed and the search never converged (SolverFailure, exit 70).  The fast
+    # design's sizes re-summed with scipy.stats.poisson (cdf, pmf, sf) at both ends, to
+    # 1e-9 relative; the verified path declines it in one line (the precise tails'
+    # predicted cost at cutoffs within 0.5 sd of a mean of 1.2e11)
+    kw = dict(n=6e11, alpha=0.7, low=0.2, high=0.20000004)
+    c1, g1, c2, g2 = api.fast_solve([make_problem("poisson", "band", **kw)])[0]
+    for theta in (0.2, 0.20000004):
+        law = stats.poisson(6e11 * theta)
+        size = law.cdf(c1 - 1) + g1 * law.pmf(c1) + g2 * law.pmf(c2) + law.sf(c2)
+        assert abs(size - 0.7) <= 1e-9 * 0.7, (theta, size)
+    with pytest.raises(DesignError, match="continued-fraction terms"):
+        api.design("poisson", "band", **kw)
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]

@@ -41,10 +41,16 @@ def initial_split(L, Pl, Ph, s):
         return a
     if np.all(s > 0.5):
         dt = L.t(Ph) - L.t(Pl)
-        l0, l1 = L.logratio(0.0, Pl, dt), L.logratio(1.0, Pl, dt)
+        # log f_high/f_low is linear in y: its secant through the two means, where it
+        # is small and so is its rounding (through y = 0 and 1 it is a difference of two
+        # numbers ~ n dt: at a Poisson mean of 1.2e11 it put y* 6 sd low, the start's
+        # left tail underflowed and the search never left it)
+        ml, mh = L.moments(Pl)[0], L.moments(Ph)[0]
+        l0, l1 = L.logratio(ml, Pl, dt), L.logratio(mh, Pl, dt)
         with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            ystar = np.floor(-l0 / (l1 - l0))
-        ystar = np.clip(np.nan_to_num(ystar, nan=0.0), 0.0, np.minimum(L.supmax(Pl), BIG))
+            ystar = np.floor(ml - l0 * (mh - ml) / (l1 - l0))
+        ystar = np.clip(np.nan_to_num(ystar, nan=0.0), np.floor(ml), np.floor(mh))
+        ystar = np.clip(ystar, 0.0, np.minimum(L.supmax(Pl), BIG))
         alpha = 1.0 - s
         return np.clip(L.cdf(ystar, Pl) - 0.5 * alpha, 0.0, s)
     for _ in range(3):
