@@ -185,6 +185,29 @@ def test_band_above_one_half_at_a_huge_mean_starts_near_the_window():
         api.design("poisson", "band", **kw)
 
 
+def test_window_gammas_split_by_the_rounding_of_y_star():
+    # source: the whole-range draw (bench/validate_range.py, seed 5): a window of 202,389
+    # points at the crossing y* ~ 1.67e12 of two negative binomials (size 1.6): the two
+    # size conditions differ only by the log ratio's slope 1.6e-12 across the window, so
+    # the gammas' split moves by about as much as y* moves in counts, and y* in double
+    # precision has an ulp of 2.4e-4 (its rounding: 8 u |mean_hi - mean_lo|).  That is a
+    # double-precision floor (crosscheck._line_bound), not a fault: phi 4.5e-4 was judged
+    # at 1e-6 before (exit 1).  The size check stays at 1e-9 x alpha, and a cutoff moved
+    # by one still fails
+    from exactband.crosscheck import compare
+    from exactband.solvers import precise as P
+
+    kw = dict(n=2, alpha=3.327e-8, low=4e11, high=2.2e12, dispersion=0.8)
+    d = api.design("negative-binomial", "equivalence", **kw)
+    assert d.verified and 1e-6 < d.check.phi_tol <= 1e-3
+    assert d.check.fast_size_error <= 1e-9 * 3.327e-8
+    p = make_problem("negative-binomial", "equivalence", **kw)
+    c1, g1, c2, g2 = api.fast_solve([p])[0]
+    pd = P.solve(p.family, "equivalence", p.n, p.alpha, low=p.low, high=p.high,
+                 dispersion=p.dispersion)
+    assert not compare("equivalence", p.alpha, (c1 + 1, g1, c2, g2), pd, 50).agree
+
+
 def test_fast_path_reads_the_decimal():
     p = make_problem("binomial", "upper", n=50000, value=0.99999997, alpha=0.05)
     sol = api.fast_solve([p])[0]

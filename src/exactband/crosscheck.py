@@ -176,7 +176,10 @@ def _line_path(s, c1, c2, T):
 
 
 def _line_bound(eps, b, c1, c2, T, line) -> tuple:
-    """(dg, kappa) of the line form (docs/tolerances.md section 9).
+    """(dg, kappa, dg_star) of the line form (docs/tolerances.md section 9); dg_star is
+    the part of dg that the rounding of y* alone gives (b dx), a double-precision floor
+    of its own: y* ~ 1.7e12 has an ulp of 2.4e-4, so no double computation places it
+    better.
 
     Rows f1 g1 + f2 g2 = mass - b and u1 f1 g1 + u2 f2 g2 = sum f u (u(y) =
     expm1(s_ (y - y*)) / s_), det = f1 f2 (u2 - u1); the right sides err by e1 = eps M
@@ -201,12 +204,12 @@ def _line_bound(eps, b, c1, c2, T, line) -> tuple:
                                 + (c2 - c1) + 1.0)
     den = u2 - u1
     if not (f1 > 0 and f2 > 0 and den > 0):
-        return 1.0, 1.0 / UNIT_ROUNDOFF
+        return 1.0, 1.0 / UNIT_ROUNDOFF, 0.0
 
     def bound(e1, e2):
         return max((abs(u2) * e1 + e2) / (f1 * den), (abs(u1) * e1 + e2) / (f2 * den))
 
-    return bound(eps * M, eps * M * D + b * dx), bound(M, M * D)
+    return bound(eps * M, eps * M * D + b * dx), bound(M, M * D), bound(0.0, b * dx)
 
 
 def _tolerances(kind: str, alpha, precise) -> tuple:
@@ -217,6 +220,7 @@ def _tolerances(kind: str, alpha, precise) -> tuple:
     a = float(alpha)
     c1, c2 = precise.c1, precise.c2
     k = K.as_kind(kind)
+    star = 0.0  # the line form's y* rounding, part of the floor (``_line_bound``)
     with mp.workdps(precise.dps):
         if k.one_sided:
             c = c2 if k.uses_c2 else c1
@@ -256,14 +260,14 @@ def _tolerances(kind: str, alpha, precise) -> tuple:
             kappa = bound(min(a, 1.0 - a) + f1 + f2, e2 / eps) if eps > 0 else 0.0
             line = None if k.moment_condition else _line_path(s, c1, c2, T)
             if line is not None:
-                dg, kappa = _line_bound(eps, min(a, 1.0 - a), c1, c2, T, line)
+                dg, kappa, star = _line_bound(eps, min(a, 1.0 - a), c1, c2, T, line)
             fmax = max(float(t.pmf(c1) + t.pmf(c2)) for t in T)
         cuts = [c for c in (c1, c2) if c is not None]
         sigma = max(input_sensitivity(t.law, c) for t in T for c in cuts)
         masses = [t.pmf(c) for t in T for c in cuts]
         log_mass = max((abs(float(mp.log(x))) for x in masses if x > 0), default=1.0)
     phi_tol = min(PHI_TOL, SAFETY * dg + GAMMA_CLIP)
-    floor = floor_dg(kappa, sigma, log_mass)
+    floor = floor_dg(kappa, sigma, log_mass) + star
     if floor > PHI_TOL:  # no double computation reaches PHI_TOL (module doc)
         phi_tol = min(PHI_CEIL, floor)
     size_tol = min(SIZE_TOL * a, phi_tol * fmax + 1e-15 * a)
