@@ -17,7 +17,7 @@ from scipy import stats
 
 from exactband import api
 from exactband.families import get_family
-from exactband.families.mptable import MAX_TABLE, table_estimate
+from exactband.families.mptable import MAX_TABLE, TableTooLarge, table_estimate
 from exactband.families.mptails import NegBinomialTails
 from exactband.solvers import precise, precise_tails
 
@@ -170,3 +170,38 @@ def test_one_sided_cutoffs_above_one_half_by_their_definition(n, p, alpha):
     du = precise.solve(fam, "upper", n, float(alpha), value=float(p))
     dl = precise.solve(fam, "lower", n, float(alpha), value=float(p))
     assert (du.c2, dl.c1) == (up, lo)
+
+
+@pytest.mark.parametrize("family, kind, kw", [
+    ("negative-binomial", "point", dict(n=10, alpha=0.9999999999973, value=3.1e10,
+                                        dispersion=1.849e9)),
+    ("poisson", "band", dict(n=6e11, alpha=0.7, low=0.2, high=0.20000004)),
+    ("poisson", "upper", dict(n=1, alpha=0.3, value=1e11)),
+])
+def test_preflight_declines_as_the_solver_does(family, kind, kw):
+    # the verified path declines these for the predicted cost of the precise tails; the
+    # preflight (run before the fast solver: the first spent 5 s there) must raise the
+    # same limit, and the API's one-line decline must be the same either way
+    fam = get_family(family)
+    args = dict(low=kw.get("low"), high=kw.get("high"), value=kw.get("value"),
+                dispersion=kw.get("dispersion"))
+    with pytest.raises(TableTooLarge) as pre:
+        precise.preflight(fam, kind, kw["n"], kw["alpha"], **args)
+    precise.clear_cache()
+    with pytest.raises(TableTooLarge) as full:
+        precise.solve(fam, kind, kw["n"], kw["alpha"], **args)
+    assert str(pre.value) == str(full.value)
+
+
+@pytest.mark.parametrize("family, kind, kw", [
+    ("poisson", "band", dict(n=25, alpha=0.05, low=2, high=2.5)),
+    ("binomial", "upper", dict(n=10520000000, alpha=0.999999999997, value=0.9944)),
+    ("negative-binomial", "equivalence", dict(n=30, alpha=1.163e-7, low=2.9e10,
+                                              high=29000190000, dispersion=0.82)),
+])
+def test_preflight_passes_what_the_solver_solves(family, kind, kw):
+    fam = get_family(family)
+    args = dict(low=kw.get("low"), high=kw.get("high"), value=kw.get("value"),
+                dispersion=kw.get("dispersion"))
+    precise.preflight(fam, kind, kw["n"], kw["alpha"], **args)
+    assert api.design(family, kind, **kw).verified

@@ -73,7 +73,7 @@ def design(family, kind, *, n, alpha, low=None, high=None, value=None, dispersio
     precision = precision_alias(precision, digits)
     d = check_precision(DEFAULT_PRECISION if precision is None else precision)
     if verify:
-        check_verifiable(p)
+        check_verifiable(p, d)
     sol = fast_solve([p])[0]
     if not verify:
         return from_fast(p, sol)

@@ -181,10 +181,17 @@ def _beyond(p: Problem, e: TableTooLarge) -> DesignError:
                        field="n", value=p.n)
 
 
-def check_verifiable(p: Problem) -> None:
-    """Decline at once a continuous design whose law the precise solver does not take (a
-    gamma shape above its limit), before the fast solver spends any time on it."""
+def check_verifiable(p: Problem, precision: int = DEFAULT_PRECISION) -> None:
+    """Decline at once a design whose laws the precise solver would decline for their cost
+    (a gamma shape above its limit; a discrete law too spread out for its tables and too
+    slow from its tails: ``precise.preflight``), before the fast solver spends any time
+    on it."""
     if p.family.discrete:
+        try:
+            precise.preflight(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
+                              value=p.value, dispersion=p.dispersion, precision=precision)
+        except TableTooLarge as e:
+            raise _too_spread(p, precision, e) from None
         return
     try:
         with mp.workdps(20):
@@ -239,6 +246,13 @@ def beyond_double(p: Problem, cc) -> DesignError:
         field="alpha", value=p.alpha, allowed=allowed)
 
 
+def _too_spread(p: Problem, precision: int, e: TableTooLarge) -> DesignError:
+    return DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
+                       f"high-precision check at {precision} digits ({e}); use a smaller "
+                       "n, a lower precision, or the unverified fast path", field="n",
+                       value=p.n)
+
+
 def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
     """Solve p with the precise solver, compare with the fast solution, build the Design."""
     if not p.family.discrete:
@@ -247,10 +261,7 @@ def verify_one(p: Problem, sol: tuple, precision: int) -> Design:
         pd = precise.solve(p.family, p.kind.name, p.n, p.alpha, low=p.low, high=p.high,
                            value=p.value, dispersion=p.dispersion, precision=precision)
     except TableTooLarge as e:
-        raise DesignError(f"invalid n = {p.n}: the law of Y is too spread out for the "
-                          f"high-precision check at {precision} digits ({e}); use a smaller "
-                          "n, a lower precision, or the unverified fast path", field="n",
-                          value=p.n) from None
+        raise _too_spread(p, precision, e) from None
     cc = compare(p.kind.name, p.alpha, sol, pd, precision)
     if cc.beyond_double:
         raise beyond_double(p, cc)

@@ -25,7 +25,7 @@ from dataclasses import dataclass, field
 
 import mpmath as mp
 
-from ..families.mptable import table_estimate
+from ..families.mptable import check_size, table_estimate
 from ..kinds import KINDS
 from ..mpnum import dec, dec_complement, frac
 from . import precise_tails
@@ -114,6 +114,30 @@ def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
         _, old = _CACHE.popitem(last=False)
         _SIZE[0] -= old.nbytes
     return T
+
+
+def preflight(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
+              precision: int = 50) -> None:
+    """Raise TableTooLarge where ``solve`` would decline for the cost of its laws, before
+    any table or fraction is computed (and before the fast solver runs: a design at the
+    centre of a negative binomial of size 1.85e10 spent 5 s in the fast search first).
+
+    Mirrors ``_solve``'s laws, thresholds and cost hints; builds nothing.
+    """
+    dps = working_dps(precision, kind, low, high, alpha)
+    with mp.workdps(dps):
+        thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
+        if kind in ("band", "equivalence"):
+            laws = [(low, float(family.mp_law(high, n, dispersion).mean)),
+                    (high, float(family.mp_law(low, n, dispersion).mean))]
+        else:
+            laws = [(value, None)]
+        for theta, other in laws:
+            law = family.mp_law(theta, n, dispersion)
+            way, _ = precise_tails.tail_choice(
+                law, thr, precise_tails.CostHint(kind, float(alpha), other))
+            if way == "table":
+                check_size(float(mp.sqrt(law.variance)), thr, mp.mp.prec)
 
 
 def clear_cache():

@@ -448,6 +448,20 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
     than MAX_CF_TERMS continued-fraction terms is tabulated when the table fits,
     and declined beyond the table limits (TableTooLarge, ``check_cost``).
     """
+    way, T = tail_choice(law, thr, hint)
+    if way == "beyond":
+        return TailTable(law, T, moments=True, beyond=True)
+    if way == "tails":
+        return TailTable(law, T, moments=True, beyond=False)
+    return MpTable(law, thr, moments=moments)
+
+
+def tail_choice(law, thr, hint: CostHint | None):
+    """("beyond" | "tails" | "table", tails or None): how ``table_for`` reads the law.
+
+    Raises TableTooLarge (``check_cost``) for a design predicted too slow from the tails
+    where no table may be built instead; no table or fraction is computed here, so the
+    verified path can ask before the fast solver runs (``precise.preflight``)."""
     tails = getattr(law, "tails", None)
     if tails is not None:
         sd = float(mp.sqrt(law.variance))
@@ -459,7 +473,7 @@ def table_for(law, thr, moments: bool = False, hint: CostHint | None = None):
             # size r above ~1e7, cutoffs near the centre) keeps its table when it fits
             if (T.suited or not fits) and not (fits and over_cost(T, hint, mp.mp.prec)):
                 check_cost(T, hint, mp.mp.prec)
-                return TailTable(law, T, moments=True, beyond=True)
+                return "beyond", T
             if prefers_tails(T, terms, hint, mp.mp.prec):
-                return TailTable(law, T, moments=True, beyond=False)
-    return MpTable(law, thr, moments=moments)
+                return "tails", T
+    return "table", None
