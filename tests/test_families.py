@@ -210,3 +210,26 @@ def test_negbinomial_integer_size_tails_at_a_large_mean(r, rng):
             worst = max(worst, float(rel(mp.mpf(float(cdf[0])), ref_cdf)) / bound,
                         float(rel(mp.mpf(float(sf[0])), ref_sf)) / bound)
     assert worst <= 1.0, worst
+
+
+@pytest.mark.parametrize("family, theta, n, k", [
+    ("poisson", 3.7, 1, None), ("poisson", 2.5e5, 4, None),
+    ("binomial", 0.3, 40, None), ("binomial", 0.999999, 3_000_000, None),
+    ("binomial", 0.5, 1, None), ("negative-binomial", 12.5, 30, 0.4),
+    ("negative-binomial", 800.0, 7, 150.0),
+])
+def test_table_bulk_loop_builds_the_same_integers(family, theta, n, k, monkeypatch):
+    # MpTable fills its bulk with the law's ratios written as (u0 + u1 y) / (v0 + v1 y)
+    # inline (``affine``); without them it calls up_int / down_int one term at a time.
+    # Both must give the same table: window, every fixed-point integer, truncation
+    from exactband.families import mptable
+
+    fam = get_family(family)
+    with mp.workdps(40):
+        law = fam.mp_law(theta, n, k)
+        thr = mp.mpf(10) ** -35
+        bulk = mptable.MpTable(law, thr)
+        monkeypatch.delattr(type(law), "affine")
+        plain = mptable.MpTable(law, thr)
+    assert (bulk.lo, bulk.hi, bulk._left, bulk._right, bulk.truncated) == \
+        (plain.lo, plain.hi, plain._left, plain._right, plain.truncated)

@@ -170,6 +170,11 @@ class BinomialMp:
         """pmf(y-1)/pmf(y) = y q / ((n - y + 1) p) exactly."""
         return y * self._c, (self.n - y + 1) * self._a
 
+    def affine(self, up: bool) -> tuple:
+        """(u0, u1, v0, v1): up_int(y) (or down_int) = (u0 + u1 y, v0 + v1 y)."""
+        a, c, n = self._a, self._c, self.n
+        return (n * a, -a, c, c) if up else (0, c, (n + 1) * a, -a)
+
     def log_pmf(self, y):
         n = self.n
         return (mp.loggamma(n + 1) - mp.loggamma(y + 1) - mp.loggamma(n - y + 1)

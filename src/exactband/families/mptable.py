@@ -94,6 +94,21 @@ def check_size(sd: float, thr, prec: int, max_len: int = MAX_TABLE):
                             f"limit {MAX_TABLE_BYTES // 2**20} MB")
 
 
+def _bulk(P, y, step, count, aff, target, out):
+    """Up to ``count`` masses P <- floor(P (u0 + u1 y) / (v0 + v1 y)), y <- y + step,
+    appended to ``out``; stops after the first below ``target``.  The same integers as
+    the law's up_int / down_int (``affine``) one call at a time, ~25% faster."""
+    u0, u1, v0, v1 = aff
+    app = out.append
+    for _ in range(count):
+        P = (P * (u0 + u1 * y)) // (v0 + v1 * y)
+        y += step
+        app(P)
+        if P < target:
+            break
+    return P, y
+
+
 class MpTable:
     """pmf / cdf / sf / first moments of one discrete law, at working precision.
 
@@ -149,12 +164,20 @@ class MpTable:
         target = thr_int  # below it, test the tail bound (the bounds only fall further out)
         step = 1 if up else -1
         end = 0 if not up else (self.supmax if self.supmax is not None else -1)
+        aff = law.affine(up) if hasattr(law, "affine") else None
         with mp.workprec(self._prec):
             while y != end:
-                num, den = ratio(y)
-                P = (P * num) // den
-                y += step
-                out.append(P)
+                # the bulk, where no tail test is due, takes the same ratios inline; it
+                # stops after the first mass below target, short of the limit and the end
+                room = limit + 1 - len(out)
+                count = room if end == -1 else min(room, abs(end - y))
+                if aff is not None and P >= target and count > 1:
+                    P, y = _bulk(P, y, step, count - 1, aff, target, out)
+                else:
+                    num, den = ratio(y)
+                    P = (P * num) // den
+                    y += step
+                    out.append(P)
                 if P < target and (until is None or (y >= until if up else y <= until)):
                     bound = bound_at(y)
                     if bound < 1:

@@ -243,6 +243,11 @@ class NegBinomialMp:
         """pmf(y-1)/pmf(y) = y (r + m) / ((y - 1 + r) m) exactly."""
         return y * self._rm, ((y - 1) * self._rb + self._ra) * self._ma
 
+    def affine(self, up: bool) -> tuple:
+        """(u0, u1, v0, v1): up_int(y) (or down_int) = (u0 + u1 y, v0 + v1 y)."""
+        ra, rb, ma, rm = self._ra, self._rb, self._ma, self._rm
+        return ((ra * ma, rb * ma, rm, rm) if up else (0, rm, (ra - rb) * ma, rb * ma))
+
     def log_pmf(self, y):
         r = self.r
         # loggamma(y + r) - loggamma(r) cancels about log10(r log r) digits: add them

@@ -148,6 +148,10 @@ class PoissonMp:
         """pmf(y-1)/pmf(y) = y/mu exactly."""
         return self._b * y, self._a
 
+    def affine(self, up: bool) -> tuple:
+        """(u0, u1, v0, v1): up_int(y) (or down_int) = (u0 + u1 y, v0 + v1 y)."""
+        return (self._a, 0, self._b, self._b) if up else (0, self._b, self._a, 0)
+
     def log_pmf(self, y):
         return y * mp.log(self.mu) - self.mu - mp.loggamma(y + 1)
 
