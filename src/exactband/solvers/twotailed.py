@@ -40,25 +40,30 @@ def initial_split(L, Pl, Ph, s):
     if Ph is None:
         return a
     if np.all(s > 0.5):
-        dt = L.t(Ph) - L.t(Pl)
-        # log f_high/f_low is linear in y: its secant through the two means, where it
-        # is small and so is its rounding (through y = 0 and 1 it is a difference of two
-        # numbers ~ n dt: at a Poisson mean of 1.2e11 it put y* 6 sd low, the start's
-        # left tail underflowed and the search never left it)
-        ml, mh = L.moments(Pl)[0], L.moments(Ph)[0]
-        l0, l1 = L.logratio(ml, Pl, dt), L.logratio(mh, Pl, dt)
-        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-            ystar = np.floor(ml - l0 * (mh - ml) / (l1 - l0))
-        ystar = np.clip(np.nan_to_num(ystar, nan=0.0), np.floor(ml), np.floor(mh))
-        ystar = np.clip(ystar, 0.0, np.minimum(L.supmax(Pl), BIG))
         alpha = 1.0 - s
-        return np.clip(L.cdf(ystar, Pl) - 0.5 * alpha, 0.0, s)
+        return np.clip(L.cdf(crossing(L, Pl, Ph), Pl) - 0.5 * alpha, 0.0, s)
     for _ in range(3):
         c1 = L.quantile_guess(a, Pl)
         ah = L.cdf(c1 - 1.0, Ph)
         c2 = L.upper_quantile_guess(np.maximum(s - ah, 1e-300), Ph)
         a = s - L.sf(c2, Pl)
     return np.clip(a, 0.0, s)
+
+
+def crossing(L, Pl, Ph):
+    """The integer point where f_high/f_low crosses 1 (between the two means).
+
+    log f_high/f_low is linear in y: its secant through the two means, where it is small
+    and so is its rounding (through y = 0 and 1 it is a difference of two numbers ~ n dt:
+    at a Poisson mean of 1.2e11 that put y* 6 sd low, the start's left tail underflowed
+    and the search never left it)."""
+    dt = L.t(Ph) - L.t(Pl)
+    ml, mh = L.moments(Pl)[0], L.moments(Ph)[0]
+    l0, l1 = L.logratio(ml, Pl, dt), L.logratio(mh, Pl, dt)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        ystar = np.floor(ml - l0 * (mh - ml) / (l1 - l0))
+    ystar = np.clip(np.nan_to_num(ystar, nan=0.0), np.floor(ml), np.floor(mh))
+    return np.clip(ystar, 0.0, np.minimum(L.supmax(Pl), BIG))
 
 
 def _window_sums(L, P, second, c1, c2, rows):

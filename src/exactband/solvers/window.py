@@ -36,23 +36,15 @@ from scipy.special import ndtr, ndtri
 from .conditions import GL_MAX_SPREAD
 from .lineform import equivalence_gammas, line_rows
 from .search import BIG, first_true, sub
-from .twotailed import GAMMA_TOL, WINDOW_SUM, SolverFailure, store_done
+from .twotailed import GAMMA_TOL, WINDOW_SUM, SolverFailure, crossing, store_done
 
 _MAX_ITER = 200
 
 
 def initial(L, Pl, Ph, alpha):
-    """Starting A: the window centred where the likelihood ratio f_high/f_low crosses 1."""
-    dt = L.t(Ph) - L.t(Pl)
-    # log f_high/f_low is linear in y: its secant through the two means (where it
-    # is small, so its rounding is too) gives the crossing, which lies between them
-    ml, mh = L.moments(Pl)[0], L.moments(Ph)[0]
-    l0, l1 = L.logratio(ml, Pl, dt), L.logratio(mh, Pl, dt)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        ystar = np.floor(ml - l0 * (mh - ml) / (l1 - l0))
-    ystar = np.clip(np.nan_to_num(ystar, nan=0.0), np.floor(ml), np.floor(mh))
-    ystar = np.clip(ystar, 0.0, np.minimum(L.supmax(Pl), BIG))
-    return np.clip(L.sf(ystar, Pl) + 0.5 * alpha, alpha, 1.0)
+    """Starting A: the window centred where the likelihood ratio f_high/f_low crosses 1
+    (``twotailed.crossing``)."""
+    return np.clip(L.sf(crossing(L, Pl, Ph), Pl) + 0.5 * alpha, alpha, 1.0)
 
 
 def tail_middle(L, P, c1, c2):
