@@ -12,19 +12,18 @@ from ..mpnum import dec, dec_complement, frac
 from . import _saddle
 from . import mptable as mt
 from .base import Family
-from .floatlaw import FloatLaw, as_float, binomial_head, exact_mean_width, x_minus_log1p
+from .floatlaw import (
+    FloatLaw,
+    as_float,
+    binomial_head,
+    exact_mean_width,
+    sum_is_better,
+    x_minus_log1p,
+)
 
 FEW_SUM = 39  # scipy's betaincc(a, b, x) is off for a <= 39 at a large b: sum these
 FEW_MIN_N = 1e4  # below this n that error (2.5e-20 n) is under the unit roundoff
 BETAINCC_LOSS = 2.5e-20  # its relative error per unit of n there (measured against mpmath)
-
-
-def _few_better(j, n, log_mass):
-    """Where the summed tail is the more accurate: scipy's loss (BETAINCC_LOSS n) above
-    the sum's, u (2 max(1, |log pmf|) + 4 j) (the mass exp(log pmf) carries the rounding
-    of log pmf; deep in a tail of a moderate n, scipy's value is the better one)."""
-    u = 2.0 ** -53
-    return BETAINCC_LOSS * n > u * (2.0 * np.maximum(1.0, np.abs(log_mass)) + 4.0 * j)
 
 
 class BinomialLaw(FloatLaw):
@@ -80,7 +79,7 @@ class BinomialLaw(FloatLaw):
             x, y = np.where(lowp, p, q)[few], np.where(lowp, q, p)[few]
             lm = _saddle.log_binom_raw(j[few], n[few], x, y)
             small = binomial_head(j[few], n[few], x, y, lm)
-            use = _few_better(j[few], n[few], lm)
+            use = sum_is_better(BETAINCC_LOSS * n[few], j[few], lm)
             cdf, sf = cdf.copy(), sf.copy()
             cdf[few] = np.where(lowp[few] & use, small, cdf[few])
             sf[few] = np.where(~lowp[few] & use, small, sf[few])

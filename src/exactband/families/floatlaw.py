@@ -150,6 +150,14 @@ def binomial_head(j, n, x, y, log_mass):
     return np.exp(log_mass) * acc
 
 
+def sum_is_better(scipy_loss, terms, log_mass):
+    """Where a summed tail is more accurate than scipy's: scipy's predicted relative loss
+    above the sum's, u (2 max(1, |log pmf|) + 4 terms) (the mass exp(log pmf) carries the
+    rounding of log pmf; deep in a tail of a moderate law scipy's value is the better)."""
+    u = 2.0 ** -53
+    return scipy_loss > u * (2.0 * np.maximum(1.0, np.abs(log_mass)) + 4.0 * terms)
+
+
 HEAD_MAX_TERMS = 2000  # binomial_rest: the most terms summed (a mean below j + 1)
 
 

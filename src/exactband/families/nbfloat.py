@@ -12,7 +12,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import _saddle
-from .floatlaw import binomial_head, binomial_rest
+from .floatlaw import binomial_head, binomial_rest, sum_is_better
 
 SUM_TOP = 6000  # largest support point summed term by term (huge size r)
 RATIO_MIN = 1e4  # far tails whose tail/mass ratio passes this are mass x ratio (_tailratio)
@@ -109,7 +109,7 @@ def whole_size_tails(cdf, sf, r, m, c, rows):
     # the sums where they are the more accurate: scipy's loss (~1e-18 c, measured against
     # mpmath.betainc for r = 2..39, means 10 to 1e9) above the sums' u (2 max(1, |log
     # pmf|) + 4 r); deep in a tail at a moderate c, scipy's value is the better one
-    use = WHOLE_LOSS * cs > 2.0 ** -53 * (2.0 * np.maximum(1.0, np.abs(lh)) + 4.0 * rs)
+    use = sum_is_better(WHOLE_LOSS * cs, rs, lh)
     left = 1.0 - head
     up = use & (head >= 0.5)  # P(Y <= c) the smaller tail: summed upward
     if np.any(up):
