@@ -90,7 +90,7 @@ def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
 
     if _CACHE is None:
         _CACHE = OrderedDict()
-    thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
+    thr = _threshold(alpha, precision)
     key = (family.name, repr(theta), repr(n), repr(k))
     prec = mp.mp.prec
     for kk in ((key, True), (key, moments)):
@@ -116,6 +116,20 @@ def _table(family, theta, n, k, precision, alpha, moments=False, hint=None):
     return T
 
 
+def _threshold(alpha, precision):
+    """Truncation threshold of a design's tables: alpha (at most 1/2) x 10^-(precision + 12)."""
+    return min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
+
+
+def _hints(family, kind, n, alpha, low, high, value, k) -> list:
+    """(theta, cost hint) of each law a design reads, in the order ``_solve`` reads them;
+    a band's or equivalence design's hint carries the other end's mean."""
+    if kind not in ("band", "equivalence"):
+        return [(value, precise_tails.CostHint(kind, float(alpha)))]
+    return [(a, precise_tails.CostHint(kind, float(alpha), float(family.mp_law(b, n, k).mean)))
+            for a, b in ((low, high), (high, low))]
+
+
 def preflight(family, kind, n, alpha, low=None, high=None, value=None, dispersion=None,
               precision: int = 50) -> None:
     """Raise TableTooLarge where ``solve`` would decline for the cost of its laws, before
@@ -126,16 +140,10 @@ def preflight(family, kind, n, alpha, low=None, high=None, value=None, dispersio
     """
     dps = working_dps(precision, kind, low, high, alpha)
     with mp.workdps(dps):
-        thr = min(dec(alpha), mp.mpf(1) / 2) * mp.mpf(10) ** (-(precision + 12))
-        if kind in ("band", "equivalence"):
-            laws = [(low, float(family.mp_law(high, n, dispersion).mean)),
-                    (high, float(family.mp_law(low, n, dispersion).mean))]
-        else:
-            laws = [(value, None)]
-        for theta, other in laws:
+        thr = _threshold(alpha, precision)
+        for theta, hint in _hints(family, kind, n, alpha, low, high, value, dispersion):
             law = family.mp_law(theta, n, dispersion)
-            way, _ = precise_tails.tail_choice(
-                law, thr, precise_tails.CostHint(kind, float(alpha), other))
+            way, _ = precise_tails.tail_choice(law, thr, hint)
             if way == "table":
                 check_size(float(mp.sqrt(law.variance)), thr, mp.mp.prec)
 
@@ -168,10 +176,10 @@ class _Band:
 class _Moment:
     """s E[Y] - E[Y phi] at the point (second condition of the point design)."""
 
-    def __init__(self, T, s, mean=None):
+    def __init__(self, T, s, mean):
         self.T, self.s = T, s
         self.target = s * T.law.mean
-        self.mean = mean  # the mean n theta as an exact Fraction (``flat``), or None
+        self.mean = mean  # the mean n theta as an exact Fraction (``flat``)
 
     def residual(self, c1, g1, c2, g2):
         T = self.T
@@ -191,8 +199,6 @@ class _Moment:
         it would be a difference of numbers the size of the mean, whose rounding
         can give a tie at that breakpoint either sign.
         """
-        if self.mean is None:
-            return (1 - self.s) * (c - self.T.law.mean)
         d = c - self.mean  # exact: its sign, and a zero at an integer mean, are exact
         return (1 - self.s) * (mp.mpf(d.numerator) / d.denominator)
 
@@ -324,9 +330,9 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
         tol = mp.mpf(10) ** (-(dps - 8))
         A = dec(alpha)
         k = dispersion
+        hints = _hints(family, kind, n, alpha, low, high, value, k)
         if kind in ("upper", "lower"):
-            T = _table(family, value, n, k, precision, alpha,
-                       hint=precise_tails.CostHint(kind, float(alpha)))
+            T = _table(family, value, n, k, precision, alpha, hint=hints[0][1])
             if kind == "upper":
                 c2 = _upper_cut(T, A, alpha)
                 g2 = (A - T.sf(c2)) / T.pmf(c2)
@@ -337,8 +343,7 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
             size = T.cdf(c1 - 1) + g1 * T.pmf(c1)
             return PreciseDesign(c1, g1, None, None, (size,), None, dps, T.truncated, (T,))
         if kind == "point":
-            T = _table(family, value, n, k, precision, alpha, moments=True,
-                       hint=precise_tails.CostHint(kind, float(alpha)))
+            T = _table(family, value, n, k, precision, alpha, moments=True, hint=hints[0][1])
             cond = _Moment(T, A, frac(n) * frac(value))
             c1, g1, c2, g2 = _two_tailed(T, T, cond, A, tol)
             size = band_expectation(T, c1, g1, c2, g2)
@@ -346,12 +351,8 @@ def _solve(family, kind, n, alpha, low, high, value, dispersion, precision) -> P
                                  T.truncated, (T,))
         if kind in ("band", "equivalence"):
             # each table holds its own law's bulk only (no masses between distant ends)
-            def hint(other):
-                return precise_tails.CostHint(kind, float(alpha),
-                                              float(family.mp_law(other, n, k).mean))
-
-            Tl = _table(family, low, n, k, precision, alpha, hint=hint(high))
-            Th = _table(family, high, n, k, precision, alpha, hint=hint(low))
+            Tl = _table(family, low, n, k, precision, alpha, hint=hints[0][1])
+            Th = _table(family, high, n, k, precision, alpha, hint=hints[1][1])
             s = A if kind == "band" else dec_complement(alpha)
             c1, g1, c2, g2 = _two_tailed(Tl, Th, _Band(Tl, s), s, tol)
             if kind == "band":
